@@ -1,0 +1,317 @@
+//! The board description: a YAML file in the trade's own measurements.
+//!
+//! Reading is two steps. The YAML reader (serde-saphyr) turns the text into
+//! the raw fields below, refusing unknown fields, wrong types and unreadable
+//! lengths with their line and column. [`resolve`] then checks the shape
+//! rules and builds the continuous [`Board`](crate::board::Board).
+
+mod resolve;
+pub mod values;
+
+use std::fmt;
+use std::path::Path;
+
+use serde::Deserialize;
+use serde_saphyr::Spanned;
+
+use crate::board::{Board, ContourKind, TailShape};
+use crate::units::Unit;
+pub use resolve::resolve;
+use values::{Blend, LengthValue, Position};
+
+/// A board description file, field for field.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BoardFile {
+    /// Board name; also the stem of output file names.
+    pub name: Spanned<String>,
+    /// Unit of bare numbers: `in` or `mm`.
+    pub units: Spanned<Unit>,
+    /// Free text for the shop (ignored by the shape).
+    #[serde(default)]
+    pub notes: Option<String>,
+    /// Plan shape.
+    pub outline: OutlineSpec,
+    /// Bottom curve in side view.
+    pub rocker: RockerSpec,
+    /// Foil.
+    pub thickness: ThicknessSpec,
+    /// Deck.
+    #[serde(default)]
+    pub deck: DeckSpec,
+    /// Rails.
+    #[serde(default)]
+    pub rails: RailsSpec,
+    /// Bottom contour zones.
+    #[serde(default)]
+    pub bottom: Vec<ZoneSpec>,
+}
+
+/// `outline:` fields.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct OutlineSpec {
+    /// Flat (projected) length.
+    pub length: Spanned<LengthValue>,
+    /// Width at the wide point.
+    pub width: Option<Spanned<LengthValue>>,
+    /// Where the wide point is.
+    pub wide_point: Option<Spanned<Position>>,
+    /// Width 12 in (300 mm in a mm file) from the nose: N12.
+    pub nose_width: Option<Spanned<LengthValue>>,
+    /// Width 12 in (300 mm) from the tail: T12.
+    pub tail_width: Option<Spanned<LengthValue>>,
+    /// Nose tip in plan: `round` or `pointed`.
+    #[serde(default)]
+    pub nose: NoseShape,
+    /// Tail shape.
+    pub tail: Spanned<TailShape>,
+    /// Tail block width (squash, square, swallow, diamond).
+    pub tail_block: Option<Spanned<LengthValue>>,
+    /// Squash corner radius.
+    pub corner_radius: Option<Spanned<LengthValue>>,
+    /// Swallow notch depth, from the tail to the notch apex.
+    pub notch_depth: Option<Spanned<LengthValue>>,
+    /// Diamond: from the tail block corners to the tail.
+    pub point_length: Option<Spanned<LengthValue>>,
+    /// Width of the blunt tip of each swallow point, or of the diamond point.
+    pub tip_width: Option<Spanned<LengthValue>>,
+    /// Widths at stations; when given they rule.
+    #[serde(default)]
+    pub stations: Vec<WidthAt>,
+}
+
+/// Nose tip in plan.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum NoseShape {
+    /// Closes round.
+    #[default]
+    Round,
+    /// Closes to a point.
+    Pointed,
+}
+
+/// A width at a station.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct WidthAt {
+    /// Where.
+    pub at: Spanned<Position>,
+    /// Full width there.
+    pub width: Spanned<LengthValue>,
+}
+
+/// `rocker:` fields.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RockerSpec {
+    /// Height of the nose tip above the flat.
+    pub nose: Spanned<LengthValue>,
+    /// Height of the tail above the flat.
+    pub tail: Spanned<LengthValue>,
+    /// Where the bottom touches the flat.
+    pub low_point: Option<Spanned<Position>>,
+    /// Exponent of the nose rocker curve (2 = parabola).
+    pub nose_curve: Option<Spanned<f64>>,
+    /// Exponent of the tail rocker curve.
+    pub tail_curve: Option<Spanned<f64>>,
+    /// Heights at stations; when given they rule between the tips.
+    #[serde(default)]
+    pub stations: Vec<HeightAt>,
+}
+
+/// A rocker height at a station.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct HeightAt {
+    /// Where.
+    pub at: Spanned<Position>,
+    /// Height of the bottom (at the stringer) above the flat.
+    pub height: Spanned<LengthValue>,
+}
+
+/// `thickness:` fields.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ThicknessSpec {
+    /// Maximum thickness.
+    pub max: Option<Spanned<LengthValue>>,
+    /// Where the maximum is.
+    pub at: Option<Spanned<Position>>,
+    /// Thickness 12 in (300 mm) from the nose.
+    pub nose: Option<Spanned<LengthValue>>,
+    /// Thickness 12 in (300 mm) from the tail.
+    pub tail: Option<Spanned<LengthValue>>,
+    /// Thickness the foil runs to at the nose tip before it rounds over.
+    pub nose_tip: Option<Spanned<LengthValue>>,
+    /// Same at the tail.
+    pub tail_tip: Option<Spanned<LengthValue>>,
+    /// Thicknesses at stations; when given they rule.
+    #[serde(default)]
+    pub stations: Vec<ThicknessAt>,
+}
+
+/// A thickness at a station.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ThicknessAt {
+    /// Where.
+    pub at: Spanned<Position>,
+    /// Thickness at the stringer.
+    pub thickness: Spanned<LengthValue>,
+}
+
+/// `deck:` fields.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DeckSpec {
+    /// Dome (crown) at the thickest point.
+    pub dome: Option<Spanned<LengthValue>>,
+}
+
+/// `rails:` fields.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct RailsSpec {
+    /// `rounded` (default) or `square`.
+    #[serde(default)]
+    pub profile: RailProfileSpec,
+    /// Apex height as a fraction of the rail band, or a split like 60/40.
+    pub apex: Option<Spanned<Blend>>,
+    /// 0 boxy .. 1 round, above the apex.
+    pub softness: Option<Spanned<Blend>>,
+    /// 0 soft .. 1 hard tucked edge, below the apex.
+    pub tuck: Option<Spanned<Blend>>,
+}
+
+/// Rail family.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum RailProfileSpec {
+    /// Superelliptic rails.
+    #[default]
+    Rounded,
+    /// Vertical walls, sharp edges.
+    Square,
+}
+
+/// One bottom contour zone.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ZoneSpec {
+    /// flat, vee, single_concave, double_concave.
+    pub contour: Spanned<ContourKind>,
+    /// Start of the zone.
+    pub from: Spanned<Position>,
+    /// End of the zone.
+    pub to: Spanned<Position>,
+    /// Depth (not for flat).
+    pub depth: Option<Spanned<LengthValue>>,
+    /// Fade-in and fade-out length at each end.
+    pub blend: Option<Spanned<LengthValue>>,
+    /// Fraction of the half-width the contour spans from the stringer.
+    pub span: Option<Spanned<f64>>,
+}
+
+/// Why a description could not be read or is not a board.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DescriptionError {
+    /// The file could not be read.
+    Io { file: String, message: String },
+    /// The YAML is malformed, or a field is unknown, missing or of the
+    /// wrong type; `rendered` has the line, column and a source snippet.
+    Yaml { file: String, line: u64, column: u64, rendered: String },
+    /// The fields are readable but the shape breaks a rule.
+    Rule(RuleError),
+}
+
+/// A broken shape rule, with where it is.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RuleError {
+    /// The file.
+    pub file: String,
+    /// Line (1-based), 0 when unknown.
+    pub line: u64,
+    /// Column (1-based), 0 when unknown.
+    pub column: u64,
+    /// The field, e.g. `outline.nose_width`.
+    pub field: String,
+    /// The rule broken.
+    pub rule: String,
+    /// How to fix it.
+    pub hint: String,
+    /// The offending source line, when known.
+    pub source_line: Option<String>,
+}
+
+impl fmt::Display for DescriptionError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            DescriptionError::Io { file, message } => write!(f, "{file}: cannot read: {message}"),
+            DescriptionError::Yaml { rendered, .. } => f.write_str(rendered.trim_end()),
+            DescriptionError::Rule(r) => {
+                if r.line > 0 {
+                    write!(f, "{}:{}:{}: ", r.file, r.line, r.column)?;
+                } else {
+                    write!(f, "{}: ", r.file)?;
+                }
+                write!(f, "{}: {}", r.field, r.rule)?;
+                if let Some(src) = &r.source_line {
+                    let pad = " ".repeat(r.column.saturating_sub(1) as usize);
+                    write!(f, "\n   | {src}\n   | {pad}^")?;
+                }
+                write!(f, "\n  hint: {}", r.hint)
+            }
+        }
+    }
+}
+
+impl std::error::Error for DescriptionError {}
+
+impl DescriptionError {
+    /// Line and column, when known.
+    pub fn location(&self) -> Option<(u64, u64)> {
+        match self {
+            DescriptionError::Yaml { line, column, .. } if *line > 0 => Some((*line, *column)),
+            DescriptionError::Rule(r) if r.line > 0 => Some((r.line, r.column)),
+            _ => None,
+        }
+    }
+}
+
+/// Reads a description's text (`file` names it in messages).
+pub fn parse(text: &str, file: &str) -> Result<BoardFile, DescriptionError> {
+    let mut options = serde_saphyr::Options::default();
+    options.strict_booleans = true;
+    serde_saphyr::from_str_with_options::<BoardFile>(text, options).map_err(|e| {
+        let (line, column) = e.location().map(|l| (l.line(), l.column())).unwrap_or((0, 0));
+        let render = serde_saphyr::render_options! { source_name: Some(file) };
+        let mut rendered = e.render_with_options(render);
+        if line == 0 {
+            rendered = format!("{file}: {rendered}");
+        }
+        DescriptionError::Yaml {
+            file: file.to_string(),
+            line,
+            column,
+            rendered,
+        }
+    })
+}
+
+/// Reads and resolves a description from its text.
+pub fn board_from_str(text: &str, file: &str) -> Result<Board, DescriptionError> {
+    let raw = parse(text, file)?;
+    resolve(&raw, text, file)
+}
+
+/// Reads and resolves a description file.
+pub fn load(path: &Path) -> Result<Board, DescriptionError> {
+    let file = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| DescriptionError::Io {
+        file: file.clone(),
+        message: e.to_string(),
+    })?;
+    board_from_str(&text, &file)
+}

@@ -1,0 +1,35 @@
+//! blanksmith: from a surfboard described in the trade's measurements to a
+//! certified watertight mesh, STL, and (in later stages) router programs and
+//! full-size templates.
+//!
+//! The pipeline, one module a stage:
+//!
+//! - [`units`]: lengths as shops write them, in and out.
+//! - [`description`]: the YAML board description, checked and resolved.
+//! - [`board`] and [`section`]: the continuous shape and its cross-sections.
+//! - [`curve`]: shape-preserving curves through stations.
+//! - [`mesher`]: the watertight triangle mesh.
+//! - [`topology`] and [`volume`]: what the mesh is and holds.
+//! - [`integrals`] and [`quadrature`]: integrals of the continuous shape.
+//! - [`certificate`]: the two volumes and the error estimate, compared.
+//! - [`stl`]: STL output.
+//! - [`report`]: measurement tables and the JSON report.
+//! - [`output`]: atomic file writes.
+//! - [`demo`]: the built-in demo board.
+
+pub mod board;
+pub mod certificate;
+pub mod curve;
+pub mod demo;
+pub mod description;
+pub mod integrals;
+pub mod mesh;
+pub mod mesher;
+pub mod output;
+pub mod quadrature;
+pub mod report;
+pub mod section;
+pub mod stl;
+pub mod topology;
+pub mod units;
+pub mod volume;
