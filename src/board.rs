@@ -29,6 +29,9 @@ pub struct Board {
     pub rails: Rails,
     /// Bottom contours, summed where zones overlap.
     pub bottom: Vec<Contour>,
+    /// Distance from each tip at which nose and tail widths and thicknesses
+    /// are quoted: 12 in (304.8 mm) in an inch file, 300 mm in a mm file.
+    pub tip_station: f64,
 }
 
 /// A curve of half-width that is interpolated in `half_width ^ power`:
@@ -460,6 +463,7 @@ impl Board {
                     ..c.clone()
                 })
                 .collect(),
+            tip_station: self.tip_station * kx,
         }
     }
 }

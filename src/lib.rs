@@ -15,6 +15,7 @@
 //! - [`stl`]: STL output.
 //! - [`report`]: measurement tables and the JSON report.
 //! - [`output`]: atomic file writes.
+//! - [`jobs`]: the commands' work, without the command line.
 //! - [`demo`]: the built-in demo board.
 
 pub mod board;
@@ -23,6 +24,7 @@ pub mod curve;
 pub mod demo;
 pub mod description;
 pub mod integrals;
+pub mod jobs;
 pub mod mesh;
 pub mod mesher;
 pub mod output;

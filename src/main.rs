@@ -1,3 +1,113 @@
-fn main() {
-    println!("Hello, world!");
+//! The `blanksmith` command: parses arguments, calls the library, prints
+//! once. Exit codes: 0 done, 1 findings (the volume certificate failed),
+//! 2 bad input or a system error.
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+use blanksmith::jobs::{self, Input, JobError, Meshed, StlKind};
+use blanksmith::mesher::DEFAULT_TOLERANCE;
+
+#[derive(Parser)]
+#[command(name = "blanksmith", version, about = "Surfboard descriptions to certified meshes, STL and shop files")]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Mesh a board: writes DIR/<name>.stl (millimetres) and DIR/<name>.report.json.
+    Mesh {
+        /// Board description (YAML).
+        board: PathBuf,
+        /// Output folder.
+        #[arg(short, long, default_value = "out")]
+        out: PathBuf,
+        /// Chord tolerance of the mesh, mm.
+        #[arg(long, default_value_t = DEFAULT_TOLERANCE)]
+        tolerance: f64,
+        /// Write ASCII STL instead of binary.
+        #[arg(long)]
+        ascii: bool,
+    },
+    /// Print the measurement table at stations and the volume certificate.
+    Report {
+        /// Board description (YAML).
+        board: PathBuf,
+        /// Print the JSON report instead of text.
+        #[arg(long)]
+        json: bool,
+        /// Chord tolerance of the mesh, mm.
+        #[arg(long, default_value_t = DEFAULT_TOLERANCE)]
+        tolerance: f64,
+    },
+    /// The main job: every output for a board into DIR/<name>/. With no
+    /// board, the built-in demo.
+    Make {
+        /// Board description (YAML); the built-in demo when left out.
+        board: Option<PathBuf>,
+        /// Output folder.
+        #[arg(short, long, default_value = "out")]
+        out: PathBuf,
+        /// Chord tolerance of the mesh, mm.
+        #[arg(long, default_value_t = DEFAULT_TOLERANCE)]
+        tolerance: f64,
+    },
+}
+
+fn finish(m: &Meshed, print_table: bool) -> ExitCode {
+    print!("{}", m.report.summary());
+    if print_table {
+        print!("{}", m.report.table());
+    }
+    for p in &m.written {
+        let what = if p.extension().is_some_and(|e| e == "stl") { " (STL, millimetres)" } else { "" };
+        println!("wrote {}{what}", p.display());
+    }
+    if m.report.certified {
+        ExitCode::SUCCESS
+    } else {
+        eprintln!("blanksmith: NOT CERTIFIED: {}", m.report.failure());
+        ExitCode::from(1)
+    }
+}
+
+fn run(cli: Cli) -> Result<ExitCode, JobError> {
+    match cli.command {
+        Command::Mesh { board, out, tolerance, ascii } => {
+            let b = jobs::load(&Input::File(board))?;
+            let kind = if ascii { StlKind::Ascii } else { StlKind::Binary };
+            let m = jobs::mesh_to(b, tolerance, &out, kind, false)?;
+            Ok(finish(&m, false))
+        }
+        Command::Report { board, json, tolerance } => {
+            let b = jobs::load(&Input::File(board))?;
+            let m = jobs::certify_only(b, tolerance)?;
+            if json {
+                print!("{}", m.report.to_json());
+                Ok(if m.report.certified { ExitCode::SUCCESS } else { ExitCode::from(1) })
+            } else {
+                Ok(finish(&m, true))
+            }
+        }
+        Command::Make { board, out, tolerance } => {
+            let input = board.map(Input::File).unwrap_or(Input::Demo);
+            let m = jobs::make(&input, tolerance, &out)?;
+            Ok(finish(&m, false))
+        }
+    }
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    match run(cli) {
+        Ok(code) => code,
+        Err(e) => {
+            eprintln!("blanksmith: error: {e}");
+            ExitCode::from(2)
+        }
+    }
 }

@@ -16,9 +16,9 @@ use crate::mesh::Mesh;
 
 /// Default chord tolerance in mm: puts the demo boards' mesh volume within
 /// 0.01 L of the converged volume (measured; see the mesher tests).
-pub const DEFAULT_TOLERANCE: f64 = 0.05;
+pub const DEFAULT_TOLERANCE: f64 = 0.01;
 /// Smallest tolerance accepted, mm.
-pub const MIN_TOLERANCE: f64 = 0.002;
+pub const MIN_TOLERANCE: f64 = 0.001;
 /// Largest tolerance accepted, mm.
 pub const MAX_TOLERANCE: f64 = 5.0;
 /// Most triangles a mesh may have before it is refused.

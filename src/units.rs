@@ -243,7 +243,8 @@ pub struct Both(pub f64);
 
 impl fmt::Display for Both {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        if self.0.abs() >= MM_PER_FOOT {
+        // Shops quote widths and thicknesses in inches, lengths in feet and inches.
+        if self.0.abs() >= 3.0 * MM_PER_FOOT {
             write!(f, "{:.1} mm ({})", self.0, feet_inches(self.0))
         } else {
             write!(f, "{:.1} mm ({})", self.0, inches(self.0))

@@ -287,10 +287,20 @@ pub fn parse(text: &str, file: &str) -> Result<BoardFile, DescriptionError> {
     serde_saphyr::from_str_with_options::<BoardFile>(text, options).map_err(|e| {
         let (line, column) = e.location().map(|l| (l.line(), l.column())).unwrap_or((0, 0));
         let render = serde_saphyr::render_options! { source_name: Some(file) };
-        let mut rendered = e.render_with_options(render);
-        if line == 0 {
-            rendered = format!("{file}: {rendered}");
-        }
+        let full = e.render_with_options(render);
+        // The reader's first line reads `error: line L column C: message`;
+        // lead with `file:L:C: message` instead, and keep its snippet.
+        let (first, rest) = full.split_once('\n').unwrap_or((full.as_str(), ""));
+        let marker = format!("column {column}: ");
+        let message = match first.find(&marker) {
+            Some(i) => &first[i + marker.len()..],
+            None => first.trim_start_matches("error: "),
+        };
+        let rendered = if line > 0 {
+            format!("{file}:{line}:{column}: {message}\n{rest}")
+        } else {
+            format!("{file}: {message}\n{rest}")
+        };
         DescriptionError::Yaml {
             file: file.to_string(),
             line,

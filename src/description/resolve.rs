@@ -193,6 +193,7 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
         dome,
         rails,
         bottom,
+        tip_station: d12,
     };
     check_sections(&cx, raw, &board)?;
     Ok(board)
@@ -228,9 +229,10 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
         None
     };
     let tip = match &o.tip_width {
-        Some(t) => cx.length_in(t, "outline.tip_width", 0.0, 200.0, false, "the blunt end of each point, e.g. 1/2in")?,
+        Some(t) => cx.length_in(t, "outline.tip_width", 0.0, 0.5 * l, false, "the blunt end of each point, e.g. 1/2in")?,
         None => 12.7, // half an inch: blunt enough to glass (common practice, no source)
     };
+    let tip_at = o.tip_width.as_ref().map(|t| t.referenced);
     let (tail_end, x_end) = match shape {
         TailShape::Round | TailShape::Pin | TailShape::RoundedPin => (TailEnd::Point, l),
         TailShape::Square => (TailEnd::Block { half_block: half_block.unwrap().0, corner: (0.0, 0.0) }, l),
@@ -245,7 +247,7 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
         TailShape::Diamond => {
             let (e, b) = half_block.unwrap();
             if tip >= 2.0 * e {
-                return cx.fail(&b.referenced, "outline.tip_width", format!("the tip {} is as wide as the tail block", show(tip)), "make the tip narrower than the tail block");
+                return cx.fail(&tip_at.unwrap_or(b.referenced), "outline.tip_width", format!("the tip {} is as wide as the tail block", show(tip)), "make the tip narrower than the tail block");
             }
             let p = match &o.point_length {
                 Some(p) => cx.length_in(p, "outline.point_length", 0.0, 0.9 * d12, false, "the diamond's point must start behind the tail-width station")?,
@@ -256,10 +258,10 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
         TailShape::Swallow => {
             let (e, b) = half_block.unwrap();
             if tip >= e {
-                return cx.fail(&b.referenced, "outline.tip_width", format!("points {} wide leave no notch in a {} tail block", show(tip), show(2.0 * e)), "make the tips narrower than half the tail block");
+                return cx.fail(&tip_at.unwrap_or(b.referenced), "outline.tip_width", format!("points {} wide leave no notch in a {} tail block", show(tip), show(2.0 * e)), "make the tips narrower than half the tail block");
             }
             let n = cx.required(&o.notch_depth, &tail_ref, "outline.notch_depth", "a swallow tail needs the depth of its notch, e.g. 4in")?;
-            let depth = cx.length_in(n, "outline.notch_depth", 0.0, 0.45 * l, false, "the notch runs from the tail to its apex on the stringer")?;
+            let depth = cx.length_in(n, "outline.notch_depth", 0.0, d12, false, "the notch runs from the tail to its apex on the stringer and must end behind the tail-width station (12 in, or 300 mm, from the tail), deeper than that the tail allows no notch")?;
             (TailEnd::Swallow { half_block: e, notch_depth: depth, tip }, l)
         }
     };
@@ -563,14 +565,17 @@ fn check_sections(cx: &Ctx, raw: &BoardFile, board: &Board) -> Res<()> {
         }
         let st = board.station(x);
         let below_apex = st.apex * st.rail_band();
-        if st.contour_lift() >= 0.98 * below_apex {
+        let lift = st.contour_lift();
+        if lift >= below_apex - 0.5 {
+            // Blame the zone that lifts the bottom most here.
             let (i, z) = raw
                 .bottom
                 .iter()
                 .enumerate()
-                .find(|(_, z)| {
-                    let (from, to) = (cx.at(&z.from), cx.at(&z.to));
-                    from < x && x < to && z.contour.value != ContourKind::Flat
+                .filter(|(_, z)| cx.at(&z.from) < x && x < cx.at(&z.to) && z.contour.value != ContourKind::Flat)
+                .max_by(|a, b| {
+                    let d = |z: &super::ZoneSpec| z.depth.as_ref().map(|d| cx.mm(d)).unwrap_or(0.0);
+                    d(a.1).total_cmp(&d(b.1))
                 })
                 .expect("a lifting contour is active here");
             let at = z.depth.as_ref().map(|d| d.referenced).unwrap_or(z.contour.referenced);
@@ -578,10 +583,10 @@ fn check_sections(cx: &Ctx, raw: &BoardFile, board: &Board) -> Res<()> {
                 &at,
                 &format!("bottom[{i}].depth"),
                 format!(
-                    "{} from the nose the contour lifts the bottom {} but the rail below the apex is only {}: the bottom would cross the deck",
+                    "{} from the nose the contours lift the bottom {:.1} mm, but the rail reaches only {:.1} mm below its apex there: the bottom would cross the rail",
                     show(x),
-                    show(st.contour_lift()),
-                    show(below_apex)
+                    lift,
+                    below_apex
                 ),
                 "make the contour shallower, end the zone sooner, or raise the rail apex",
             );
