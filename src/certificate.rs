@@ -72,7 +72,8 @@ pub fn certify(board: &Board, tolerance: f64) -> Result<Certified, MeshError> {
     let error_estimate_litres = (coarse_mesh_litres - mesh_litres).abs() / 3.0;
     let difference_litres = (mesh_litres - surface_litres).abs();
     let surface_error_litres = surface.error * 1e-6;
-    let allowed_litres = 3.0 * error_estimate_litres + surface_error_litres + 1e-9 * surface_litres.abs() + 1e-9;
+    let allowed_litres =
+        3.0 * error_estimate_litres + surface_error_litres + 1e-9 * surface_litres.abs() + 1e-9;
     Ok(Certified {
         mesh,
         topology,

@@ -29,7 +29,9 @@ pub enum CurveError {
     #[error("station {index} is not a finite number")]
     NotFinite { index: usize },
     /// Stations must be strictly increasing along the board.
-    #[error("stations must increase along the board: station {index} at {x:.3} mm does not come after {prev:.3} mm")]
+    #[error(
+        "stations must increase along the board: station {index} at {x:.3} mm does not come after {prev:.3} mm"
+    )]
     NotIncreasing { index: usize, x: f64, prev: f64 },
 }
 
@@ -120,13 +122,22 @@ impl Curve {
         if x >= self.xs[n - 1] {
             return (
                 self.ys[n - 1],
-                if x == self.xs[n - 1] { self.ds[n - 1] } else { 0.0 },
+                if x == self.xs[n - 1] {
+                    self.ds[n - 1]
+                } else {
+                    0.0
+                },
             );
         }
         let k = self.xs.partition_point(|&xi| xi <= x) - 1;
         let h = self.xs[k + 1] - self.xs[k];
         let t = (x - self.xs[k]) / h;
-        let (y0, y1, d0, d1) = (self.ys[k], self.ys[k + 1], self.ds[k] * h, self.ds[k + 1] * h);
+        let (y0, y1, d0, d1) = (
+            self.ys[k],
+            self.ys[k + 1],
+            self.ds[k] * h,
+            self.ds[k + 1] * h,
+        );
         let t2 = t * t;
         let t3 = t2 * t;
         let value = (2.0 * t3 - 3.0 * t2 + 1.0) * y0
@@ -163,7 +174,9 @@ impl Curve {
     /// The largest y over the stations (the curve never exceeds it).
     pub fn max_station(&self) -> (f64, f64) {
         self.stations()
-            .fold((f64::NAN, f64::NEG_INFINITY), |best, p| if p.1 > best.1 { p } else { best })
+            .fold((f64::NAN, f64::NEG_INFINITY), |best, p| {
+                if p.1 > best.1 { p } else { best }
+            })
     }
 }
 
@@ -202,7 +215,10 @@ mod tests {
         // <= 3 (de Boor, A Practical Guide to Splines, ch. IV); the three-point
         // parabola gives exact slopes for a quadratic.
         let f = |x: f64| 2.0 * x - 0.25 * x * x; // rising on [0, 4)
-        let pts: Vec<(f64, f64)> = [0.0, 0.7, 1.5, 2.0, 3.1].iter().map(|&x| (x, f(x))).collect();
+        let pts: Vec<(f64, f64)> = [0.0, 0.7, 1.5, 2.0, 3.1]
+            .iter()
+            .map(|&x| (x, f(x)))
+            .collect();
         let c = Curve::new(&pts).unwrap();
         for i in 0..=310 {
             let x = i as f64 * 0.01;

@@ -18,7 +18,11 @@ pub fn section_area(board: &Board, x: f64) -> f64 {
 }
 
 fn integrate_along(board: &Board, a: f64, b: f64, f: impl Fn(f64) -> f64, scale: f64) -> Integral {
-    let mut breaks: Vec<f64> = board.breaks().into_iter().filter(|&x| x > a && x < b).collect();
+    let mut breaks: Vec<f64> = board
+        .breaks()
+        .into_iter()
+        .filter(|&x| x > a && x < b)
+        .collect();
     breaks.insert(0, a);
     breaks.push(b);
     quadrature::integrate(f, &breaks, RELATIVE_ACCURACY * scale, 4000)
@@ -33,7 +37,13 @@ fn volume_scale(board: &Board) -> f64 {
 
 /// Volume of the continuous shape, mm³, with its quadrature error estimate.
 pub fn volume(board: &Board) -> Integral {
-    integrate_along(board, 0.0, board.length, |x| section_area(board, x), volume_scale(board))
+    integrate_along(
+        board,
+        0.0,
+        board.length,
+        |x| section_area(board, x),
+        volume_scale(board),
+    )
 }
 
 /// Volume between `a` and `b` mm from the nose, mm³.
@@ -44,7 +54,13 @@ pub fn volume_between(board: &Board, a: f64, b: f64) -> f64 {
 /// Distance of the centre of volume from the nose, mm.
 pub fn centre_of_volume(board: &Board) -> f64 {
     let scale = volume_scale(board) * board.length;
-    let moment = integrate_along(board, 0.0, board.length, |x| x * section_area(board, x), scale);
+    let moment = integrate_along(
+        board,
+        0.0,
+        board.length,
+        |x| x * section_area(board, x),
+        scale,
+    );
     moment.value / volume(board).value
 }
 

@@ -85,7 +85,13 @@ fn write_all(files: &[(PathBuf, Vec<u8>)]) -> Result<Vec<PathBuf>, JobError> {
 
 /// Certifies `board` and writes `<dir>/<name>.stl` and
 /// `<dir>/<name>.report.json` (and the text table when `table` is set).
-pub fn mesh_to(board: Board, tolerance: f64, dir: &Path, kind: StlKind, table: bool) -> Result<Meshed, JobError> {
+pub fn mesh_to(
+    board: Board,
+    tolerance: f64,
+    dir: &Path,
+    kind: StlKind,
+    table: bool,
+) -> Result<Meshed, JobError> {
     let certified = certificate::certify(&board, tolerance)?;
     let stl_path = dir.join(format!("{}.stl", board.name));
     let report = Report::new(&board, &certified, Some(stl_path.display().to_string()));
@@ -98,11 +104,17 @@ pub fn mesh_to(board: Board, tolerance: f64, dir: &Path, kind: StlKind, table: b
     .expect("writing to memory cannot fail");
     let mut files = vec![
         (stl_path, stl_bytes),
-        (dir.join(format!("{}.report.json", board.name)), report.to_json().into_bytes()),
+        (
+            dir.join(format!("{}.report.json", board.name)),
+            report.to_json().into_bytes(),
+        ),
     ];
     if table {
         let text = format!("{}\n{}", report.summary(), report.table());
-        files.push((dir.join(format!("{}.report.txt", board.name)), text.into_bytes()));
+        files.push((
+            dir.join(format!("{}.report.txt", board.name)),
+            text.into_bytes(),
+        ));
     }
     let written = write_all(&files)?;
     Ok(Meshed {

@@ -11,7 +11,11 @@ use blanksmith::jobs::{self, Input, JobError, Meshed, StlKind};
 use blanksmith::mesher::DEFAULT_TOLERANCE;
 
 #[derive(Parser)]
-#[command(name = "blanksmith", version, about = "Surfboard descriptions to certified meshes, STL and shop files")]
+#[command(
+    name = "blanksmith",
+    version,
+    about = "Surfboard descriptions to certified meshes, STL and shop files"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -64,7 +68,11 @@ fn finish(m: &Meshed, print_table: bool) -> ExitCode {
         print!("{}", m.report.table());
     }
     for p in &m.written {
-        let what = if p.extension().is_some_and(|e| e == "stl") { " (STL, millimetres)" } else { "" };
+        let what = if p.extension().is_some_and(|e| e == "stl") {
+            " (STL, millimetres)"
+        } else {
+            ""
+        };
         println!("wrote {}{what}", p.display());
     }
     if m.report.certified {
@@ -77,23 +85,44 @@ fn finish(m: &Meshed, print_table: bool) -> ExitCode {
 
 fn run(cli: Cli) -> Result<ExitCode, JobError> {
     match cli.command {
-        Command::Mesh { board, out, tolerance, ascii } => {
+        Command::Mesh {
+            board,
+            out,
+            tolerance,
+            ascii,
+        } => {
             let b = jobs::load(&Input::File(board))?;
-            let kind = if ascii { StlKind::Ascii } else { StlKind::Binary };
+            let kind = if ascii {
+                StlKind::Ascii
+            } else {
+                StlKind::Binary
+            };
             let m = jobs::mesh_to(b, tolerance, &out, kind, false)?;
             Ok(finish(&m, false))
         }
-        Command::Report { board, json, tolerance } => {
+        Command::Report {
+            board,
+            json,
+            tolerance,
+        } => {
             let b = jobs::load(&Input::File(board))?;
             let m = jobs::certify_only(b, tolerance)?;
             if json {
                 print!("{}", m.report.to_json());
-                Ok(if m.report.certified { ExitCode::SUCCESS } else { ExitCode::from(1) })
+                Ok(if m.report.certified {
+                    ExitCode::SUCCESS
+                } else {
+                    ExitCode::from(1)
+                })
             } else {
                 Ok(finish(&m, true))
             }
         }
-        Command::Make { board, out, tolerance } => {
+        Command::Make {
+            board,
+            out,
+            tolerance,
+        } => {
             let input = board.map(Input::File).unwrap_or(Input::Demo);
             let m = jobs::make(&input, tolerance, &out)?;
             Ok(finish(&m, false))

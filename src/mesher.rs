@@ -141,7 +141,11 @@ fn ring_params(board: &Board, tolerance: f64) -> Ring {
                     probe.low_point(&st, p)
                 }
             };
-            let mut stack: Vec<(u64, u64)> = set.iter().copied().zip(set.iter().copied().skip(1)).collect();
+            let mut stack: Vec<(u64, u64)> = set
+                .iter()
+                .copied()
+                .zip(set.iter().copied().skip(1))
+                .collect();
             while let Some((a, b)) = stack.pop() {
                 if b - a < 2 {
                     continue;
@@ -222,7 +226,12 @@ fn stations(board: &Board, ring: &Ring, tolerance: f64) -> Result<Vec<Sample>, M
                     if worst <= tolerance {
                         for t in [0.25, 0.75] {
                             let q = sample(left.x + t * dx);
-                            worst = worst.max(ring_deviation(&q.points, &left.points, &right.points, t));
+                            worst = worst.max(ring_deviation(
+                                &q.points,
+                                &left.points,
+                                &right.points,
+                                t,
+                            ));
                         }
                     }
                     worst > tolerance
@@ -250,9 +259,13 @@ fn stations(board: &Board, ring: &Ring, tolerance: f64) -> Result<Vec<Sample>, M
 enum Verts {
     /// The section has shrunk to the tip point.
     Tip(u32),
-    /// + half and its mirror, point by point; when the halves meet on the
-    /// stringer the first and last ids are shared.
-    Halves { plus: Vec<u32>, minus: Vec<u32>, joined: bool },
+    /// The plus half and its mirror, point by point; when the halves meet
+    /// on the stringer the first and last ids are shared.
+    Halves {
+        plus: Vec<u32>,
+        minus: Vec<u32>,
+        joined: bool,
+    },
 }
 
 struct Builder {
@@ -270,7 +283,10 @@ impl Builder {
     }
 
     fn dist2(&self, a: u32, b: u32) -> f64 {
-        let (p, q) = (self.mesh.vertices[a as usize], self.mesh.vertices[b as usize]);
+        let (p, q) = (
+            self.mesh.vertices[a as usize],
+            self.mesh.vertices[b as usize],
+        );
         (p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)
     }
 
@@ -305,7 +321,14 @@ impl Builder {
     /// Caps one half-section face: vertical pairs of bottom and deck points
     /// joined into trapezoids, and the apex triangle. `facing_tail` for the
     /// tail end; `mirrored` for the − half (its orientation flips).
-    fn cap_half(&mut self, half: &[u32], side: usize, rounded: bool, facing_tail: bool, mirrored: bool) {
+    fn cap_half(
+        &mut self,
+        half: &[u32],
+        side: usize,
+        rounded: bool,
+        facing_tail: bool,
+        mirrored: bool,
+    ) {
         let m = half.len();
         let low = |j: usize| half[j];
         let up = |j: usize| half[m - 1 - j];
@@ -376,7 +399,9 @@ impl Sampling {
         let params = p
             .iter()
             .enumerate()
-            .filter(|&(i, _)| i % 2 == 0 || (self.ring.profile == RailProfile::Square && i == p.len() - 1))
+            .filter(|&(i, _)| {
+                i % 2 == 0 || (self.ring.profile == RailProfile::Square && i == p.len() - 1)
+            })
             .map(|(_, &u)| u)
             .collect();
         Sampling {
@@ -402,7 +427,10 @@ fn check_tolerance(tolerance: f64) -> Result<(), MeshError> {
 pub fn plan(board: &Board, tolerance: f64) -> Result<Sampling, MeshError> {
     check_tolerance(tolerance)?;
     let ring = ring_params(board, tolerance);
-    let stations = stations(board, &ring, tolerance)?.into_iter().map(|s| s.x).collect();
+    let stations = stations(board, &ring, tolerance)?
+        .into_iter()
+        .map(|s| s.x)
+        .collect();
     Ok(Sampling { ring, stations })
 }
 
@@ -445,7 +473,11 @@ pub fn build(board: &Board, sampling: &Sampling) -> Mesh {
                 }
             })
             .collect();
-        verts.push(Verts::Halves { plus, minus, joined });
+        verts.push(Verts::Halves {
+            plus,
+            minus,
+            joined,
+        });
     }
     for w in verts.windows(2) {
         match (&w[0], &w[1]) {
@@ -457,7 +489,9 @@ pub fn build(board: &Board, sampling: &Sampling) -> Mesh {
             }
             (
                 Verts::Halves {
-                    plus: pa, minus: ma, ..
+                    plus: pa,
+                    minus: ma,
+                    ..
                 },
                 Verts::Halves {
                     plus: pb,
@@ -469,7 +503,9 @@ pub fn build(board: &Board, sampling: &Sampling) -> Mesh {
             }
             (
                 Verts::Halves {
-                    plus: pa, minus: ma, ..
+                    plus: pa,
+                    minus: ma,
+                    ..
                 },
                 Verts::Halves {
                     plus: pb,

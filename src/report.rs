@@ -138,7 +138,11 @@ pub fn measurements(board: &Board, step: f64) -> Vec<StationRow> {
 
 fn pieces(v: Vec<(f64, f64, f64)>) -> Vec<Piece> {
     v.into_iter()
-        .map(|(from_mm, to_mm, litres)| Piece { from_mm, to_mm, litres })
+        .map(|(from_mm, to_mm, litres)| Piece {
+            from_mm,
+            to_mm,
+            litres,
+        })
         .collect()
 }
 
@@ -204,11 +208,25 @@ impl Report {
     /// The key figures, for the terminal.
     pub fn summary(&self) -> String {
         let mut s = String::new();
-        let d = if (self.tip_station_mm - 300.0).abs() < 1e-9 { "300 mm" } else { "12 in" };
+        let d = if (self.tip_station_mm - 300.0).abs() < 1e-9 {
+            "300 mm"
+        } else {
+            "12 in"
+        };
         let _ = writeln!(s, "{}", self.name);
         let _ = writeln!(s, "  length       {} (flat)", Both(self.length_mm));
-        let _ = writeln!(s, "  width        {} at {} from the nose", Both(self.width_mm), Both(self.wide_point_from_nose_mm));
-        let _ = writeln!(s, "  nose / tail  {} / {} ({d} from the tips)", Both(self.nose_width_mm), Both(self.tail_width_mm));
+        let _ = writeln!(
+            s,
+            "  width        {} at {} from the nose",
+            Both(self.width_mm),
+            Both(self.wide_point_from_nose_mm)
+        );
+        let _ = writeln!(
+            s,
+            "  nose / tail  {} / {} ({d} from the tips)",
+            Both(self.nose_width_mm),
+            Both(self.tail_width_mm)
+        );
         let _ = writeln!(s, "  thickness    {}", Both(self.thickness_mm));
         let _ = writeln!(
             s,
@@ -219,14 +237,26 @@ impl Report {
         );
         let _ = writeln!(s, "  tail         {}", self.tail);
         let _ = writeln!(s, "  volume       {:.2} L", self.volume_litres);
-        let _ = writeln!(s, "  centre of volume {} from the nose", Both(self.centre_of_volume_from_nose_mm));
-        let _ = writeln!(s, "  area         surface {:.3} m², planform {:.3} m²", self.surface_area_m2, self.planform_area_m2);
+        let _ = writeln!(
+            s,
+            "  centre of volume {} from the nose",
+            Both(self.centre_of_volume_from_nose_mm)
+        );
+        let _ = writeln!(
+            s,
+            "  area         surface {:.3} m², planform {:.3} m²",
+            self.surface_area_m2, self.planform_area_m2
+        );
         let _ = writeln!(
             s,
             "  mesh         {} triangles, {} vertices, {}, Euler characteristic {}, tolerance {} mm",
             self.triangles,
             self.vertices,
-            if self.watertight { "watertight" } else { "NOT WATERTIGHT" },
+            if self.watertight {
+                "watertight"
+            } else {
+                "NOT WATERTIGHT"
+            },
             self.euler_characteristic,
             self.tolerance_mm
         );
@@ -239,15 +269,34 @@ impl Report {
         let c = &self.certificate;
         let mut s = String::new();
         let _ = writeln!(s, "  volume certificate");
-        let _ = writeln!(s, "    (a) divergence theorem on the mesh    {:.4} L", c.mesh_litres);
-        let _ = writeln!(s, "    (b) integral of the cross-sections    {:.4} L (quadrature error {:.1e} L)", c.surface_litres, c.surface_error_litres);
-        let _ = writeln!(s, "    (c) error estimate of (a)             {:.4} L (coarsened mesh {:.4} L)", c.error_estimate_litres, c.coarse_mesh_litres);
-        let _ = writeln!(s, "    |(a) - (b)| = {:.4} L, explained up to {:.4} L", c.difference_litres, c.allowed_litres);
+        let _ = writeln!(
+            s,
+            "    (a) divergence theorem on the mesh    {:.4} L",
+            c.mesh_litres
+        );
+        let _ = writeln!(
+            s,
+            "    (b) integral of the cross-sections    {:.4} L (quadrature error {:.1e} L)",
+            c.surface_litres, c.surface_error_litres
+        );
+        let _ = writeln!(
+            s,
+            "    (c) error estimate of (a)             {:.4} L (coarsened mesh {:.4} L)",
+            c.error_estimate_litres, c.coarse_mesh_litres
+        );
+        let _ = writeln!(
+            s,
+            "    |(a) - (b)| = {:.4} L, explained up to {:.4} L",
+            c.difference_litres, c.allowed_litres
+        );
         if self.certified {
             let _ = writeln!(s, "    certified: the two volumes agree");
         } else {
             let _ = writeln!(s, "    *** NOT CERTIFIED: {} ***", self.failure());
-            let _ = writeln!(s, "    *** do not order or cut foam by this volume; report the board file as a bug ***");
+            let _ = writeln!(
+                s,
+                "    *** do not order or cut foam by this volume; report the board file as a bug ***"
+            );
         }
         s
     }
@@ -270,7 +319,10 @@ impl Report {
     /// The measurement table, in millimetres and inches.
     pub fn table(&self) -> String {
         let mut s = String::new();
-        let _ = writeln!(s, "measurements at stations (heights above the flat the board rests on; at the stringer)");
+        let _ = writeln!(
+            s,
+            "measurements at stations (heights above the flat the board rests on; at the stringer)"
+        );
         let _ = writeln!(
             s,
             "  {:>16}  {:>18}  {:>17}  {:>17}  {:>17}  {:>17}",
@@ -280,7 +332,11 @@ impl Report {
             let _ = writeln!(
                 s,
                 "  {:>16}  {:>18}  {:>17}  {:>17}  {:>17}  {:>17}",
-                format!("{:.0} mm {}", r.from_nose_mm, units::feet_inches(r.from_nose_mm)),
+                format!(
+                    "{:.0} mm {}",
+                    r.from_nose_mm,
+                    units::feet_inches(r.from_nose_mm)
+                ),
                 dual(r.width_mm),
                 dual(r.thickness_mm),
                 dual(r.bottom_mm),
@@ -289,7 +345,11 @@ impl Report {
             );
         }
         let _ = writeln!(s, "litres per foot from the nose");
-        let line: Vec<String> = self.litres_per_foot.iter().map(|p| format!("{:.2}", p.litres)).collect();
+        let line: Vec<String> = self
+            .litres_per_foot
+            .iter()
+            .map(|p| format!("{:.2}", p.litres))
+            .collect();
         let _ = writeln!(s, "  {} L", line.join(" | "));
         s
     }

@@ -162,7 +162,11 @@ mod tests {
         // ellipse of semi-axes 250 and 30: area π·a·b (standard geometry).
         let s = station(2.0, 2.0, 0.5);
         let want = std::f64::consts::PI * 250.0 * 30.0;
-        assert!((s.area() - want).abs() < 1e-8 * want, "{} vs {want}", s.area());
+        assert!(
+            (s.area() - want).abs() < 1e-8 * want,
+            "{} vs {want}",
+            s.area()
+        );
     }
 
     #[test]
@@ -173,7 +177,11 @@ mod tests {
         let g = 0.906_402_477_055_477_f64.powi(2) / 0.886_226_925_452_758;
         let s = station(4.0, 4.0, 0.5);
         let want = 4.0 * 250.0 * 30.0 * g;
-        assert!((s.area() - want).abs() < 1e-8 * want, "{} vs {want}", s.area());
+        assert!(
+            (s.area() - want).abs() < 1e-8 * want,
+            "{} vs {want}",
+            s.area()
+        );
     }
 
     #[test]

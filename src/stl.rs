@@ -13,7 +13,11 @@ fn facet_normal(c: &[[f64; 3]; 3]) -> [f32; 3] {
     let n = cross(sub(c[1], c[0]), sub(c[2], c[0]));
     let len = norm(n);
     if len > 0.0 {
-        [(n[0] / len) as f32, (n[1] / len) as f32, (n[2] / len) as f32]
+        [
+            (n[0] / len) as f32,
+            (n[1] / len) as f32,
+            (n[2] / len) as f32,
+        ]
     } else {
         [0.0; 3]
     }
@@ -29,8 +33,12 @@ pub fn write_binary(mut out: impl Write, mesh: &Mesh, header: &str) -> io::Resul
     if head.starts_with(b"solid") {
         head[0] = b'_';
     }
-    let count = u32::try_from(mesh.triangles.len())
-        .map_err(|_| io::Error::new(io::ErrorKind::InvalidInput, "more triangles than binary STL can count"))?;
+    let count = u32::try_from(mesh.triangles.len()).map_err(|_| {
+        io::Error::new(
+            io::ErrorKind::InvalidInput,
+            "more triangles than binary STL can count",
+        )
+    })?;
     let mut buf = Vec::with_capacity(84 + 50 * mesh.triangles.len());
     buf.extend_from_slice(&head);
     buf.extend_from_slice(&count.to_le_bytes());
@@ -60,7 +68,11 @@ pub fn write_ascii(mut out: impl Write, mesh: &Mesh, name: &str) -> io::Result<(
         let _ = writeln!(s, "  facet normal {:e} {:e} {:e}", n[0], n[1], n[2]);
         s.push_str("    outer loop\n");
         for p in &c {
-            let _ = writeln!(s, "      vertex {:e} {:e} {:e}", p[0] as f32, p[1] as f32, p[2] as f32);
+            let _ = writeln!(
+                s,
+                "      vertex {:e} {:e} {:e}",
+                p[0] as f32, p[1] as f32, p[2] as f32
+            );
         }
         s.push_str("    endloop\n  endfacet\n");
     }
@@ -74,7 +86,12 @@ mod tests {
 
     fn tetra() -> Mesh {
         Mesh {
-            vertices: vec![[0.0, 0.0, 0.0], [10.0, 0.0, 0.0], [0.0, 10.0, 0.0], [0.0, 0.0, 10.0]],
+            vertices: vec![
+                [0.0, 0.0, 0.0],
+                [10.0, 0.0, 0.0],
+                [0.0, 10.0, 0.0],
+                [0.0, 0.0, 10.0],
+            ],
             triangles: vec![[0, 2, 1], [0, 1, 3], [1, 2, 3], [0, 3, 2]],
         }
     }

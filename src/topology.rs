@@ -53,7 +53,10 @@ pub fn is_degenerate(mesh: &Mesh, t: &[u32; 3]) -> bool {
 
 /// Groups `items` by `key` (a vertex id below `buckets`) with a counting
 /// sort: returns the bucket offsets and the items in bucket order.
-fn bucket<T: Copy + Default>(buckets: usize, items: impl Iterator<Item = (u32, T)> + Clone) -> (Vec<usize>, Vec<T>) {
+fn bucket<T: Copy + Default>(
+    buckets: usize,
+    items: impl Iterator<Item = (u32, T)> + Clone,
+) -> (Vec<usize>, Vec<T>) {
     let mut start = vec![0usize; buckets + 1];
     for (k, _) in items.clone() {
         start[k as usize + 1] += 1;
@@ -83,7 +86,11 @@ pub fn analyse(mesh: &Mesh) -> Topology {
         (0..3).map(move |k| {
             let (a, b) = (t[k], t[(k + 1) % 3]);
             // The higher vertex and the direction (bit 0: runs high to low).
-            if a < b { (a, (b as u64) << 1) } else { (b, ((a as u64) << 1) | 1) }
+            if a < b {
+                (a, (b as u64) << 1)
+            } else {
+                (b, ((a as u64) << 1) | 1)
+            }
         })
     });
     let (start, mut ends) = bucket(nv, edge_items);
@@ -148,7 +155,12 @@ mod tests {
 
     fn tetrahedron() -> Mesh {
         Mesh {
-            vertices: vec![[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]],
+            vertices: vec![
+                [0.0, 0.0, 0.0],
+                [1.0, 0.0, 0.0],
+                [0.0, 1.0, 0.0],
+                [0.0, 0.0, 1.0],
+            ],
             triangles: vec![[0, 2, 1], [0, 1, 3], [1, 2, 3], [0, 3, 2]],
         }
     }

@@ -85,7 +85,10 @@ pub fn parse_length(text: &str) -> Result<Length, LengthError> {
     }
     // Feet first: everything before a single quote (or "ft") is feet.
     let (feet, rest) = match split_feet(s) {
-        Some((f, r)) => (Some(parse_magnitude(f).ok_or_else(|| err("the feet are not a number"))?), r),
+        Some((f, r)) => (
+            Some(parse_magnitude(f).ok_or_else(|| err("the feet are not a number"))?),
+            r,
+        ),
         None => (None, s),
     };
     let rest = rest.trim();
@@ -308,7 +311,18 @@ mod tests {
     #[test]
     fn nonsense_is_refused() {
         for bad in [
-            "", "abc", "6'2cm", "1/0", "1e3", "nan", "inf", "2 1/2 1/2", "--1", "1..2", "'", "in",
+            "",
+            "abc",
+            "6'2cm",
+            "1/0",
+            "1e3",
+            "nan",
+            "inf",
+            "2 1/2 1/2",
+            "--1",
+            "1..2",
+            "'",
+            "in",
         ] {
             assert!(parse_length(bad).is_err(), "accepted {bad:?}");
         }
@@ -329,7 +343,11 @@ mod tests {
         for sixteenths in [1_i64, 7, 16, 33, 190, 1184, 1500] {
             let v = sixteenths as f64 / 16.0 * 25.4;
             let back = mm(&feet_inches(v));
-            assert!((back - v).abs() < 1e-9, "{v} -> {} -> {back}", feet_inches(v));
+            assert!(
+                (back - v).abs() < 1e-9,
+                "{v} -> {} -> {back}",
+                feet_inches(v)
+            );
         }
     }
 }

@@ -221,9 +221,14 @@ pub enum DescriptionError {
     Io { file: String, message: String },
     /// The YAML is malformed, or a field is unknown, missing or of the
     /// wrong type; `rendered` has the line, column and a source snippet.
-    Yaml { file: String, line: u64, column: u64, rendered: String },
+    Yaml {
+        file: String,
+        line: u64,
+        column: u64,
+        rendered: String,
+    },
     /// The fields are readable but the shape breaks a rule.
-    Rule(RuleError),
+    Rule(Box<RuleError>),
 }
 
 /// A broken shape rule, with where it is.
@@ -285,7 +290,10 @@ pub fn parse(text: &str, file: &str) -> Result<BoardFile, DescriptionError> {
     let mut options = serde_saphyr::Options::default();
     options.strict_booleans = true;
     serde_saphyr::from_str_with_options::<BoardFile>(text, options).map_err(|e| {
-        let (line, column) = e.location().map(|l| (l.line(), l.column())).unwrap_or((0, 0));
+        let (line, column) = e
+            .location()
+            .map(|l| (l.line(), l.column()))
+            .unwrap_or((0, 0));
         let render = serde_saphyr::render_options! { source_name: Some(file) };
         let full = e.render_with_options(render);
         // The reader's first line reads `error: line L column C: message`;

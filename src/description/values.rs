@@ -103,7 +103,10 @@ fn parse_position(text: &str) -> Result<Position, String> {
                 Length::Bare(v) => Length::Bare(sign * v),
                 Length::Mm(v) => Length::Mm(sign * v),
             };
-            return Ok(Position { reference, distance });
+            return Ok(Position {
+                reference,
+                distance,
+            });
         }
     }
     match units::parse_length(t) {
@@ -165,12 +168,20 @@ pub struct Blend {
 fn blend_number(v: &str) -> Result<f64, String> {
     let t = v.trim();
     if let Some((above, below)) = t.split_once('/') {
-        let a: f64 = above.trim().parse().map_err(|_| format!("`{t}` is not a rail split like 60/40"))?;
-        let b: f64 = below.trim().parse().map_err(|_| format!("`{t}` is not a rail split like 60/40"))?;
+        let a: f64 = above
+            .trim()
+            .parse()
+            .map_err(|_| format!("`{t}` is not a rail split like 60/40"))?;
+        let b: f64 = below
+            .trim()
+            .parse()
+            .map_err(|_| format!("`{t}` is not a rail split like 60/40"))?;
         if a > 0.0 && b > 0.0 && a.is_finite() && b.is_finite() {
             return Ok(b / (a + b));
         }
-        return Err(format!("`{t}`: both parts of a rail split must be positive"));
+        return Err(format!(
+            "`{t}`: both parts of a rail split must be positive"
+        ));
     }
     t.parse::<f64>()
         .ok()

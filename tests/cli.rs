@@ -1,0 +1,272 @@
+//! The real binary, run in temporary folders.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_blanksmith"))
+}
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn run(args: &[&str], cwd: &Path) -> Output {
+    bin()
+        .args(args)
+        .current_dir(cwd)
+        .output()
+        .expect("the binary runs")
+}
+
+fn text(b: &[u8]) -> String {
+    String::from_utf8_lossy(b).into_owned()
+}
+
+fn files_under(dir: &Path) -> Vec<PathBuf> {
+    let mut out = vec![];
+    if let Ok(rd) = std::fs::read_dir(dir) {
+        for e in rd.flatten() {
+            let p = e.path();
+            if p.is_dir() {
+                out.extend(files_under(&p));
+            } else {
+                out.push(p);
+            }
+        }
+    }
+    out.sort();
+    out
+}
+
+#[test]
+fn make_runs_the_demo_into_out() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = run(&["make"], dir.path());
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let stdout = text(&o.stdout);
+    assert!(
+        stdout.contains("certified: the two volumes agree"),
+        "{stdout}"
+    );
+    assert!(stdout.contains(" L"), "volume in litres: {stdout}");
+    let folder = dir.path().join("out/saltgrass-shortboard-6-2");
+    let stl = folder.join("saltgrass-shortboard-6-2.stl");
+    let json = folder.join("saltgrass-shortboard-6-2.report.json");
+    assert!(folder.join("saltgrass-shortboard-6-2.report.txt").exists());
+    // Binary STL: 84 + 50·n bytes (format layout).
+    let bytes = std::fs::read(&stl).unwrap();
+    let n = u32::from_le_bytes(bytes[80..84].try_into().unwrap()) as usize;
+    assert_eq!(bytes.len(), 84 + 50 * n);
+    let report: serde_json::Value = serde_json::from_slice(&std::fs::read(&json).unwrap()).unwrap();
+    for key in [
+        "name",
+        "length_mm",
+        "width_mm",
+        "thickness_mm",
+        "volume_litres",
+        "volume_litres_surface",
+        "volume_error_estimate_litres",
+        "triangles",
+        "vertices",
+        "watertight",
+        "euler_characteristic",
+        "stl",
+    ] {
+        assert!(report.get(key).is_some(), "report lacks {key}");
+    }
+    assert_eq!(report["triangles"].as_u64().unwrap() as usize, n);
+    assert_eq!(report["watertight"], true);
+    assert_eq!(report["euler_characteristic"], 2);
+    assert_eq!(
+        report["stl"],
+        "out/saltgrass-shortboard-6-2/saltgrass-shortboard-6-2.stl"
+    );
+    // 6'2" = 74 in = 1879.6 mm (1 in = 25.4 mm, NIST SP 811).
+    assert!((report["length_mm"].as_f64().unwrap() - 1879.6).abs() < 1e-9);
+}
+
+#[test]
+fn the_same_input_gives_byte_identical_files() {
+    let (a, b) = (tempfile::tempdir().unwrap(), tempfile::tempdir().unwrap());
+    let board = root().join("fixtures/fish.yaml");
+    for d in [&a, &b] {
+        let o = run(&["make", board.to_str().unwrap()], d.path());
+        assert!(o.status.success(), "{}", text(&o.stderr));
+    }
+    let (fa, fb) = (files_under(a.path()), files_under(b.path()));
+    assert_eq!(fa.len(), 3);
+    for (x, y) in fa.iter().zip(&fb) {
+        assert_eq!(
+            std::fs::read(x).unwrap(),
+            std::fs::read(y).unwrap(),
+            "{} differs",
+            x.display()
+        );
+    }
+}
+
+#[test]
+fn mesh_writes_ascii_on_request() {
+    let dir = tempfile::tempdir().unwrap();
+    let board = root().join("fixtures/check-box.yaml");
+    let o = run(
+        &["mesh", board.to_str().unwrap(), "-o", "here", "--ascii"],
+        dir.path(),
+    );
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let stl = std::fs::read(dir.path().join("here/check-box.stl")).unwrap();
+    assert!(stl.starts_with(b"solid check-box\n"));
+    // An independent reader (stl_io) reads it back.
+    let mesh = stl_io::read_stl(&mut std::io::Cursor::new(&stl)).unwrap();
+    assert!(!mesh.faces.is_empty());
+    assert!(dir.path().join("here/check-box.report.json").exists());
+}
+
+#[test]
+fn report_prints_json_and_writes_nothing() {
+    let dir = tempfile::tempdir().unwrap();
+    let board = root().join("fixtures/longboard.yaml");
+    let o = run(&["report", board.to_str().unwrap(), "--json"], dir.path());
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["name"], "saltgrass-longboard-9-4");
+    assert!(v["stl"].is_null());
+    // Stations every 6 in from the nose over 9'4" = 112 in: 19 rows + the tail.
+    assert_eq!(v["stations"].as_array().unwrap().len(), 20);
+    assert!(files_under(dir.path()).is_empty());
+    let o = run(&["report", board.to_str().unwrap()], dir.path());
+    let out = text(&o.stdout);
+    assert!(
+        out.contains("measurements at stations") && out.contains("9' 4\""),
+        "{out}"
+    );
+}
+
+/// Each bad file, the field its message must name, and words it must say.
+const BAD: &[(&str, &str, &str)] = &[
+    ("bad-fraction.yaml", ":26:9:", "is not a length"),
+    ("bad-name.yaml", "name:", "not a usable name"),
+    ("bad-unit.yaml", ":7:11:", "`6 furlongs` is not a length"),
+    (
+        "contour-too-deep.yaml",
+        "bottom[1].depth",
+        "the bottom would cross the rail",
+    ),
+    (
+        "deck-crosses-bottom.yaml",
+        "deck.dome",
+        "deck would cross the bottom",
+    ),
+    ("empty-board.yaml", ":1:1:", "missing field `units`"),
+    (
+        "misspelled-field.yaml",
+        ":9:3:",
+        "unknown field `wide_piont`, expected one of",
+    ),
+    ("missing-field.yaml", "outline.tail_width", "is missing"),
+    (
+        "negative-thickness.yaml",
+        "thickness.nose",
+        "must be more than",
+    ),
+    (
+        "nose-wider-than-board.yaml",
+        "outline.nose_width",
+        "less than the width",
+    ),
+    (
+        "notch-too-deep.yaml",
+        "outline.notch_depth",
+        "deeper than that the tail allows no notch",
+    ),
+    (
+        "tail-block-too-wide.yaml",
+        "outline.tail_block",
+        "not narrower than the tail width",
+    ),
+    (
+        "tips-fill-the-notch.yaml",
+        "outline.tip_width",
+        "leave no notch",
+    ),
+    ("unclosed-list.yaml", ":18:3:", "invalid type: sequence"),
+    (
+        "unterminated-quote.yaml",
+        ".yaml:",
+        "did not find expected key",
+    ),
+    (
+        "wide-point-off-board.yaml",
+        "outline.wide_point",
+        "off the part of the board",
+    ),
+    ("wrong-type.yaml", ":8:3:", "expected a length"),
+    (
+        "zero-thickness.yaml",
+        "thickness.max",
+        "must be more than 0.0 mm",
+    ),
+];
+
+#[test]
+fn every_bad_description_is_refused_clearly_and_writes_nothing() {
+    let listed: Vec<String> = std::fs::read_dir(root().join("fixtures/bad"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".yaml"))
+        .collect();
+    assert_eq!(
+        listed.len(),
+        BAD.len(),
+        "a bad fixture has no expected message: {listed:?}"
+    );
+    for (file, field, words) in BAD {
+        let dir = tempfile::tempdir().unwrap();
+        let path = root().join("fixtures/bad").join(file);
+        for args in [
+            vec!["mesh", path.to_str().unwrap(), "-o", "out"],
+            vec!["make", path.to_str().unwrap()],
+        ] {
+            let o = run(&args, dir.path());
+            let err = text(&o.stderr);
+            assert_eq!(o.status.code(), Some(2), "{file}: {err}");
+            assert!(err.starts_with("blanksmith: error: "), "{file}: {err}");
+            assert!(
+                err.contains(&format!("{file}:")),
+                "{file}: message does not name the file: {err}"
+            );
+            assert!(
+                err.contains(field),
+                "{file}: message does not name {field}: {err}"
+            );
+            assert!(
+                err.contains(words),
+                "{file}: message does not say {words:?}: {err}"
+            );
+            assert!(!err.contains("panicked"), "{file}: {err}");
+            assert!(
+                files_under(dir.path()).is_empty(),
+                "{file}: wrote {:?}",
+                files_under(dir.path())
+            );
+        }
+    }
+}
+
+#[test]
+fn out_of_range_tolerances_and_missing_files_are_errors() {
+    let dir = tempfile::tempdir().unwrap();
+    let board = root().join("fixtures/shortboard.yaml");
+    for tol in ["1e-9", "0", "-1", "NaN", "50"] {
+        let flag = format!("--tolerance={tol}");
+        let o = run(&["mesh", board.to_str().unwrap(), &flag], dir.path());
+        let err = text(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{tol}: {err}");
+        assert!(err.contains("tolerance"), "{tol}: {err}");
+    }
+    let o = run(&["mesh", "no-such-board.yaml"], dir.path());
+    assert_eq!(o.status.code(), Some(2));
+    assert!(text(&o.stderr).contains("no-such-board.yaml: cannot read"));
+    assert!(files_under(dir.path()).is_empty());
+}

@@ -1,0 +1,151 @@
+//! Random valid descriptions always mesh watertight, outward, with positive
+//! volume, and the mesh volume agrees with the shape integral.
+
+use blanksmith::certificate::certify;
+use blanksmith::description::board_from_str;
+use proptest::prelude::*;
+
+const TAILS: [&str; 7] = [
+    "round",
+    "pin",
+    "rounded_pin",
+    "squash",
+    "square",
+    "swallow",
+    "diamond",
+];
+
+#[derive(Debug, Clone)]
+struct Spec {
+    length: f64,
+    width: f64,
+    wide_ahead: f64,
+    nose_frac: f64,
+    tail_frac: f64,
+    tail: usize,
+    block_frac: f64,
+    extra: f64,
+    pointed: bool,
+    rocker: (f64, f64, f64, f64, f64),
+    thick: (f64, f64, f64, f64, f64),
+    rails: (f64, f64, f64, f64, f64, f64),
+    contours: (f64, f64, f64),
+}
+
+fn spec() -> impl Strategy<Value = Spec> {
+    (
+        (
+            1500.0..3000.0f64,
+            420.0..600.0f64,
+            -100.0..100.0f64,
+            0.5..0.85f64,
+            0.55..0.85f64,
+        ),
+        (0..7usize, 0.3..0.75f64, 0.0..1.0f64, any::<bool>()),
+        (
+            40.0..150.0f64,
+            10.0..70.0f64,
+            -150.0..150.0f64,
+            1.8..3.5f64,
+            1.8..3.5f64,
+        ),
+        (
+            50.0..90.0f64,
+            -100.0..100.0f64,
+            0.6..0.9f64,
+            0.6..0.9f64,
+            0.0..0.2f64,
+        ),
+        (
+            0.3..0.6f64,
+            0.3..0.6f64,
+            0.0..1.0f64,
+            0.0..1.0f64,
+            0.0..1.0f64,
+            0.0..1.0f64,
+        ),
+        (0.0..5.0f64, 0.0..3.0f64, 0.0..3.0f64),
+    )
+        .prop_map(|(o, t, r, th, ra, c)| Spec {
+            length: o.0,
+            width: o.1,
+            wide_ahead: o.2,
+            nose_frac: o.3,
+            tail_frac: o.4,
+            tail: t.0,
+            block_frac: t.1,
+            extra: t.2,
+            pointed: t.3,
+            rocker: r,
+            thick: th,
+            rails: ra,
+            contours: c,
+        })
+}
+
+fn yaml(s: &Spec) -> String {
+    let tail = TAILS[s.tail];
+    let tail_width = s.tail_frac * s.width;
+    let block = s.block_frac * tail_width;
+    let mut tail_fields = String::new();
+    match tail {
+        "squash" => {
+            tail_fields = format!(
+                "  tail_block: {block}\n  corner_radius: {}\n",
+                5.0 + s.extra * (0.25 * block - 5.0).max(0.0)
+            )
+        }
+        "square" => tail_fields = format!("  tail_block: {block}\n"),
+        "swallow" => {
+            tail_fields = format!(
+                "  tail_block: {block}\n  notch_depth: {}\n  tip_width: {}\n",
+                40.0 + 160.0 * s.extra,
+                8.0 + 12.0 * s.extra
+            )
+        }
+        "diamond" => {
+            tail_fields = format!(
+                "  tail_block: {block}\n  point_length: {}\n  tip_width: {}\n",
+                30.0 + 120.0 * s.extra,
+                8.0 + 12.0 * s.extra
+            )
+        }
+        _ => {}
+    }
+    let (rn, rt, low, pn, pt) = s.rocker;
+    let (tmax, tat, tn, tt, dome) = s.thick;
+    let (a1, a2, s1, s2, k1, k2) = s.rails;
+    let (single, double, vee) = s.contours;
+    format!(
+        "name: random\nunits: mm\noutline:\n  length: {l}\n  width: {w}\n  wide_point: {wa} ahead\n  nose_width: {nw}\n  tail_width: {tail_width}\n  nose: {nose}\n  tail: {tail}\n{tail_fields}\
+rocker:\n  nose: {rn}\n  tail: {rt}\n  low_point: {low} behind\n  nose_curve: {pn}\n  tail_curve: {pt}\n\
+thickness:\n  max: {tmax}\n  at: {tat} ahead\n  nose: {n12}\n  tail: {t12}\n\
+deck:\n  dome: {d}\n\
+rails:\n  apex: {{nose: {a1}, middle: {a2}, tail: {a2}}}\n  softness: {{nose: {s1}, middle: {s2}, tail: {s1}}}\n  tuck: {{nose: {k1}, middle: {k2}, tail: {k2}}}\n\
+bottom:\n  - {{contour: single_concave, from: 300, to: 200 from tail, depth: {single}}}\n  - {{contour: double_concave, from: 700 from tail, to: 150 from tail, depth: {double}}}\n  - {{contour: vee, from: 500 from tail, to: 60 from tail, depth: {vee}}}\n",
+        l = s.length,
+        w = s.width,
+        wa = s.wide_ahead,
+        nw = s.nose_frac * s.width,
+        nose = if s.pointed { "pointed" } else { "round" },
+        n12 = tn * tmax,
+        t12 = tt * tmax,
+        d = dome * tmax,
+    )
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+    #[test]
+    fn random_boards_mesh_watertight_and_certified(s in spec()) {
+        let text = yaml(&s);
+        let board = board_from_str(&text, "random.yaml").map_err(|e| TestCaseError::fail(format!("{e}\n{text}")))?;
+        let c = certify(&board, 0.1).unwrap();
+        let t = c.topology;
+        prop_assert!(t.is_watertight(), "{t:?}\n{text}");
+        prop_assert_eq!(t.euler_characteristic, 2);
+        prop_assert!(c.measures.volume > 0.0, "inside out\n{}", text);
+        prop_assert!(c.certificate.agrees, "{:?}\n{}", c.certificate, text);
+    }
+}
