@@ -29,6 +29,8 @@ pub struct Certified {
     pub certificate: Certificate,
     /// The tolerance used, mm.
     pub tolerance: f64,
+    /// The continuous shape's volume along the board, for (b) and the report.
+    pub profile: integrals::Profile,
 }
 
 /// Three volumes and whether they agree.
@@ -62,16 +64,16 @@ pub fn certify(board: &Board, tolerance: f64) -> Result<Certified, MeshError> {
                 || volume::volume(&mesher::build(board, &sampling.coarsened(board))),
             )
         },
-        || integrals::volume(board),
+        || integrals::profile(board),
     );
     let topology = topology::analyse(&mesh);
     let measures = volume::measure(&mesh);
     let mesh_litres = measures.volume * 1e-6;
     let coarse_mesh_litres = coarse_volume * 1e-6;
-    let surface_litres = surface.value * 1e-6;
+    let surface_litres = surface.volume() * 1e-6;
     let error_estimate_litres = (coarse_mesh_litres - mesh_litres).abs() / 3.0;
     let difference_litres = (mesh_litres - surface_litres).abs();
-    let surface_error_litres = surface.error * 1e-6;
+    let surface_error_litres = surface.error() * 1e-6;
     let allowed_litres =
         3.0 * error_estimate_litres + surface_error_litres + 1e-9 * surface_litres.abs() + 1e-9;
     Ok(Certified {
@@ -89,5 +91,6 @@ pub fn certify(board: &Board, tolerance: f64) -> Result<Certified, MeshError> {
             agrees: difference_litres <= allowed_litres,
         },
         tolerance,
+        profile: surface,
     })
 }

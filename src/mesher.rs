@@ -11,6 +11,8 @@
 
 use std::collections::BTreeSet;
 
+use rayon::prelude::*;
+
 use crate::board::{Board, RailProfile, Station};
 use crate::mesh::Mesh;
 
@@ -123,48 +125,53 @@ fn ring_params(board: &Board, tolerance: f64) -> Ring {
         params: vec![],
         profile,
     };
-    let mut set: BTreeSet<u64> = (0..=8).map(|k| k * FULL / 8).collect();
+    let base: BTreeSet<u64> = (0..=8).map(|k| k * FULL / 8).collect();
     let l = board.length;
     let mut xs: Vec<f64> = (1..40).map(|i| l * i as f64 / 40.0).collect();
     xs.extend(board.breaks().into_iter().map(|x| x.clamp(0.002 * l, l)));
-    for x in xs {
-        let st = board.station(x);
-        if st.half_width <= 0.0 {
-            continue;
-        }
-        for deck in [false, true] {
-            let at = |k: u64| {
-                let p = k as f64 / FULL as f64;
-                if deck {
-                    probe.up_point(&st, p)
-                } else {
-                    probe.low_point(&st, p)
-                }
-            };
-            let mut stack: Vec<(u64, u64)> = set
-                .iter()
-                .copied()
-                .zip(set.iter().copied().skip(1))
-                .collect();
-            while let Some((a, b)) = stack.pop() {
-                if b - a < 2 {
-                    continue;
-                }
-                let (pa, pb) = (at(a), at(b));
-                let quarter = (b - a) / 4;
-                let worst = [a + quarter, a + 2 * quarter, b - quarter]
-                    .into_iter()
-                    .map(|k| off_chord(at(k), pa, pb))
-                    .fold(0.0, f64::max);
-                if worst > tolerance && b - a >= 8 {
-                    let m = a + (b - a) / 2;
-                    set.insert(m);
-                    stack.push((a, m));
-                    stack.push((m, b));
+    // Each station refines the base grid on its own; the union is the same
+    // whatever order the stations are done in.
+    let sets: Vec<BTreeSet<u64>> = xs
+        .par_iter()
+        .map(|&x| {
+            let mut set = base.clone();
+            let st = board.station(x);
+            if st.half_width <= 0.0 {
+                return set;
+            }
+            for deck in [false, true] {
+                let at = |k: u64| {
+                    let p = k as f64 / FULL as f64;
+                    if deck {
+                        probe.up_point(&st, p)
+                    } else {
+                        probe.low_point(&st, p)
+                    }
+                };
+                let mut stack: Vec<(u64, u64)> = base
+                    .iter()
+                    .copied()
+                    .zip(base.iter().copied().skip(1))
+                    .collect();
+                while let Some((a, b)) = stack.pop() {
+                    let (pa, pb) = (at(a), at(b));
+                    let quarter = (b - a) / 4;
+                    let worst = [a + quarter, a + 2 * quarter, b - quarter]
+                        .into_iter()
+                        .map(|k| off_chord(at(k), pa, pb))
+                        .fold(0.0, f64::max);
+                    if worst > tolerance && b - a >= 8 {
+                        let m = a + (b - a) / 2;
+                        set.insert(m);
+                        stack.push((a, m));
+                        stack.push((m, b));
+                    }
                 }
             }
-        }
-    }
+            set
+        })
+        .collect();
+    let set: BTreeSet<u64> = sets.into_iter().flatten().collect();
     let mut params: Vec<f64> = set.into_iter().map(|k| k as f64 / FULL as f64).collect();
     if profile == RailProfile::Rounded {
         // The apex is its own point; the bottom and deck lists stop short of it.
@@ -205,52 +212,70 @@ fn stations(board: &Board, ring: &Ring, tolerance: f64) -> Result<Vec<Sample>, M
     let max_step = 50.0;
     let min_step = 0.01;
     let limit_stations = MAX_TRIANGLES / (2 * ring.len()).max(1);
-    let mut out: Vec<Sample> = vec![sample(breaks[0])];
-    for w in breaks.windows(2) {
-        let pieces = ((w[1] - w[0]) / max_step).ceil().max(1.0) as usize;
-        for i in 1..=pieces {
-            let x1 = if i == pieces {
-                w[1]
-            } else {
-                w[0] + (w[1] - w[0]) * i as f64 / pieces as f64
-            };
-            // Depth-first bisection of [last, x1], emitting samples in order.
-            let mut pending = vec![sample(x1)];
-            while let Some(right) = pending.pop() {
-                let left = out.last().expect("first station pushed above");
-                let dx = right.x - left.x;
-                let refine = dx > min_step && {
-                    let xm = 0.5 * (left.x + right.x);
-                    let mid = sample(xm);
-                    let mut worst = ring_deviation(&mid.points, &left.points, &right.points, 0.5);
-                    if worst <= tolerance {
-                        for t in [0.25, 0.75] {
-                            let q = sample(left.x + t * dx);
-                            worst = worst.max(ring_deviation(
-                                &q.points,
-                                &left.points,
-                                &right.points,
-                                t,
-                            ));
-                        }
-                    }
-                    worst > tolerance
-                };
-                if refine {
-                    let mid = sample(0.5 * (left.x + right.x));
-                    pending.push(right);
-                    pending.push(mid);
+    let too_many = std::sync::atomic::AtomicBool::new(false);
+    // Each interval between breaks is refined on its own (in parallel); the
+    // samples are joined in order, so the result does not depend on threads.
+    let parts: Vec<Vec<Sample>> = breaks
+        .par_windows(2)
+        .map(|w| {
+            let mut out: Vec<Sample> = vec![sample(w[0])];
+            let pieces = ((w[1] - w[0]) / max_step).ceil().max(1.0) as usize;
+            for i in 1..=pieces {
+                let x1 = if i == pieces {
+                    w[1]
                 } else {
-                    out.push(right);
-                    if out.len() > limit_stations {
-                        return Err(MeshError::TooLarge {
-                            estimate: out.len() * 2 * ring.len(),
-                            limit: MAX_TRIANGLES,
-                        });
+                    w[0] + (w[1] - w[0]) * i as f64 / pieces as f64
+                };
+                // Depth-first bisection of [last, x1], emitting samples in order.
+                let mut pending = vec![sample(x1)];
+                while let Some(right) = pending.pop() {
+                    let left = out.last().expect("first station pushed above");
+                    let dx = right.x - left.x;
+                    let refine = dx > min_step && {
+                        let mid = sample(left.x + 0.5 * dx);
+                        let mut worst =
+                            ring_deviation(&mid.points, &left.points, &right.points, 0.5);
+                        if worst <= tolerance {
+                            for t in [0.25, 0.75] {
+                                let q = sample(left.x + t * dx);
+                                worst = worst.max(ring_deviation(
+                                    &q.points,
+                                    &left.points,
+                                    &right.points,
+                                    t,
+                                ));
+                            }
+                        }
+                        worst > tolerance
+                    };
+                    if refine {
+                        let mid = sample(0.5 * (left.x + right.x));
+                        pending.push(right);
+                        pending.push(mid);
+                    } else {
+                        out.push(right);
+                        if out.len() > limit_stations
+                            || too_many.load(std::sync::atomic::Ordering::Relaxed)
+                        {
+                            too_many.store(true, std::sync::atomic::Ordering::Relaxed);
+                            return out;
+                        }
                     }
                 }
             }
-        }
+            out
+        })
+        .collect();
+    let mut out: Vec<Sample> = Vec::new();
+    for part in parts {
+        let skip = usize::from(!out.is_empty());
+        out.extend(part.into_iter().skip(skip));
+    }
+    if too_many.into_inner() || out.len() > limit_stations {
+        return Err(MeshError::TooLarge {
+            estimate: out.len() * 2 * ring.len(),
+            limit: MAX_TRIANGLES,
+        });
     }
     Ok(out)
 }

@@ -47,44 +47,120 @@ pub struct Integral {
 
 /// One Gauss-Kronrod pass over [a, b]: (Kronrod value, |Kronrod - Gauss|).
 pub fn gauss_kronrod(f: &mut impl FnMut(f64) -> f64, a: f64, b: f64) -> (f64, f64) {
+    let (v, e) = gauss_kronrod_n(&mut |x| [f(x)], a, b);
+    (v[0], e)
+}
+
+/// One pass for a vector integrand; the error estimate is of component 0.
+pub fn gauss_kronrod_n<const N: usize>(
+    f: &mut impl FnMut(f64) -> [f64; N],
+    a: f64,
+    b: f64,
+) -> ([f64; N], f64) {
     let c = 0.5 * (a + b);
     let h = 0.5 * (b - a);
     let fc = f(c);
-    let mut kronrod = WGK[7] * fc;
-    let mut gauss = WG[3] * fc;
+    let mut kronrod = fc.map(|v| WGK[7] * v);
+    let mut gauss = WG[3] * fc[0];
     for j in 0..7 {
         let dx = h * XGK[j];
-        let s = f(c - dx) + f(c + dx);
-        kronrod += WGK[j] * s;
+        let (lo, hi) = (f(c - dx), f(c + dx));
+        for k in 0..N {
+            kronrod[k] += WGK[j] * (lo[k] + hi[k]);
+        }
         if j % 2 == 1 {
-            gauss += WG[j / 2] * s;
+            gauss += WG[j / 2] * (lo[0] + hi[0]);
         }
     }
-    (kronrod * h, ((kronrod - gauss) * h).abs())
+    let error = ((kronrod[0] - gauss) * h).abs();
+    (kronrod.map(|v| v * h), error)
 }
 
-struct Piece {
-    a: f64,
-    b: f64,
-    value: f64,
-    error: f64,
+/// A piece of an adaptive integration: its interval, values and error.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Piece<const N: usize> {
+    /// Start.
+    pub a: f64,
+    /// End.
+    pub b: f64,
+    /// The integral of each component over [a, b].
+    pub value: [f64; N],
+    /// Error estimate of component 0.
+    pub error: f64,
 }
 
-impl PartialEq for Piece {
+struct Pending<const N: usize>(Piece<N>);
+
+impl<const N: usize> PartialEq for Pending<N> {
     fn eq(&self, other: &Self) -> bool {
-        self.error == other.error
+        self.0.error == other.0.error
     }
 }
-impl Eq for Piece {}
-impl PartialOrd for Piece {
+impl<const N: usize> Eq for Pending<N> {}
+impl<const N: usize> PartialOrd for Pending<N> {
     fn partial_cmp(&self, other: &Self) -> Option<Ordering> {
         Some(self.cmp(other))
     }
 }
-impl Ord for Piece {
+impl<const N: usize> Ord for Pending<N> {
     fn cmp(&self, other: &Self) -> Ordering {
-        self.error.total_cmp(&other.error)
+        self.0.error.total_cmp(&other.0.error)
     }
+}
+
+/// Integrates a vector integrand over the pieces between consecutive
+/// `breaks` until the summed error of component 0 meets `tolerance` (at
+/// most `max_splits` splits); returns the final pieces in order along the axis.
+pub fn integrate_pieces<const N: usize>(
+    mut f: impl FnMut(f64) -> [f64; N],
+    breaks: &[f64],
+    tolerance: f64,
+    max_splits: usize,
+) -> Vec<Piece<N>> {
+    let mut heap = BinaryHeap::new();
+    let mut error = 0.0;
+    for w in breaks.windows(2) {
+        if w[1] > w[0] {
+            let (value, e) = gauss_kronrod_n(&mut f, w[0], w[1]);
+            error += e;
+            heap.push(Pending(Piece {
+                a: w[0],
+                b: w[1],
+                value,
+                error: e,
+            }));
+        }
+    }
+    let mut splits = 0;
+    while error > tolerance && splits < max_splits {
+        let Some(Pending(worst)) = heap.pop() else {
+            break;
+        };
+        let m = 0.5 * (worst.a + worst.b);
+        if m <= worst.a || m >= worst.b {
+            heap.push(Pending(worst));
+            break;
+        }
+        let (v1, e1) = gauss_kronrod_n(&mut f, worst.a, m);
+        let (v2, e2) = gauss_kronrod_n(&mut f, m, worst.b);
+        error += e1 + e2 - worst.error;
+        heap.push(Pending(Piece {
+            a: worst.a,
+            b: m,
+            value: v1,
+            error: e1,
+        }));
+        heap.push(Pending(Piece {
+            a: m,
+            b: worst.b,
+            value: v2,
+            error: e2,
+        }));
+        splits += 1;
+    }
+    let mut pieces: Vec<Piece<N>> = heap.into_iter().map(|p| p.0).collect();
+    pieces.sort_by(|p, q| p.a.total_cmp(&q.a));
+    pieces
 }
 
 /// Integrates `f` over the pieces between consecutive `breaks` (sorted;
@@ -96,56 +172,11 @@ pub fn integrate(
     tolerance: f64,
     max_splits: usize,
 ) -> Integral {
-    let mut heap = BinaryHeap::new();
-    let mut value = 0.0;
-    let mut error = 0.0;
-    for w in breaks.windows(2) {
-        if w[1] > w[0] {
-            let (v, e) = gauss_kronrod(&mut f, w[0], w[1]);
-            value += v;
-            error += e;
-            heap.push(Piece {
-                a: w[0],
-                b: w[1],
-                value: v,
-                error: e,
-            });
-        }
-    }
-    let mut splits = 0;
-    while error > tolerance && splits < max_splits {
-        let Some(worst) = heap.pop() else { break };
-        let m = 0.5 * (worst.a + worst.b);
-        if m <= worst.a || m >= worst.b {
-            heap.push(worst);
-            break;
-        }
-        let (v1, e1) = gauss_kronrod(&mut f, worst.a, m);
-        let (v2, e2) = gauss_kronrod(&mut f, m, worst.b);
-        value += v1 + v2 - worst.value;
-        error += e1 + e2 - worst.error;
-        heap.push(Piece {
-            a: worst.a,
-            b: m,
-            value: v1,
-            error: e1,
-        });
-        heap.push(Piece {
-            a: m,
-            b: worst.b,
-            value: v2,
-            error: e2,
-        });
-        splits += 1;
-    }
-    // Re-sum to shed the rounding of the running updates.
-    let (value_sum, error_sum) = heap
-        .iter()
-        .fold((0.0, 0.0), |(v, e), p| (v + p.value, e + p.error));
-    let _ = value;
+    let pieces = integrate_pieces(|x| [f(x)], breaks, tolerance, max_splits);
+    // Summed along the axis, so the result does not depend on split order.
     Integral {
-        value: value_sum,
-        error: error_sum,
+        value: pieces.iter().map(|p| p.value[0]).sum(),
+        error: pieces.iter().map(|p| p.error).sum(),
     }
 }
 

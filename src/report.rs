@@ -189,10 +189,10 @@ impl Report {
             euler_characteristic: c.topology.euler_characteristic,
             surface_area_m2: c.measures.area * 1e-6,
             planform_area_m2: integrals::planform_area(board) * 1e-6,
-            centre_of_volume_from_nose_mm: integrals::centre_of_volume(board),
+            centre_of_volume_from_nose_mm: c.profile.centre_of_volume(),
             bbox_mm: Bounds { min: lo, max: hi },
-            litres_per_foot: pieces(integrals::litres_along(board, MM_PER_FOOT)),
-            litres_per_300mm: pieces(integrals::litres_along(board, 300.0)),
+            litres_per_foot: pieces(c.profile.litres_along(l, MM_PER_FOOT)),
+            litres_per_300mm: pieces(c.profile.litres_along(l, 300.0)),
             stations: measurements(board, 6.0 * MM_PER_INCH),
             stl,
         }

@@ -9,6 +9,7 @@
 //! round rail), large exponents are boxy above or hard and tucked below.
 
 use crate::board::{Station, superellipse};
+
 use crate::quadrature;
 
 impl Station {
@@ -87,53 +88,57 @@ impl Station {
         [self.half_width, self.apex_height()]
     }
 
-    /// Height between deck and bottom at fraction `u`, per unit closing.
-    fn depth(&self, u: f64) -> f64 {
-        (self.h_up() - self.dome * u * u) * superellipse(u, self.n_up)
-            + (self.h_low() - self.contour(u)) * superellipse(u, self.n_low)
-    }
-
     /// Area of the cross-section (both halves), integrated from the
     /// continuous curves, independent of any mesh.
+    ///
+    /// The deck and bottom terms are integrated apart, each after the
+    /// substitution u = 1 − sⁿ for its own exponent n: the superellipse
+    /// (1 − uⁿ)^(1/n) then runs linearly in s at the apex instead of with an
+    /// infinite slope, and Gauss-Kronrod converges in a few panels.
     pub fn area(&self) -> f64 {
         let u0 = self.u_start();
         if self.half_width <= 0.0 || self.closing <= 0.0 || u0 >= 1.0 {
             return 0.0;
         }
         let scale = 2.0 * self.half_width * self.closing;
-        // The u-integral is of the order of the thickness; 1e-9 of it is far
-        // below anything a volume in litres can show.
-        let tolerance = 1e-9 * (self.thickness.abs() + 1e-3);
-        let mut spans: Vec<f64> = self.contours.iter().map(|(_, c)| c.span).collect();
-        let integral = if self.n_up.is_infinite() {
-            spans.retain(|&s| s > u0 && s < 1.0);
-            let mut breaks = vec![u0];
-            breaks.extend(spans);
-            breaks.push(1.0);
-            breaks.sort_by(f64::total_cmp);
-            quadrature::integrate(|u| self.depth(u), &breaks, tolerance, 2000).value
-        } else {
-            // u = 1 - s^2 takes the square-root edge of the superellipse
-            // at the apex out of the integrand.
-            let s_max = (1.0 - u0).sqrt();
-            let mut breaks = vec![0.0, s_max];
-            breaks.extend(
-                spans
-                    .iter()
-                    .filter(|&&sp| sp > u0 && sp < 1.0)
-                    .map(|&sp| (1.0 - sp).sqrt()),
-            );
-            breaks.sort_by(f64::total_cmp);
-            quadrature::integrate(
-                |s| self.depth(1.0 - s * s) * 2.0 * s,
-                &breaks,
-                tolerance,
-                2000,
-            )
-            .value
-        };
-        scale * integral
+        let spans: Vec<f64> = self.contours.iter().map(|(_, c)| c.span).collect();
+        let up = |u: f64| self.h_up() - self.dome * u * u;
+        let low = |u: f64| self.h_low() - self.contour(u);
+        scale * (term(up, self.n_up, u0, &[]) + term(low, self.n_low, u0, &spans))
     }
+}
+
+/// ∫ from u0 to 1 of g(u)·(1 − uⁿ)^(1/n) du, with kinks of g at `kinks`.
+fn term(g: impl Fn(f64) -> f64, n: f64, u0: f64, kinks: &[f64]) -> f64 {
+    // The integral is of the order of the thickness; 1e-9 of g(u0) is far
+    // below anything a volume in litres can show.
+    let tolerance = 1e-9 * (g(u0).abs() + 1e-6);
+    let inside = |k: &&f64| **k > u0 && **k < 1.0;
+    if n.is_infinite() {
+        let mut breaks: Vec<f64> = kinks.iter().filter(inside).copied().collect();
+        breaks.push(u0);
+        breaks.push(1.0);
+        breaks.sort_by(f64::total_cmp);
+        return quadrature::integrate(g, &breaks, tolerance, 500).value;
+    }
+    let s_of = |u: f64| (1.0 - u).powf(1.0 / n);
+    let mut breaks: Vec<f64> = kinks.iter().filter(inside).map(|&k| s_of(k)).collect();
+    breaks.push(0.0);
+    breaks.push(s_of(u0));
+    breaks.sort_by(f64::total_cmp);
+    quadrature::integrate(
+        |s| {
+            let sn1 = s.powf(n - 1.0);
+            let w = sn1 * s;
+            // 1 − uⁿ for u = 1 − w, without cancellation when w is small.
+            let one_minus = -(n * (-w).ln_1p()).exp_m1();
+            g(1.0 - w) * one_minus.max(0.0).powf(1.0 / n) * n * sn1
+        },
+        &breaks,
+        tolerance,
+        500,
+    )
+    .value
 }
 
 #[cfg(test)]

@@ -7,6 +7,8 @@
 
 use std::io::{self, Write};
 
+use rayon::prelude::*;
+
 use crate::mesh::{Mesh, cross, norm, sub};
 
 fn facet_normal(c: &[[f64; 3]; 3]) -> [f32; 3] {
@@ -39,21 +41,23 @@ pub fn write_binary(mut out: impl Write, mesh: &Mesh, header: &str) -> io::Resul
             "more triangles than binary STL can count",
         )
     })?;
-    let mut buf = Vec::with_capacity(84 + 50 * mesh.triangles.len());
-    buf.extend_from_slice(&head);
-    buf.extend_from_slice(&count.to_le_bytes());
-    for t in &mesh.triangles {
-        let c = mesh.corners(t);
-        let mut facet = [0u8; 50];
-        let n = facet_normal(&c);
-        let values = [n[0], n[1], n[2]]
-            .into_iter()
-            .chain(c.iter().flat_map(|p| p.iter().map(|&v| v as f32)));
-        for (k, v) in values.enumerate() {
-            facet[4 * k..4 * k + 4].copy_from_slice(&v.to_le_bytes());
-        }
-        buf.extend_from_slice(&facet);
-    }
+    let mut buf = vec![0u8; 84 + 50 * mesh.triangles.len()];
+    buf[..80].copy_from_slice(&head);
+    buf[80..84].copy_from_slice(&count.to_le_bytes());
+    // Each facet fills its own 50 bytes, so the facets can be filled in parallel.
+    buf[84..]
+        .par_chunks_mut(50)
+        .zip(mesh.triangles.par_iter())
+        .for_each(|(facet, t)| {
+            let c = mesh.corners(t);
+            let n = facet_normal(&c);
+            let values = [n[0], n[1], n[2]]
+                .into_iter()
+                .chain(c.iter().flat_map(|p| p.iter().map(|&v| v as f32)));
+            for (k, v) in values.enumerate() {
+                facet[4 * k..4 * k + 4].copy_from_slice(&v.to_le_bytes());
+            }
+        });
     out.write_all(&buf)
 }
 

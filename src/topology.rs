@@ -1,6 +1,8 @@
 //! Edge topology of a triangle mesh: is it a closed, consistently oriented
 //! surface without degenerate or repeated triangles?
 
+use rayon::prelude::*;
+
 use crate::mesh::{Mesh, cross, dot, norm, sub};
 
 /// What the edge structure of a mesh says about it.
@@ -81,7 +83,7 @@ fn bucket<T: Copy + Default>(
 pub fn analyse(mesh: &Mesh) -> Topology {
     let nv = mesh.vertices.len();
     let tris = &mesh.triangles;
-    let degenerate = tris.iter().filter(|t| is_degenerate(mesh, t)).count();
+    let degenerate = tris.par_iter().filter(|t| is_degenerate(mesh, t)).count();
     let edge_items = tris.iter().flat_map(|t| {
         (0..3).map(move |k| {
             let (a, b) = (t[k], t[(k + 1) % 3]);
