@@ -18,17 +18,18 @@ impl Station {
         self.thickness - self.dome
     }
 
-    /// Height of the rail apex (unchanged by profile closing).
+    /// Height of the rail apex.
     pub fn apex_height(&self) -> f64 {
-        self.bottom + self.apex * self.rail_band()
+        self.bottom + self.closing * self.h_low()
     }
 
-    /// Depth of the bottom below the apex at the stringer, before contours.
+    /// Depth of the bottom below the apex at the stringer, before contours
+    /// and closing.
     fn h_low(&self) -> f64 {
         self.apex * self.rail_band()
     }
 
-    /// Height of the deck above the apex at the stringer.
+    /// Height of the deck above the apex at the stringer, before closing.
     fn h_up(&self) -> f64 {
         self.thickness - self.apex * self.rail_band()
     }
@@ -62,24 +63,26 @@ impl Station {
     }
 
     /// Point (y, z) on the bottom at fraction `u` of the half-width.
+    ///
+    /// Heights are measured up from the stringer's bottom and scaled there
+    /// by the profile closing, so the rocker curve holds right to the tips.
     pub fn lower(&self, u: f64) -> [f64; 2] {
         let s = superellipse(u, self.n_low);
-        let z = self.apex_height() - self.closing * (self.h_low() - self.contour(u)) * s;
-        [u * self.half_width, z]
+        let rise = self.h_low() - (self.h_low() - self.contour(u)) * s;
+        [u * self.half_width, self.bottom + self.closing * rise]
     }
 
     /// Point (y, z) on the deck at fraction `u` of the half-width.
     pub fn upper(&self, u: f64) -> [f64; 2] {
         let s = superellipse(u, self.n_up);
-        let z = self.apex_height() + self.closing * (self.h_up() - self.dome * u * u) * s;
-        [u * self.half_width, z]
+        let rise = self.h_low() + (self.h_up() - self.dome * u * u) * s;
+        [u * self.half_width, self.bottom + self.closing * rise]
     }
 
     /// The bottom and deck corners of a square rail at the apex line.
     pub fn square_corners(&self) -> ([f64; 2], [f64; 2]) {
-        let a = self.apex_height();
-        let low = a - self.closing * (self.h_low() - self.contour(1.0));
-        let up = a + self.closing * (self.h_up() - self.dome);
+        let low = self.bottom + self.closing * self.contour(1.0);
+        let up = self.bottom + self.closing * (self.thickness - self.dome);
         ([self.half_width, low], [self.half_width, up])
     }
 
