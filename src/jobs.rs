@@ -9,6 +9,7 @@ use crate::board::Board;
 use crate::certificate::{self, Certified};
 use crate::demo;
 use crate::description::{self, DescriptionError};
+use crate::inspect::{self, Inspection};
 use crate::mesher::MeshError;
 use crate::output;
 use crate::report::Report;
@@ -32,6 +33,17 @@ pub enum JobError {
     /// The board could not be meshed.
     #[error("{0}")]
     Mesh(#[from] MeshError),
+    /// An STL file could not be read.
+    #[error("{path}: {source}")]
+    Stl {
+        /// The file.
+        path: String,
+        /// What is wrong with it.
+        source: stl::StlError,
+    },
+    /// A command-line value is out of range.
+    #[error("{0}")]
+    Option(String),
     /// A file could not be written.
     #[error("{path}: cannot write: {source}")]
     Write {
@@ -40,6 +52,22 @@ pub enum JobError {
         /// What the system said.
         source: std::io::Error,
     },
+}
+
+/// Reads and inspects an STL file, welding at `weld` mm (default from its size).
+pub fn check(path: &Path, weld: Option<f64>) -> Result<Inspection, JobError> {
+    let soup = stl::read_file(path).map_err(|source| JobError::Stl {
+        path: path.display().to_string(),
+        source,
+    })?;
+    if let Some(w) = weld
+        && !(w.is_finite() && (0.0..=10.0).contains(&w))
+    {
+        return Err(JobError::Option(format!(
+            "--weld {w} mm is outside 0..10 mm"
+        )));
+    }
+    Ok(inspect::inspect_soup(&soup, weld).1)
 }
 
 /// Reads the board an input names.

@@ -1,6 +1,6 @@
 //! The `blanksmith` command: parses arguments, calls the library, prints
-//! once. Exit codes: 0 done, 1 findings (the volume certificate failed),
-//! 2 bad input or a system error.
+//! once. Exit codes: 0 done, 1 findings (the volume certificate failed, or
+//! `check` found problems), 2 bad input or a system error.
 
 use std::path::PathBuf;
 use std::process::ExitCode;
@@ -47,6 +47,19 @@ enum Command {
         /// Chord tolerance of the mesh, mm.
         #[arg(long, default_value_t = DEFAULT_TOLERANCE)]
         tolerance: f64,
+    },
+    /// Inspect an STL file: closed? which way out? how many litres? Exit 1
+    /// when it has findings.
+    Check {
+        /// Binary or ASCII STL, millimetres.
+        mesh: PathBuf,
+        /// Print JSON instead of text.
+        #[arg(long)]
+        json: bool,
+        /// Weld tolerance for vertices on open edges, mm (default: a millionth
+        /// of the model's diagonal, at least 0.001 mm).
+        #[arg(long)]
+        weld: Option<f64>,
     },
     /// The main job: every output for a board into DIR/<name>/. With no
     /// board, the built-in demo.
@@ -117,6 +130,19 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             } else {
                 Ok(finish(&m, true))
             }
+        }
+        Command::Check { mesh, json, weld } => {
+            let inspection = jobs::check(&mesh, weld)?;
+            if json {
+                print!("{}", inspection.to_json());
+            } else {
+                print!("{}", inspection.text(&mesh.display().to_string()));
+            }
+            Ok(if inspection.is_clean() {
+                ExitCode::SUCCESS
+            } else {
+                ExitCode::from(1)
+            })
         }
         Command::Make {
             board,

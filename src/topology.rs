@@ -75,68 +75,121 @@ fn bucket<T: Copy + Default>(
     (start, out)
 }
 
+/// One use of an edge by a triangle.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, PartialOrd, Ord)]
+pub struct EdgeUse {
+    /// The edge's higher vertex (the lower one is the bucket).
+    pub hi: u32,
+    /// Whether the triangle runs along it from high to low.
+    pub backward: bool,
+    /// The triangle.
+    pub triangle: u32,
+}
+
+/// Every edge use of a mesh, grouped by the edge's lower vertex (a counting
+/// sort, linear time) and sorted within each group.
+pub struct EdgeTable {
+    start: Vec<usize>,
+    uses: Vec<EdgeUse>,
+}
+
+/// An undirected edge and the triangles that use it.
+pub struct Edge<'a> {
+    /// Lower vertex.
+    pub lo: u32,
+    /// Higher vertex.
+    pub hi: u32,
+    /// The uses (one per triangle side on this edge).
+    pub uses: &'a [EdgeUse],
+}
+
+impl Edge<'_> {
+    /// A closed, consistent edge: two uses running opposite ways.
+    pub fn is_manifold(&self) -> bool {
+        self.uses.len() == 2 && self.uses[0].backward != self.uses[1].backward
+    }
+}
+
+impl EdgeTable {
+    /// Builds the table.
+    pub fn new(mesh: &Mesh) -> EdgeTable {
+        let items = mesh.triangles.iter().enumerate().flat_map(|(i, t)| {
+            (0..3).map(move |k| {
+                let (a, b) = (t[k], t[(k + 1) % 3]);
+                let (lo, hi, backward) = if a < b { (a, b, false) } else { (b, a, true) };
+                (
+                    lo,
+                    EdgeUse {
+                        hi,
+                        backward,
+                        triangle: i as u32,
+                    },
+                )
+            })
+        });
+        let (start, mut uses) = bucket(mesh.vertices.len(), items);
+        for w in start.windows(2) {
+            uses[w[0]..w[1]].sort_unstable();
+        }
+        EdgeTable { start, uses }
+    }
+
+    /// Every undirected edge, by lower then higher vertex.
+    pub fn edges(&self) -> impl Iterator<Item = Edge<'_>> + '_ {
+        (0..self.start.len() - 1).flat_map(move |lo| {
+            let group = &self.uses[self.start[lo]..self.start[lo + 1]];
+            let mut i = 0;
+            std::iter::from_fn(move || {
+                if i >= group.len() {
+                    return None;
+                }
+                let hi = group[i].hi;
+                let j = i + group[i..].iter().take_while(|u| u.hi == hi).count();
+                let e = Edge {
+                    lo: lo as u32,
+                    hi,
+                    uses: &group[i..j],
+                };
+                i = j;
+                Some(e)
+            })
+        })
+    }
+
+    /// Vertices on edges used by one triangle only, ascending.
+    pub fn open_vertices(&self) -> Vec<u32> {
+        let mut v: Vec<u32> = self
+            .edges()
+            .filter(|e| e.uses.len() == 1)
+            .flat_map(|e| [e.lo, e.hi])
+            .collect();
+        v.sort_unstable();
+        v.dedup();
+        v
+    }
+}
+
 /// Counts edges, open and non-manifold edges, orientation conflicts,
 /// degenerate and duplicate triangles, and the Euler characteristic.
-///
-/// Edges are grouped by their lower vertex (a counting sort, linear time),
-/// then matched within each small group.
 pub fn analyse(mesh: &Mesh) -> Topology {
     let nv = mesh.vertices.len();
     let tris = &mesh.triangles;
     let degenerate = tris.par_iter().filter(|t| is_degenerate(mesh, t)).count();
-    let edge_items = tris.iter().flat_map(|t| {
-        (0..3).map(move |k| {
-            let (a, b) = (t[k], t[(k + 1) % 3]);
-            // The higher vertex and the direction (bit 0: runs high to low).
-            if a < b {
-                (a, (b as u64) << 1)
-            } else {
-                (b, ((a as u64) << 1) | 1)
-            }
-        })
-    });
-    let (start, mut ends) = bucket(nv, edge_items);
+    let table = EdgeTable::new(mesh);
     let (mut edges, mut open, mut non_manifold, mut inconsistent) = (0, 0, 0, 0);
     let mut used = vec![false; nv];
-    for lo in 0..nv {
-        let group = &mut ends[start[lo]..start[lo + 1]];
-        if group.is_empty() {
-            continue;
-        }
-        used[lo] = true;
-        group.sort_unstable();
-        let mut i = 0;
-        while i < group.len() {
-            let hi = group[i] >> 1;
-            used[hi as usize] = true;
-            let mut j = i;
-            let mut backward = 0;
-            while j < group.len() && group[j] >> 1 == hi {
-                backward += (group[j] & 1) as usize;
-                j += 1;
-            }
-            edges += 1;
-            match j - i {
-                1 => open += 1,
-                2 if backward != 1 => inconsistent += 1,
-                2 => {}
-                _ => non_manifold += 1,
-            }
-            i = j;
+    for e in table.edges() {
+        used[e.lo as usize] = true;
+        used[e.hi as usize] = true;
+        edges += 1;
+        match e.uses.len() {
+            1 => open += 1,
+            2 if !e.is_manifold() => inconsistent += 1,
+            2 => {}
+            _ => non_manifold += 1,
         }
     }
-    let tri_items = tris.iter().map(|t| {
-        let mut s = *t;
-        s.sort_unstable();
-        (s[0], ((s[1] as u64) << 32) | s[2] as u64)
-    });
-    let (tstart, mut rest) = bucket(nv, tri_items);
-    let mut duplicates = 0;
-    for lo in 0..nv {
-        let group = &mut rest[tstart[lo]..tstart[lo + 1]];
-        group.sort_unstable();
-        duplicates += group.windows(2).filter(|w| w[0] == w[1]).count();
-    }
+    let duplicates = duplicate_triangles(mesh).len();
     let vertices = used.iter().filter(|&&u| u).count();
     Topology {
         vertices,
@@ -149,6 +202,29 @@ pub fn analyse(mesh: &Mesh) -> Topology {
         duplicate_triangles: duplicates,
         euler_characteristic: vertices as i64 - edges as i64 + tris.len() as i64,
     }
+}
+
+/// Triangles that repeat an earlier triangle's three vertices (any order).
+pub fn duplicate_triangles(mesh: &Mesh) -> Vec<u32> {
+    let tri_items = mesh.triangles.iter().enumerate().map(|(i, t)| {
+        let mut s = *t;
+        s.sort_unstable();
+        (s[0], (((s[1] as u64) << 32) | s[2] as u64, i as u32))
+    });
+    let (start, mut rest) = bucket(mesh.vertices.len(), tri_items);
+    let mut out = vec![];
+    for w in start.windows(2) {
+        let group = &mut rest[w[0]..w[1]];
+        group.sort_unstable();
+        out.extend(
+            group
+                .windows(2)
+                .filter(|p| p[0].0 == p[1].0)
+                .map(|p| p[1].1),
+        );
+    }
+    out.sort_unstable();
+    out
 }
 
 #[cfg(test)]

@@ -54,6 +54,20 @@ pub fn volume(mesh: &Mesh) -> f64 {
     partial.iter().sum::<f64>() / 6.0
 }
 
+/// The divergence sum of each labelled piece (`labels[t]` < `pieces`), mm³.
+pub fn volumes_by_label(mesh: &Mesh, labels: &[usize], pieces: usize) -> Vec<f64> {
+    let o = local_origin(mesh);
+    let v = &mesh.vertices;
+    let mut six_v = vec![0.0; pieces];
+    for (t, &c) in mesh.triangles.iter().zip(labels) {
+        let a = sub(v[t[0] as usize], o);
+        let b = sub(v[t[1] as usize], o);
+        let d = sub(v[t[2] as usize], o);
+        six_v[c] += dot(a, cross(b, d));
+    }
+    six_v.into_iter().map(|x| x / 6.0).collect()
+}
+
 /// Volume, surface area and centre of volume.
 pub fn measure(mesh: &Mesh) -> Measures {
     let o = local_origin(mesh);

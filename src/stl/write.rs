@@ -1,9 +1,4 @@
-//! STL output (binary by default, ASCII on request), millimetres.
-//!
-//! Binary STL: an 80-byte header, a little-endian u32 facet count, then
-//! 50 bytes a facet (normal and three vertices as f32, a u16 attribute);
-//! ASCII: `solid … facet normal … outer loop … vertex … endloop endfacet …
-//! endsolid`. STL carries no unit; every file this tool writes is in mm.
+//! STL writers, generic over `Write` (see the module above for the layout).
 
 use std::io::{self, Write};
 

@@ -1,0 +1,169 @@
+//! Welding a triangle soup into a shared-vertex mesh.
+//!
+//! First, corners with bit-identical coordinates become one vertex (−0.0 is
+//! taken as 0.0). Then vertices still on open edges — where a crack left by
+//! rounding in an exporter shows up — are merged with any other such vertex
+//! within the weld tolerance, found with a k-d tree (kiddo). Vertices of a
+//! closed surface are never moved: a short edge is geometry, not a crack.
+
+use kiddo::{ImmutableKdTree, SquaredEuclidean};
+use rayon::prelude::*;
+use rustc_hash::FxHashMap;
+
+use crate::mesh::Mesh;
+use crate::topology::EdgeTable;
+
+/// A welded mesh and what welding did.
+#[derive(Debug, Clone)]
+pub struct Welded {
+    /// The mesh (f64 coordinates, shared vertices).
+    pub mesh: Mesh,
+    /// Soup corners that landed on an existing vertex exactly.
+    pub exact_merges: usize,
+    /// Vertices merged by the tolerance.
+    pub near_merges: usize,
+    /// The tolerance used, mm.
+    pub tolerance: f64,
+}
+
+/// A default weld tolerance for a model: a millionth of its bounding-box
+/// diagonal, at least 1 µm (about ten float steps at two metres).
+pub fn default_tolerance(soup: &[[[f32; 3]; 3]]) -> f64 {
+    let mut lo = [f64::INFINITY; 3];
+    let mut hi = [f64::NEG_INFINITY; 3];
+    for p in soup.iter().flatten() {
+        for k in 0..3 {
+            lo[k] = lo[k].min(p[k] as f64);
+            hi[k] = hi[k].max(p[k] as f64);
+        }
+    }
+    let d = (0..3).map(|k| (hi[k] - lo[k]).powi(2)).sum::<f64>().sqrt();
+    if d.is_finite() {
+        (1e-6 * d).max(1e-3)
+    } else {
+        1e-3
+    }
+}
+
+fn key(p: &[f32; 3]) -> [u32; 3] {
+    // +0.0 and −0.0 are the same point.
+    p.map(|v| if v == 0.0 { 0 } else { v.to_bits() })
+}
+
+fn find(parent: &mut [u32], mut i: u32) -> u32 {
+    while parent[i as usize] != i {
+        parent[i as usize] = parent[parent[i as usize] as usize];
+        i = parent[i as usize];
+    }
+    i
+}
+
+/// Welds `soup` with `tolerance` mm (0 for exact only).
+pub fn weld(soup: &[[[f32; 3]; 3]], tolerance: f64) -> Welded {
+    let mut index: FxHashMap<[u32; 3], u32> = FxHashMap::default();
+    index.reserve(soup.len() / 2 + 3);
+    let mut vertices: Vec<[f64; 3]> = Vec::with_capacity(soup.len() / 2 + 3);
+    let mut triangles = Vec::with_capacity(soup.len());
+    for t in soup {
+        let mut ids = [0u32; 3];
+        for (k, p) in t.iter().enumerate() {
+            ids[k] = *index.entry(key(p)).or_insert_with(|| {
+                vertices.push([p[0] as f64, p[1] as f64, p[2] as f64]);
+                (vertices.len() - 1) as u32
+            });
+        }
+        triangles.push(ids);
+    }
+    let exact_merges = 3 * soup.len() - vertices.len();
+    let mut mesh = Mesh {
+        vertices,
+        triangles,
+    };
+    let mut near_merges = 0;
+    if tolerance > 0.0 {
+        let open = EdgeTable::new(&mesh).open_vertices();
+        if open.len() > 1 {
+            let pts: Vec<[f64; 3]> = open.iter().map(|&v| mesh.vertices[v as usize]).collect();
+            let tree: ImmutableKdTree<f64, 3> =
+                ImmutableKdTree::new_from_slice(&pts).expect("finite points");
+            let r2 = tolerance * tolerance;
+            let near: Vec<Vec<u32>> = pts
+                .par_iter()
+                .map(|p| {
+                    let found = tree
+                        .query(p)
+                        .within::<SquaredEuclidean<f64>>(r2)
+                        .unsorted()
+                        .execute();
+                    found.iter().map(|f| f.item as u32).collect()
+                })
+                .collect();
+            // Union-find over the open vertices; the lowest vertex id stands for each group.
+            let mut parent: Vec<u32> = (0..mesh.vertices.len() as u32).collect();
+            for (i, group) in near.iter().enumerate() {
+                for &j in group {
+                    let (a, b) = (
+                        find(&mut parent, open[i]),
+                        find(&mut parent, open[j as usize]),
+                    );
+                    if a != b {
+                        parent[a.max(b) as usize] = a.min(b);
+                        near_merges += 1;
+                    }
+                }
+            }
+            if near_merges > 0 {
+                for t in &mut mesh.triangles {
+                    for v in t.iter_mut() {
+                        *v = find(&mut parent, *v);
+                    }
+                }
+                mesh = compact(mesh);
+            }
+        }
+    }
+    Welded {
+        mesh,
+        exact_merges,
+        near_merges,
+        tolerance,
+    }
+}
+
+/// Drops unused vertices, keeping the order of the rest.
+fn compact(mesh: Mesh) -> Mesh {
+    let mut new_id = vec![u32::MAX; mesh.vertices.len()];
+    let mut vertices = vec![];
+    let mut triangles = mesh.triangles;
+    for t in &mut triangles {
+        for v in t.iter_mut() {
+            if new_id[*v as usize] == u32::MAX {
+                new_id[*v as usize] = vertices.len() as u32;
+                vertices.push(mesh.vertices[*v as usize]);
+            }
+            *v = new_id[*v as usize];
+        }
+    }
+    Mesh {
+        vertices,
+        triangles,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn cracks_close_and_exact_corners_share() {
+        // Two triangles of a square whose shared edge is off by 1e-5 mm.
+        let soup = [
+            [[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [1.0, 1.0, 0.0]],
+            [[0.0, 0.0, -0.0], [1.00001, 1.0, 0.0], [0.0, 1.0, 0.0]],
+        ];
+        let exact = weld(&soup, 0.0);
+        assert_eq!((exact.mesh.vertices.len(), exact.exact_merges), (5, 1));
+        let w = weld(&soup, 1e-3);
+        assert_eq!((w.mesh.vertices.len(), w.near_merges), (4, 1));
+    }
+}
