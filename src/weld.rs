@@ -95,7 +95,7 @@ pub fn weld(soup: &[[[f32; 3]; 3]], tolerance: f64) -> Welded {
                         .within::<SquaredEuclidean<f64>>(r2)
                         .unsorted()
                         .execute();
-                    found.iter().map(|f| f.item as u32).collect()
+                    found.iter().map(|f| f.item).collect()
                 })
                 .collect();
             // Union-find over the open vertices; the lowest vertex id stands for each group.
