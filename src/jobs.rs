@@ -7,12 +7,15 @@ use std::path::{Path, PathBuf};
 
 use crate::board::Board;
 use crate::certificate::{self, Certified};
+use crate::contours::{self, SliceSet};
 use crate::demo;
 use crate::description::{self, DescriptionError};
 use crate::inspect::{self, Inspection};
+use crate::mesh::Mesh;
 use crate::mesher::MeshError;
 use crate::output;
 use crate::report::Report;
+use crate::slice::{Axis, Slice};
 use crate::stl;
 
 /// Where a board comes from.
@@ -170,4 +173,198 @@ pub fn make(input: &Input, tolerance: f64, out: &Path) -> Result<Meshed, JobErro
     let board = load(input)?;
     let dir = out.join(&board.name);
     mesh_to(board, tolerance, &dir, StlKind::Binary, true)
+}
+
+/// Something to cut or draw: a board description or a mesh from elsewhere.
+pub enum Design {
+    /// A board description (meshed on demand).
+    Board(Board),
+    /// A closed mesh read from STL, welded; x runs along the board.
+    Mesh {
+        /// File stem.
+        name: String,
+        /// The mesh.
+        mesh: Mesh,
+    },
+}
+
+impl Design {
+    /// Name for output files.
+    pub fn name(&self) -> &str {
+        match self {
+            Design::Board(b) => &b.name,
+            Design::Mesh { name, .. } => name,
+        }
+    }
+
+    /// The mesh to slice or cut (a board is meshed at `tolerance`).
+    pub fn mesh(&self, tolerance: f64) -> Result<Mesh, JobError> {
+        match self {
+            Design::Board(b) => Ok(crate::mesher::mesh_board(b, tolerance)?),
+            Design::Mesh { mesh, .. } => Ok(mesh.clone()),
+        }
+    }
+}
+
+/// Reads a design: `.stl` files as meshes (which must pass `check`), anything
+/// else as a board description.
+pub fn load_design(path: &Path) -> Result<Design, JobError> {
+    let is_stl = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("stl"));
+    if !is_stl {
+        return Ok(Design::Board(description::load(path)?));
+    }
+    let soup = stl::read_file(path).map_err(|source| JobError::Stl {
+        path: path.display().to_string(),
+        source,
+    })?;
+    let (welded, inspection) = inspect::inspect_soup(&soup, None);
+    if !inspection.watertight || inspection.inside_out {
+        let kinds: Vec<String> = inspection
+            .findings
+            .iter()
+            .map(|f| format!("{} {}", f.count, f.kind.replace('_', " ")))
+            .collect();
+        return Err(JobError::Option(format!(
+            "{}: not a clean closed solid ({}); run `blanksmith check` on it for where",
+            path.display(),
+            kinds.join(", ")
+        )));
+    }
+    let name: String = path
+        .file_stem()
+        .map(|s| {
+            s.to_string_lossy()
+                .chars()
+                .map(|c| {
+                    if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                        c
+                    } else {
+                        '-'
+                    }
+                })
+                .collect()
+        })
+        .unwrap_or_else(|| "mesh".to_string());
+    Ok(Design::Mesh {
+        name,
+        mesh: welded.mesh,
+    })
+}
+
+/// Cross-sections and waterlines of a design, and the files written.
+pub struct Sliced {
+    /// Cross-sections, in the order asked.
+    pub sections: Vec<Slice>,
+    /// Distance of each section from the nose, mm.
+    pub section_at: Vec<f64>,
+    /// Waterlines, from the bottom up.
+    pub waterlines: Vec<Slice>,
+    /// Height of each above the lowest point, mm.
+    pub waterline_at: Vec<f64>,
+    /// Files written.
+    pub written: Vec<PathBuf>,
+}
+
+/// Where `slice` cuts when no stations are asked for: 12 in (300 mm in a
+/// mm board) from the nose, the wide point (or centre), 12 in from the tail.
+pub fn default_stations(design: &Design, length: f64) -> Vec<f64> {
+    match design {
+        Design::Board(b) => vec![
+            b.tip_station,
+            b.outline.wide_point,
+            b.length - b.tip_station,
+        ],
+        Design::Mesh { .. } => {
+            let d = crate::units::MM_PER_FOOT.min(0.25 * length);
+            vec![d, 0.5 * length, length - d]
+        }
+    }
+}
+
+/// Slices `design` at `stations` (mm from the nose; default stations when
+/// empty) and, with `z_step`, at waterlines every `z_step` mm from the
+/// lowest point; writes SVG and CSV into `dir`.
+pub fn slice(
+    design: &Design,
+    stations: &[f64],
+    z_step: Option<f64>,
+    dir: &Path,
+) -> Result<Sliced, JobError> {
+    let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
+    let (lo, hi) = mesh
+        .bounding_box()
+        .ok_or_else(|| JobError::Option("the mesh is empty".into()))?;
+    let length = hi[0] - lo[0];
+    let section_at: Vec<f64> = if stations.is_empty() {
+        default_stations(design, length)
+    } else {
+        stations.to_vec()
+    };
+    if let Some(&bad) = section_at.iter().find(|&&x| !(0.0..=length).contains(&x)) {
+        return Err(JobError::Option(format!(
+            "station {} is off the board, which runs 0 to {} from the nose",
+            crate::units::Both(bad),
+            crate::units::Both(length)
+        )));
+    }
+    let xs: Vec<f64> = section_at.iter().map(|x| lo[0] + x).collect();
+    let sections = crate::slice::slice_many(&mesh, Axis::X, &xs);
+    let (waterlines, waterline_at) = match z_step {
+        None => (vec![], vec![]),
+        Some(step) => {
+            let height = hi[2] - lo[2];
+            if !(step.is_finite() && step > 0.0 && height / step <= 1000.0) {
+                return Err(JobError::Option(format!(
+                    "--z-step {step} mm gives more than 1000 waterlines (or is not positive)"
+                )));
+            }
+            let at: Vec<f64> = (1..)
+                .map(|i| i as f64 * step)
+                .take_while(|&z| z < height)
+                .collect();
+            let zs: Vec<f64> = at.iter().map(|z| lo[2] + z).collect();
+            (crate::slice::slice_many(&mesh, Axis::Z, &zs), at)
+        }
+    };
+    let name = design.name();
+    let set = SliceSet {
+        name,
+        slices: &sections,
+        quoted: section_at.clone(),
+    };
+    let mut files = vec![
+        (
+            dir.join(format!("{name}.sections.svg")),
+            contours::sections_svg(&set).into_bytes(),
+        ),
+        (
+            dir.join(format!("{name}.sections.csv")),
+            contours::csv(&set).into_bytes(),
+        ),
+    ];
+    if !waterlines.is_empty() {
+        let set = SliceSet {
+            name,
+            slices: &waterlines,
+            quoted: waterline_at.clone(),
+        };
+        files.push((
+            dir.join(format!("{name}.waterlines.svg")),
+            contours::waterlines_svg(&set).into_bytes(),
+        ));
+        files.push((
+            dir.join(format!("{name}.waterlines.csv")),
+            contours::csv(&set).into_bytes(),
+        ));
+    }
+    let written = write_all(&files)?;
+    Ok(Sliced {
+        sections,
+        section_at,
+        waterlines,
+        waterline_at,
+        written,
+    })
 }

@@ -20,6 +20,7 @@
 
 pub mod board;
 pub mod certificate;
+pub mod contours;
 pub mod curve;
 pub mod demo;
 pub mod description;
@@ -32,7 +33,9 @@ pub mod output;
 pub mod quadrature;
 pub mod report;
 pub mod section;
+pub mod slice;
 pub mod stl;
+pub mod svg;
 pub mod topology;
 pub mod units;
 pub mod volume;

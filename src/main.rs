@@ -7,8 +7,11 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
+use blanksmith::contours;
+use blanksmith::description::values::parse_position;
 use blanksmith::jobs::{self, Input, JobError, Meshed, StlKind};
 use blanksmith::mesher::DEFAULT_TOLERANCE;
+use blanksmith::units::{self, Unit};
 
 #[derive(Parser)]
 #[command(
@@ -60,6 +63,26 @@ enum Command {
         /// of the model's diagonal, at least 0.001 mm).
         #[arg(long)]
         weld: Option<f64>,
+    },
+    /// Cut a board or mesh into cross-sections (and waterlines): an SVG at
+    /// true scale and a CSV of contour points per set.
+    Slice {
+        /// Board description (YAML) or a closed STL (x along the board).
+        design: PathBuf,
+        /// Stations, comma-separated: `300mm`, `12in`, `12in from tail`,
+        /// `centre`, `1in behind`; bare numbers in --units. Default: 12 in
+        /// from each tip and the wide point (or centre).
+        #[arg(long)]
+        stations: Option<String>,
+        /// Waterlines every this far above the lowest point, e.g. `10mm`.
+        #[arg(long)]
+        z_step: Option<String>,
+        /// Unit of bare numbers in --stations and --z-step: in or mm.
+        #[arg(long, default_value = "mm")]
+        units: String,
+        /// Output folder.
+        #[arg(short, long, default_value = "out")]
+        out: PathBuf,
     },
     /// The main job: every output for a board into DIR/<name>/. With no
     /// board, the built-in demo.
@@ -143,6 +166,62 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             } else {
                 ExitCode::from(1)
             })
+        }
+        Command::Slice {
+            design,
+            stations,
+            z_step,
+            units,
+            out,
+        } => {
+            let unit = match units.as_str() {
+                "in" => Unit::In,
+                "mm" => Unit::Mm,
+                other => {
+                    return Err(JobError::Option(format!(
+                        "--units {other}: use `in` or `mm`"
+                    )));
+                }
+            };
+            let d = jobs::load_design(&design)?;
+            let length = match &d {
+                jobs::Design::Board(b) => b.length,
+                jobs::Design::Mesh { mesh, .. } => {
+                    mesh.bounding_box().map_or(0.0, |(lo, hi)| hi[0] - lo[0])
+                }
+            };
+            let mut xs = vec![];
+            for item in stations
+                .iter()
+                .flat_map(|s| s.split(','))
+                .map(str::trim)
+                .filter(|s| !s.is_empty())
+            {
+                let p = parse_position(item)
+                    .map_err(|e| JobError::Option(format!("--stations: {e}")))?;
+                xs.push(p.from_nose(length, unit));
+            }
+            let step = match z_step {
+                None => None,
+                Some(t) => Some(
+                    units::parse_length(&t)
+                        .map_err(|e| JobError::Option(format!("--z-step: {e}")))?
+                        .to_mm(unit),
+                ),
+            };
+            let r = jobs::slice(&d, &xs, step, &out)?;
+            for (s, q) in r
+                .sections
+                .iter()
+                .zip(&r.section_at)
+                .chain(r.waterlines.iter().zip(&r.waterline_at))
+            {
+                println!("{}", contours::describe(s, *q));
+            }
+            for p in &r.written {
+                println!("wrote {}", p.display());
+            }
+            Ok(ExitCode::SUCCESS)
         }
         Command::Make {
             board,

@@ -399,6 +399,11 @@ impl Sampling {
         self.stations.len()
     }
 
+    /// The stations, mm from the nose.
+    pub fn stations(&self) -> &[f64] {
+        &self.stations
+    }
+
     /// Points around one full cross-section.
     pub fn ring_len(&self) -> usize {
         2 * self.ring.len() - 2

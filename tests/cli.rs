@@ -270,3 +270,172 @@ fn out_of_range_tolerances_and_missing_files_are_errors() {
     assert!(text(&o.stderr).contains("no-such-board.yaml: cannot read"));
     assert!(files_under(dir.path()).is_empty());
 }
+
+/// Each bad STL file and words its message must say (with its location).
+const BAD_STL: &[(&str, &str)] = &[
+    (
+        "ascii-junk.stl",
+        "line 9, column 1: expected `facet` or `endsolid`, found `this is not stl`",
+    ),
+    (
+        "ascii-no-end.stl",
+        "line 9, column 1: the file ends without `endsolid`",
+    ),
+    ("empty.stl", "not an STL file: the file is empty"),
+    (
+        "header-claims-more.stl",
+        "the header says 1000000000 triangles",
+    ),
+    (
+        "missing-endloop.stl",
+        "line 7, column 2: expected `endloop`, found `endfacet`",
+    ),
+    (
+        "nan-coordinate.stl",
+        "facet 2: a coordinate is not a finite number",
+    ),
+    (
+        "truncated.stl",
+        "truncated binary STL: the header says 4 triangles (284 bytes) but the file has 254 bytes",
+    ),
+];
+
+#[test]
+fn every_bad_stl_is_refused_clearly() {
+    let listed = std::fs::read_dir(root().join("fixtures/bad"))
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .file_name()
+                .to_string_lossy()
+                .ends_with(".stl")
+        })
+        .count();
+    assert_eq!(
+        listed,
+        BAD_STL.len(),
+        "a bad STL fixture has no expected message"
+    );
+    for (file, words) in BAD_STL {
+        let dir = tempfile::tempdir().unwrap();
+        let path = root().join("fixtures/bad").join(file);
+        for args in [
+            vec!["check", path.to_str().unwrap()],
+            vec!["slice", path.to_str().unwrap()],
+        ] {
+            let o = run(&args, dir.path());
+            let err = text(&o.stderr);
+            assert_eq!(o.status.code(), Some(2), "{file}: {err}");
+            assert!(
+                err.contains(&format!("{file}: ")) && err.contains(words),
+                "{file}: {err}"
+            );
+            assert!(!err.contains("panicked"), "{file}: {err}");
+            assert!(files_under(dir.path()).is_empty());
+        }
+    }
+}
+
+#[test]
+fn check_passes_our_own_mesh_and_flags_an_open_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let board = root().join("fixtures/fish.yaml");
+    assert!(
+        run(&["mesh", board.to_str().unwrap(), "-o", "."], dir.path())
+            .status
+            .success()
+    );
+    let o = run(&["check", "saltgrass-fish-5-6.stl", "--json"], dir.path());
+    assert_eq!(o.status.code(), Some(0), "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    for key in [
+        "triangles",
+        "vertices",
+        "open_edges",
+        "holes",
+        "non_manifold_edges",
+        "inconsistent_edges",
+        "degenerate_triangles",
+        "duplicate_triangles",
+        "components",
+        "euler_characteristic",
+        "watertight",
+        "inside_out",
+        "volume_litres",
+        "bbox_mm",
+        "surface_area_m2",
+    ] {
+        assert!(v.get(key).is_some(), "check JSON lacks {key}");
+    }
+    let report: serde_json::Value = serde_json::from_slice(
+        &std::fs::read(dir.path().join("saltgrass-fish-5-6.report.json")).unwrap(),
+    )
+    .unwrap();
+    // The STL is f32: its volume matches the f64 mesh to float precision.
+    let (a, b) = (
+        v["volume_litres"].as_f64().unwrap(),
+        report["volume_litres"].as_f64().unwrap(),
+    );
+    assert!((a - b).abs() < 1e-4, "{a} vs {b}");
+    // Cut the file short of its last facet's worth of triangles but keep the
+    // header honest: drop 100 facets and fix the count, leaving holes.
+    let mut bytes = std::fs::read(dir.path().join("saltgrass-fish-5-6.stl")).unwrap();
+    let n = u32::from_le_bytes(bytes[80..84].try_into().unwrap()) - 100;
+    bytes.truncate(84 + 50 * n as usize);
+    bytes[80..84].copy_from_slice(&n.to_le_bytes());
+    std::fs::write(dir.path().join("holed.stl"), &bytes).unwrap();
+    let o = run(&["check", "holed.stl"], dir.path());
+    assert_eq!(o.status.code(), Some(1));
+    let out = text(&o.stdout);
+    assert!(
+        out.contains("open edges") && out.contains("volume       none"),
+        "{out}"
+    );
+}
+
+#[test]
+fn slice_writes_true_scale_svg_and_csv() {
+    let dir = tempfile::tempdir().unwrap();
+    let board = root().join("fixtures/shortboard.yaml");
+    let o = run(
+        &[
+            "slice",
+            board.to_str().unwrap(),
+            "--stations",
+            "12in, centre, 12in from tail",
+            "--z-step",
+            "1in",
+        ],
+        dir.path(),
+    );
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let out = text(&o.stdout);
+    assert_eq!(
+        out.lines().filter(|l| l.starts_with("section")).count(),
+        3,
+        "{out}"
+    );
+    assert!(out.lines().any(|l| l.starts_with("waterline")), "{out}");
+    let svg = std::fs::read_to_string(dir.path().join("out/saltgrass-shortboard-6-2.sections.svg"))
+        .unwrap();
+    assert!(
+        svg.contains("mm\" height=\"") && svg.contains("viewBox=\"0 0 "),
+        "{}",
+        &svg[..300]
+    );
+    let csv = std::fs::read_to_string(dir.path().join("out/saltgrass-shortboard-6-2.sections.csv"))
+        .unwrap();
+    assert!(csv.starts_with("slice,axis,at_mm,quoted_mm,contour,closed,point,u_mm,v_mm\n"));
+    assert!(
+        dir.path()
+            .join("out/saltgrass-shortboard-6-2.waterlines.svg")
+            .exists()
+    );
+    let o = run(
+        &["slice", board.to_str().unwrap(), "--stations", "9ft"],
+        dir.path(),
+    );
+    assert_eq!(o.status.code(), Some(2));
+    assert!(text(&o.stderr).contains("off the board"));
+}

@@ -77,7 +77,8 @@ impl Position {
     }
 }
 
-fn parse_position(text: &str) -> Result<Position, String> {
+/// Reads a position as written on the command line or in a file.
+pub fn parse_position(text: &str) -> Result<Position, String> {
     let t = text.trim();
     let lower = t.to_ascii_lowercase();
     if matches!(lower.as_str(), "centre" | "center" | "middle") {

@@ -47,8 +47,12 @@ pub enum StlError {
     #[error("{at}: a coordinate is not a finite number")]
     NotFinite { at: String },
     /// ASCII text that breaks the grammar.
-    #[error("line {line}: {message}")]
-    Ascii { line: usize, message: String },
+    #[error("line {line}, column {column}: {message}")]
+    Ascii {
+        line: usize,
+        column: usize,
+        message: String,
+    },
     /// More triangles than the tool takes.
     #[error("the file holds {count} triangles, over the limit of {limit}")]
     TooLarge { count: u64, limit: usize },
@@ -138,6 +142,7 @@ fn read_binary(bytes: &[u8], count: u32) -> Result<Soup, StlError> {
 struct Lines<'a> {
     lines: std::iter::Enumerate<std::str::Lines<'a>>,
     line: usize,
+    column: usize,
 }
 
 impl<'a> Lines<'a> {
@@ -147,6 +152,7 @@ impl<'a> Lines<'a> {
             let words: Vec<&str> = l.split_whitespace().collect();
             if !words.is_empty() {
                 self.line = i + 1;
+                self.column = 1 + l.len() - l.trim_start().len();
                 return Some(words);
             }
         }
@@ -156,6 +162,7 @@ impl<'a> Lines<'a> {
     fn fail<T>(&self, message: impl Into<String>) -> Result<T, StlError> {
         Err(StlError::Ascii {
             line: self.line,
+            column: self.column,
             message: message.into(),
         })
     }
@@ -213,17 +220,24 @@ fn read_ascii(bytes: &[u8]) -> Result<Soup, StlError> {
             .iter()
             .filter(|&&b| b == b'\n')
             .count(),
+        column: 1 + bytes[..e.valid_up_to()]
+            .iter()
+            .rev()
+            .take_while(|&&b| b != b'\n')
+            .count(),
         message: "not text (invalid UTF-8); is this a damaged binary STL?".to_string(),
     })?;
     let mut lines = Lines {
         lines: text.lines().enumerate(),
         line: 0,
+        column: 0,
     };
     let mut triangles = Vec::new();
     lines.expect(&["solid"])?;
     loop {
         let Some(words) = lines.next_words() else {
             lines.line += 1;
+            lines.column = 1;
             return lines.fail("the file ends without `endsolid`");
         };
         let head = words[0].to_ascii_lowercase();
@@ -341,6 +355,7 @@ mod tests {
             read(no_endloop.as_bytes()),
             Err(StlError::Ascii {
                 line: 7,
+                column: 2,
                 message: "expected `endloop`, found `endfacet`".into()
             })
         );
