@@ -178,7 +178,7 @@ pub fn make(input: &Input, tolerance: f64, out: &Path) -> Result<Meshed, JobErro
 /// Something to cut or draw: a board description or a mesh from elsewhere.
 pub enum Design {
     /// A board description (meshed on demand).
-    Board(Board),
+    Board(Box<Board>),
     /// A closed mesh read from STL, welded; x runs along the board.
     Mesh {
         /// File stem.
@@ -213,7 +213,7 @@ pub fn load_design(path: &Path) -> Result<Design, JobError> {
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("stl"));
     if !is_stl {
-        return Ok(Design::Board(description::load(path)?));
+        return Ok(Design::Board(Box::new(description::load(path)?)));
     }
     let soup = stl::read_file(path).map_err(|source| JobError::Stl {
         path: path.display().to_string(),
