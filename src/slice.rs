@@ -239,10 +239,10 @@ fn polygons(loops: &[Vec<[f64; 2]>]) -> MultiPolygon<f64> {
         .map(|i| (0..loops.len()).filter(|&j| j != i && inside(i, j)).count())
         .collect();
     let mut outers: Vec<(usize, Vec<LineString<f64>>)> = (0..loops.len())
-        .filter(|&i| depth[i] % 2 == 0)
+        .filter(|&i| depth[i].is_multiple_of(2))
         .map(|i| (i, vec![]))
         .collect();
-    for h in (0..loops.len()).filter(|&i| depth[i] % 2 == 1) {
+    for h in (0..loops.len()).filter(|&i| !depth[i].is_multiple_of(2)) {
         let parent = outers
             .iter_mut()
             .filter(|(o, _)| depth[*o] + 1 == depth[h] && inside(h, *o))
