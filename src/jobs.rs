@@ -7,6 +7,7 @@ use std::path::{Path, PathBuf};
 
 use crate::board::Board;
 use crate::certificate::{self, Certified};
+use crate::compare::Comparison;
 use crate::contours::{self, SliceSet};
 use crate::demo;
 use crate::description::{self, DescriptionError};
@@ -367,4 +368,31 @@ pub fn slice(
         waterline_at,
         written,
     })
+}
+
+/// Compares a cut (STL) with its design; writes the deviation map into `dir`.
+pub fn compare(
+    design: &Path,
+    cut: &Path,
+    align: bool,
+    dir: &Path,
+) -> Result<(Comparison, Vec<PathBuf>), JobError> {
+    let d = load_design(design)?;
+    let c = load_design(cut)?;
+    if matches!(c, Design::Board(_)) {
+        return Err(JobError::Option(format!(
+            "{}: the cut must be an STL file",
+            cut.display()
+        )));
+    }
+    let (dm, cm) = (
+        d.mesh(crate::mesher::DEFAULT_TOLERANCE)?,
+        c.mesh(crate::mesher::DEFAULT_TOLERANCE)?,
+    );
+    let (comparison, deviation) = crate::compare::compare(&dm, &cm, align);
+    let title = format!("{} against {}", c.name(), d.name());
+    let svg = crate::compare::deviation_svg(&title, &dm, &deviation);
+    let path = dir.join(format!("{}-vs-{}.deviation.svg", c.name(), d.name()));
+    let written = write_all(&[(path, svg.into_bytes())])?;
+    Ok((comparison, written))
 }

@@ -20,6 +20,7 @@
 
 pub mod board;
 pub mod certificate;
+pub mod compare;
 pub mod contours;
 pub mod curve;
 pub mod demo;
@@ -29,6 +30,7 @@ pub mod integrals;
 pub mod jobs;
 pub mod mesh;
 pub mod mesher;
+pub mod nearest;
 pub mod output;
 pub mod quadrature;
 pub mod report;

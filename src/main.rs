@@ -84,6 +84,25 @@ enum Command {
         #[arg(short, long, default_value = "out")]
         out: PathBuf,
     },
+    /// Compare a cut board (STL) with its design: distances both ways,
+    /// where the largest deviations are, the volume difference, and a
+    /// plan-view deviation map (SVG).
+    Compare {
+        /// Board description (YAML) or a closed STL.
+        design: PathBuf,
+        /// The cut board as a closed STL, in the design's coordinates
+        /// unless --align is given.
+        cut: PathBuf,
+        /// Best-fit the cut onto the design first (iterative closest point).
+        #[arg(long)]
+        align: bool,
+        /// Print JSON instead of text.
+        #[arg(long)]
+        json: bool,
+        /// Output folder for the deviation map.
+        #[arg(short, long, default_value = "out")]
+        out: PathBuf,
+    },
     /// The main job: every output for a board into DIR/<name>/. With no
     /// board, the built-in demo.
     Make {
@@ -117,6 +136,54 @@ fn finish(m: &Meshed, print_table: bool) -> ExitCode {
         eprintln!("blanksmith: NOT CERTIFIED: {}", m.report.failure());
         ExitCode::from(1)
     }
+}
+
+fn comparison_text(c: &blanksmith::compare::Comparison) -> String {
+    use std::fmt::Write as _;
+    let mut s = String::new();
+    if let Some(a) = &c.alignment {
+        let _ = writeln!(
+            s,
+            "alignment: rotated {:.3}°, {:.3}°, {:.3}° about x, y, z and moved {:.3}, {:.3}, {:.3} mm ({} iterations; RMS {:.3} → {:.3} mm)",
+            a.rotation_xyz_deg[0],
+            a.rotation_xyz_deg[1],
+            a.rotation_xyz_deg[2],
+            a.translation_mm[0],
+            a.translation_mm[1],
+            a.translation_mm[2],
+            a.iterations,
+            a.rms_before_mm,
+            a.rms_after_mm
+        );
+    }
+    let _ = writeln!(s, "largest distance (Hausdorff) {:.3} mm", c.hausdorff_mm);
+    for (what, side) in [
+        ("design to cut", &c.design_to_cut),
+        ("cut to design", &c.cut_to_design),
+    ] {
+        let _ = writeln!(
+            s,
+            "  {what}: max {:.3} mm, mean {:.3} mm, RMS {:.3} mm over {} points",
+            side.max_mm, side.mean_mm, side.rms_mm, side.points
+        );
+    }
+    let _ = writeln!(
+        s,
+        "largest deviations on the design (+ stock left, − gouge):"
+    );
+    for w in &c.worst {
+        let _ = writeln!(
+            s,
+            "  {:+.3} mm at ({:.1}, {:.1}, {:.1}) mm",
+            w.deviation_mm, w.at_mm[0], w.at_mm[1], w.at_mm[2]
+        );
+    }
+    let _ = writeln!(
+        s,
+        "volume: design {:.3} L, cut {:.3} L, difference {:+.3} L",
+        c.design_volume_litres, c.cut_volume_litres, c.volume_difference_litres
+    );
+    s
 }
 
 fn run(cli: Cli) -> Result<ExitCode, JobError> {
@@ -220,6 +287,27 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             }
             for p in &r.written {
                 println!("wrote {}", p.display());
+            }
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Compare {
+            design,
+            cut,
+            align,
+            json,
+            out,
+        } => {
+            let (c, written) = jobs::compare(&design, &cut, align, &out)?;
+            if json {
+                println!(
+                    "{}",
+                    serde_json::to_string_pretty(&c).expect("serialisable")
+                );
+            } else {
+                print!("{}", comparison_text(&c));
+                for p in &written {
+                    println!("wrote {}", p.display());
+                }
             }
             Ok(ExitCode::SUCCESS)
         }

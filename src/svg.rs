@@ -129,3 +129,19 @@ pub fn ramp(t: f64) -> String {
         (b * 255.0).round() as u8
     )
 }
+
+/// A diverging colour for `t` in [−1, 1]: blue, white at 0, red.
+pub fn diverging(t: f64) -> String {
+    let t = t.clamp(-1.0, 1.0);
+    let (r, g, b) = if t < 0.0 {
+        (1.0 + t, 1.0 + t, 1.0)
+    } else {
+        (1.0, 1.0 - t, 1.0 - t)
+    };
+    format!(
+        "#{:02x}{:02x}{:02x}",
+        (r * 255.0).round() as u8,
+        (g * 255.0).round() as u8,
+        (b * 255.0).round() as u8
+    )
+}
