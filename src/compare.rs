@@ -128,15 +128,15 @@ fn top_eigenvector(mut a: [[f64; 4]; 4]) -> [f64; 4] {
                 let t = if theta == 0.0 { 1.0 } else { t };
                 let c = 1.0 / (t * t + 1.0).sqrt();
                 let s = t * c;
-                for k in 0..4 {
-                    let (akp, akq) = (a[k][p], a[k][q]);
-                    a[k][p] = c * akp - s * akq;
-                    a[k][q] = s * akp + c * akq;
+                for row in a.iter_mut() {
+                    let (akp, akq) = (row[p], row[q]);
+                    row[p] = c * akp - s * akq;
+                    row[q] = s * akp + c * akq;
                 }
+                let (rp, rq) = (a[p], a[q]);
                 for k in 0..4 {
-                    let (apk, aqk) = (a[p][k], a[q][k]);
-                    a[p][k] = c * apk - s * aqk;
-                    a[q][k] = s * apk + c * aqk;
+                    a[p][k] = c * rp[k] - s * rq[k];
+                    a[q][k] = s * rp[k] + c * rq[k];
                 }
                 for row in v.iter_mut() {
                     let (vkp, vkq) = (row[p], row[q]);
