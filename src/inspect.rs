@@ -2,6 +2,7 @@
 //! outward-facing solid, and if not, what is wrong, what it means for
 //! cutting, and where.
 
+use rayon::prelude::*;
 use serde::Serialize;
 
 use crate::mesh::Mesh;
@@ -141,8 +142,8 @@ fn centroid(mesh: &Mesh, t: u32) -> [f64; 3] {
     ]
 }
 
-/// Counts vertices whose triangles form more than one fan (joined through
-/// edges at the vertex), with their ids.
+/// Vertices whose triangles form more than one fan (joined through edges
+/// at the vertex).
 fn non_manifold_vertices(mesh: &Mesh) -> Vec<u32> {
     let nv = mesh.vertices.len();
     let mut start = vec![0usize; nv + 1];
@@ -162,50 +163,78 @@ fn non_manifold_vertices(mesh: &Mesh) -> Vec<u32> {
             fill[v as usize] += 1;
         }
     }
-    let mut out = vec![];
-    for v in 0..nv {
-        let fan = &around[start[v]..start[v + 1]];
-        if fan.len() < 2 {
-            continue;
-        }
-        // Join triangles of the fan that share a second vertex.
-        let mut sets = Sets::new(fan.len());
-        let mut by_other: Vec<(u32, u32)> = fan
-            .iter()
-            .enumerate()
-            .flat_map(|(k, &t)| {
-                mesh.triangles[t as usize]
-                    .into_iter()
-                    .filter(|&w| w != v as u32)
-                    .map(move |w| (w, k as u32))
-            })
-            .collect();
-        by_other.sort_unstable();
-        for w in by_other.windows(2) {
-            if w[0].0 == w[1].0 {
-                sets.join(w[0].1, w[1].1);
+    let chunk = 1 << 14;
+    let found: Vec<Vec<u32>> = (0..nv.div_ceil(chunk))
+        .into_par_iter()
+        .map(|c| {
+            let mut out = vec![];
+            let (mut parent, mut by_other): (Vec<u32>, Vec<(u32, u32)>) = (vec![], vec![]);
+            for v in c * chunk..((c + 1) * chunk).min(nv) {
+                let fan = &around[start[v]..start[v + 1]];
+                if fan.len() < 2 {
+                    continue;
+                }
+                // Join triangles of the fan that share a second vertex.
+                parent.clear();
+                parent.extend(0..fan.len() as u32);
+                by_other.clear();
+                for (k, &t) in fan.iter().enumerate() {
+                    for w in mesh.triangles[t as usize] {
+                        if w != v as u32 {
+                            by_other.push((w, k as u32));
+                        }
+                    }
+                }
+                by_other.sort_unstable();
+                let root = |p: &mut Vec<u32>, mut i: u32| {
+                    while p[i as usize] != i {
+                        i = p[i as usize];
+                    }
+                    i
+                };
+                for w in by_other.windows(2) {
+                    if w[0].0 == w[1].0 {
+                        let (a, b) = (root(&mut parent, w[0].1), root(&mut parent, w[1].1));
+                        if a != b {
+                            parent[a.max(b) as usize] = a.min(b);
+                        }
+                    }
+                }
+                if (0..fan.len() as u32)
+                    .filter(|&k| parent[k as usize] == k)
+                    .count()
+                    > 1
+                {
+                    out.push(v as u32);
+                }
             }
-        }
-        let roots = (0..fan.len() as u32).filter(|&k| sets.find(k) == k).count();
-        if roots > 1 {
-            out.push(v as u32);
-        }
-    }
-    out
+            out
+        })
+        .collect();
+    found.into_iter().flatten().collect()
 }
 
 /// Inspects a mesh read from STL, welding at `tolerance` mm (the default
 /// from the model's size when `None`).
 pub fn inspect_soup(soup: &Soup, tolerance: Option<f64>) -> (Welded, Inspection) {
     let tol = tolerance.unwrap_or_else(|| weld::default_tolerance(&soup.triangles));
-    let welded = weld::weld(&soup.triangles, tol);
-    let inspection = inspect(&welded.mesh, soup.format, tol, welded.near_merges);
+    let (welded, table) = weld::weld_with_edges(&soup.triangles, tol);
+    let inspection = inspect_with(&welded.mesh, &table, soup.format, tol, welded.near_merges);
     (welded, inspection)
 }
 
 /// Inspects a welded mesh.
 pub fn inspect(mesh: &Mesh, format: StlFormat, weld_tolerance: f64, welded: usize) -> Inspection {
-    let table = EdgeTable::new(mesh);
+    inspect_with(mesh, &EdgeTable::new(mesh), format, weld_tolerance, welded)
+}
+
+fn inspect_with(
+    mesh: &Mesh,
+    table: &EdgeTable,
+    format: StlFormat,
+    weld_tolerance: f64,
+    welded: usize,
+) -> Inspection {
     let nt = mesh.triangles.len();
     let mut tri_sets = Sets::new(nt);
     let mut boundary = Sets::new(mesh.vertices.len());
@@ -244,23 +273,35 @@ pub fn inspect(mesh: &Mesh, format: StlFormat, weld_tolerance: f64, welded: usiz
     let duplicates = topology::duplicate_triangles(mesh);
     let nm_vertices = non_manifold_vertices(mesh);
 
-    // Pieces: triangles joined through shared edges.
-    let mut root_index = std::collections::BTreeMap::new();
+    // Pieces: triangles joined through shared edges, numbered in order of
+    // their first triangle.
+    let mut index_of_root = vec![usize::MAX; nt];
+    let mut nc = 0;
     let comp_of: Vec<usize> = (0..nt as u32)
         .map(|t| {
-            let r = tri_sets.find(t);
-            let n = root_index.len();
-            *root_index.entry(r).or_insert(n)
+            let r = tri_sets.find(t) as usize;
+            if index_of_root[r] == usize::MAX {
+                index_of_root[r] = nc;
+                nc += 1;
+            }
+            index_of_root[r]
         })
         .collect();
-    let nc = root_index.len();
     let mut f = vec![0usize; nc];
     let mut e_count = vec![0usize; nc];
+    let mut v_count = vec![0usize; nc];
     let mut bad = vec![false; nc];
-    let mut v_used: Vec<Vec<u32>> = vec![vec![]; nc];
+    let mut vertex_seen = vec![false; mesh.vertices.len()];
     for (t, tri) in mesh.triangles.iter().enumerate() {
         f[comp_of[t]] += 1;
-        v_used[comp_of[t]].extend_from_slice(tri);
+        for &v in tri {
+            // A vertex belongs to one piece: pieces share no edge, and a
+            // vertex they share is counted with the first (and is non-manifold).
+            if !vertex_seen[v as usize] {
+                vertex_seen[v as usize] = true;
+                v_count[comp_of[t]] += 1;
+            }
+        }
     }
     for &(t, _, ok) in &edge_of_component {
         let c = comp_of[t as usize];
@@ -272,10 +313,7 @@ pub fn inspect(mesh: &Mesh, format: StlFormat, weld_tolerance: f64, welded: usiz
     let piece_volume = volume::volumes_by_label(mesh, &comp_of, nc);
     let component_list: Vec<Component> = (0..nc)
         .map(|c| {
-            let mut vs = std::mem::take(&mut v_used[c]);
-            vs.sort_unstable();
-            vs.dedup();
-            let chi = vs.len() as i64 - e_count[c] as i64 + f[c] as i64;
+            let chi = v_count[c] as i64 - e_count[c] as i64 + f[c] as i64;
             let closed = !bad[c];
             let vol = piece_volume[c];
             Component {

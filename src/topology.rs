@@ -128,9 +128,22 @@ impl EdgeTable {
             })
         });
         let (start, mut uses) = bucket(mesh.vertices.len(), items);
-        for w in start.windows(2) {
-            uses[w[0]..w[1]].sort_unstable();
+        // Sort each vertex's group; groups split into chunks for the threads.
+        let mut rest: &mut [EdgeUse] = &mut uses;
+        let mut chunks = vec![];
+        let step = 1 << 15;
+        for lo in (0..start.len() - 1).step_by(step) {
+            let hi = (lo + step).min(start.len() - 1);
+            let (chunk, tail) = rest.split_at_mut(start[hi] - start[lo]);
+            chunks.push((lo, hi, chunk));
+            rest = tail;
         }
+        chunks.into_par_iter().for_each(|(lo, hi, chunk)| {
+            let base = start[lo];
+            for v in lo..hi {
+                chunk[start[v] - base..start[v + 1] - base].sort_unstable();
+            }
+        });
         EdgeTable { start, uses }
     }
 

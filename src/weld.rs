@@ -8,7 +8,6 @@
 
 use kiddo::{ImmutableKdTree, SquaredEuclidean};
 use rayon::prelude::*;
-use rustc_hash::FxHashMap;
 
 use crate::mesh::Mesh;
 use crate::topology::EdgeTable;
@@ -60,28 +59,21 @@ fn find(parent: &mut [u32], mut i: u32) -> u32 {
 
 /// Welds `soup` with `tolerance` mm (0 for exact only).
 pub fn weld(soup: &[[[f32; 3]; 3]], tolerance: f64) -> Welded {
-    let mut index: FxHashMap<[u32; 3], u32> = FxHashMap::default();
-    index.reserve(soup.len() / 2 + 3);
-    let mut vertices: Vec<[f64; 3]> = Vec::with_capacity(soup.len() / 2 + 3);
-    let mut triangles = Vec::with_capacity(soup.len());
-    for t in soup {
-        let mut ids = [0u32; 3];
-        for (k, p) in t.iter().enumerate() {
-            ids[k] = *index.entry(key(p)).or_insert_with(|| {
-                vertices.push([p[0] as f64, p[1] as f64, p[2] as f64]);
-                (vertices.len() - 1) as u32
-            });
-        }
-        triangles.push(ids);
-    }
+    weld_with_edges(soup, tolerance).0
+}
+
+/// Welds `soup`, also returning the welded mesh's edge table.
+pub fn weld_with_edges(soup: &[[[f32; 3]; 3]], tolerance: f64) -> (Welded, EdgeTable) {
+    let (vertices, triangles) = exact(soup);
     let exact_merges = 3 * soup.len() - vertices.len();
     let mut mesh = Mesh {
         vertices,
         triangles,
     };
     let mut near_merges = 0;
+    let mut table = EdgeTable::new(&mesh);
     if tolerance > 0.0 {
-        let open = EdgeTable::new(&mesh).open_vertices();
+        let open = table.open_vertices();
         if open.len() > 1 {
             let pts: Vec<[f64; 3]> = open.iter().map(|&v| mesh.vertices[v as usize]).collect();
             let tree: ImmutableKdTree<f64, 3> =
@@ -119,15 +111,47 @@ pub fn weld(soup: &[[[f32; 3]; 3]], tolerance: f64) -> Welded {
                     }
                 }
                 mesh = compact(mesh);
+                table = EdgeTable::new(&mesh);
             }
         }
     }
-    Welded {
+    let welded = Welded {
         mesh,
         exact_merges,
         near_merges,
         tolerance,
+    };
+    (welded, table)
+}
+
+/// Exact welding: every corner's coordinate bits sorted (in parallel), so
+/// equal corners sit together; vertices are numbered in that sorted order,
+/// which depends only on the coordinates, not on threads or file order.
+fn exact(soup: &[[[f32; 3]; 3]]) -> (Vec<[f64; 3]>, Vec<[u32; 3]>) {
+    let corners = 3 * soup.len();
+    // One u128 a corner: x, y, z bits, then the corner's index.
+    let mut items: Vec<u128> = (0..corners)
+        .into_par_iter()
+        .map(|c| {
+            let k = key(&soup[c / 3][c % 3]);
+            ((k[0] as u128) << 96) | ((k[1] as u128) << 64) | ((k[2] as u128) << 32) | c as u128
+        })
+        .collect();
+    items.par_sort_unstable();
+    let mut ids = vec![0u32; corners];
+    let mut vertices: Vec<[f64; 3]> = Vec::with_capacity(corners / 5);
+    let mut previous = None;
+    for &item in &items {
+        let (point, c) = (item >> 32, (item as u32) as usize);
+        if previous != Some(point) {
+            previous = Some(point);
+            let p = soup[c / 3][c % 3];
+            vertices.push([p[0] as f64, p[1] as f64, p[2] as f64]);
+        }
+        ids[c] = (vertices.len() - 1) as u32;
     }
+    let triangles = ids.chunks_exact(3).map(|c| [c[0], c[1], c[2]]).collect();
+    (vertices, triangles)
 }
 
 /// Drops unused vertices, keeping the order of the rest.
