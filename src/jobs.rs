@@ -60,6 +60,15 @@ pub enum JobError {
 
 /// Reads and inspects an STL file, welding at `weld` mm (default from its size).
 pub fn check(path: &Path, weld: Option<f64>) -> Result<Inspection, JobError> {
+    if path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("yaml") || e.eq_ignore_ascii_case("yml"))
+    {
+        return Err(JobError::Option(format!(
+            "{}: `check` inspects STL files; for a board description use `blanksmith report` (its mesh is checked there)",
+            path.display()
+        )));
+    }
     let soup = stl::read_file(path).map_err(|source| JobError::Stl {
         path: path.display().to_string(),
         source,
@@ -395,4 +404,266 @@ pub fn compare(
     let path = dir.join(format!("{}-vs-{}.deviation.svg", c.name(), d.name()));
     let written = write_all(&[(path, svg.into_bytes())])?;
     Ok((comparison, written))
+}
+
+/// `resize` as typed: lengths as text in the board's own unit unless they
+/// carry one; water as `fresh`, `salt` or a density in kg/m³.
+#[derive(Debug, Clone, Default)]
+pub struct ResizeArgs {
+    /// New length.
+    pub length: Option<String>,
+    /// New width.
+    pub width: Option<String>,
+    /// New thickness.
+    pub thickness: Option<String>,
+    /// Target volume, litres.
+    pub volume: Option<f64>,
+    /// Comma-separated: length, width, thickness.
+    pub keep: Option<String>,
+    /// Water the new board is for.
+    pub water: Option<String>,
+    /// Water the board (or the target volume) suits now.
+    pub from_water: Option<String>,
+    /// Rider's weight, kg.
+    pub rider_kg: Option<f64>,
+    /// Litres per kilogram the rider wants (a rule of thumb).
+    pub litres_per_kg: Option<f64>,
+    /// Name of the new board.
+    pub name: Option<String>,
+}
+
+/// A resized board, its reports old and new, and the files written.
+pub struct ResizeOutcome {
+    /// The old board's report.
+    pub old: Report,
+    /// The new board's report.
+    pub new: Report,
+    /// Factors along, across, up.
+    pub factors: [f64; 3],
+    /// What the solver adjusted and the target it met.
+    pub solved: Option<(String, f64)>,
+    /// The water densities used (now, new), kg/m³.
+    pub water: Option<(f64, f64)>,
+    /// The rider's weight and the volume the rule of thumb gives.
+    pub rider: Option<(f64, f64)>,
+    /// Files written.
+    pub written: Vec<PathBuf>,
+}
+
+fn water_density(text: &str) -> Result<f64, JobError> {
+    match text.trim().to_ascii_lowercase().as_str() {
+        "fresh" => Ok(crate::resize::FRESH_WATER),
+        "salt" | "sea" => Ok(crate::resize::SALT_WATER),
+        other => match other
+            .trim_end_matches("kg/m3")
+            .trim_end_matches("g/l")
+            .trim()
+            .parse::<f64>()
+        {
+            Ok(d) if (900.0..=1300.0).contains(&d) => Ok(d),
+            _ => Err(JobError::Option(format!(
+                "water `{text}`: use fresh, salt, or a density in kg/m³ (900 to 1300, e.g. 1010)"
+            ))),
+        },
+    }
+}
+
+/// Resizes the board in `path` and writes the new description to `out`
+/// (and an overlay SVG beside it).
+pub fn resize(
+    path: &Path,
+    args: &ResizeArgs,
+    out: Option<&Path>,
+) -> Result<ResizeOutcome, JobError> {
+    let board = description::load(path)?;
+    let unit = description::write::unit_of(&board);
+    let tol = crate::mesher::DEFAULT_TOLERANCE;
+    let old_cert = certificate::certify(&board, tol)?;
+    let old = Report::new(&board, &old_cert, None);
+    let length = |name: &str, v: &Option<String>| -> Result<Option<f64>, JobError> {
+        v.as_ref()
+            .map(|t| {
+                crate::units::parse_length(t)
+                    .map(|l| l.to_mm(unit))
+                    .map_err(|e| JobError::Option(format!("--{name}: {e}")))
+            })
+            .transpose()
+    };
+    let mut keep = crate::resize::Keep::default();
+    for item in args
+        .keep
+        .iter()
+        .flat_map(|k| k.split(','))
+        .map(str::trim)
+        .filter(|s| !s.is_empty())
+    {
+        match item {
+            "length" => keep.length = true,
+            "width" => keep.width = true,
+            "thickness" => keep.thickness = true,
+            other => {
+                return Err(JobError::Option(format!(
+                    "--keep {other}: use length, width or thickness, separated by commas"
+                )));
+            }
+        }
+    }
+    let water = match (&args.water, &args.from_water) {
+        (None, None) => None,
+        (to, from) => {
+            let to = to
+                .as_deref()
+                .map(water_density)
+                .transpose()?
+                .unwrap_or(crate::resize::SALT_WATER);
+            let from = from
+                .as_deref()
+                .map(water_density)
+                .transpose()?
+                .unwrap_or(crate::resize::SALT_WATER);
+            Some((from, to))
+        }
+    };
+    let rider = match (args.rider_kg, args.litres_per_kg) {
+        (Some(kg), Some(r)) if kg > 0.0 && kg < 400.0 && r > 0.0 && r < 5.0 => {
+            Some((kg, crate::resize::rider_volume(kg, r)))
+        }
+        (None, None) => None,
+        _ => {
+            return Err(JobError::Option(
+                "give --rider-kg (0 to 400) and --litres-per-kg (0 to 5) together".into(),
+            ));
+        }
+    };
+    let request = crate::resize::Request {
+        length: length("length", &args.length)?,
+        width: length("width", &args.width)?,
+        thickness: length("thickness", &args.thickness)?,
+        volume: args.volume.or(rider.map(|r| r.1)),
+        keep,
+        water,
+    };
+    let r = crate::resize::resize(&board, &request, old.width_mm, old.thickness_mm, tol)
+        .map_err(|e| JobError::Option(e.to_string()))?;
+    let mut new_board = r.board;
+    new_board.name = match &args.name {
+        Some(n) => n.clone(),
+        None => format!("{}-resized", board.name),
+    };
+    let new_cert = certificate::certify(&new_board, tol)?;
+    let new = Report::new(&new_board, &new_cert, None);
+    let dest = match out {
+        Some(p) => p.to_path_buf(),
+        None => PathBuf::from("out").join(format!("{}.yaml", new_board.name)),
+    };
+    let comment = format!(
+        "Written by blanksmith resize from {}: x {:.6}, y {:.6}, z {:.6}.\nStation tables rule; edit them like any description.",
+        path.display(),
+        r.factors[0],
+        r.factors[1],
+        r.factors[2]
+    );
+    let yaml = description::write::to_yaml(&new_board, unit, &comment);
+    // The file must read back as the same shape before it is written.
+    let back = description::board_from_str(&yaml, &dest.display().to_string())?;
+    let back_litres = crate::integrals::profile(&back).volume() * 1e-6;
+    if (back_litres - new.volume_litres_surface).abs() > 1e-6 {
+        return Err(JobError::Option(format!(
+            "internal: the written description holds {back_litres:.6} L, not {:.6} L; nothing written",
+            new.volume_litres_surface
+        )));
+    }
+    let overlay = crate::overlay::svg(
+        &format!("{} against {}", new_board.name, board.name),
+        &crate::overlay::profile(&board.name, &old_cert.mesh, 200),
+        &crate::overlay::profile(&new_board.name, &new_cert.mesh, 200),
+    );
+    let svg_path = dest.with_extension("overlay.svg");
+    let written = write_all(&[(dest, yaml.into_bytes()), (svg_path, overlay.into_bytes())])?;
+    Ok(ResizeOutcome {
+        old,
+        new,
+        factors: r.factors,
+        solved: r.adjusted.zip(r.target_litres),
+        water,
+        rider,
+        written,
+    })
+}
+
+/// Measurements of two designs side by side, and the overlay written.
+pub struct Diff {
+    /// Names.
+    pub names: [String; 2],
+    /// Rows: from the nose, then (width, thickness, bottom, deck) of each, mm.
+    pub rows: Vec<(f64, [[f64; 4]; 2])>,
+    /// Volumes, litres.
+    pub litres: [f64; 2],
+    /// Lengths, mm.
+    pub lengths: [f64; 2],
+    /// Files written.
+    pub written: Vec<PathBuf>,
+}
+
+/// Compares two designs (descriptions or closed STL) station by station.
+pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
+    let tol = crate::mesher::DEFAULT_TOLERANCE;
+    let designs = [load_design(a)?, load_design(b)?];
+    let meshes = [designs[0].mesh(tol)?, designs[1].mesh(tol)?];
+    let names = [designs[0].name().to_string(), designs[1].name().to_string()];
+    let lengths = [0, 1].map(|i| {
+        meshes[i]
+            .bounding_box()
+            .map_or(0.0, |(lo, hi)| hi[0] - lo[0])
+    });
+    let step = 6.0 * crate::units::MM_PER_INCH;
+    let longest = lengths[0].max(lengths[1]);
+    let xs: Vec<f64> = (1..)
+        .map(|i| i as f64 * step)
+        .take_while(|&x| x < longest)
+        .collect();
+    // Each design measured the same way: the extents of its sections.
+    let measure = |i: usize| -> Vec<[f64; 4]> {
+        let lo = meshes[i].bounding_box().map_or(0.0, |(lo, _)| lo[0]);
+        let at: Vec<f64> = xs.iter().map(|x| lo + x).collect();
+        crate::slice::slice_many(&meshes[i], Axis::X, &at)
+            .iter()
+            .map(|s| {
+                let (mut w, mut zb, mut zd) = (0.0f64, f64::INFINITY, f64::NEG_INFINITY);
+                for q in s.loops.iter().flatten() {
+                    w = w.max(q[0].abs());
+                    zb = zb.min(q[1]);
+                    zd = zd.max(q[1]);
+                }
+                if zb.is_finite() {
+                    [2.0 * w, zd - zb, zb, zd]
+                } else {
+                    [0.0, 0.0, f64::NAN, f64::NAN]
+                }
+            })
+            .collect()
+    };
+    let (ma, mb) = (measure(0), measure(1));
+    let rows = xs
+        .iter()
+        .zip(ma.iter().zip(&mb))
+        .map(|(&x, (p, q))| (x, [*p, *q]))
+        .collect();
+    let litres = [0, 1].map(|i| crate::volume::volume(&meshes[i]) * 1e-6);
+    let svg = crate::overlay::svg(
+        &format!("{} against {}", names[1], names[0]),
+        &crate::overlay::profile(&names[0], &meshes[0], 200),
+        &crate::overlay::profile(&names[1], &meshes[1], 200),
+    );
+    let written = write_all(&[(
+        dir.join(format!("{}-vs-{}.overlay.svg", names[1], names[0])),
+        svg.into_bytes(),
+    )])?;
+    Ok(Diff {
+        names,
+        rows,
+        litres,
+        lengths,
+        written,
+    })
 }

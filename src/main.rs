@@ -103,6 +103,58 @@ enum Command {
         #[arg(short, long, default_value = "out")]
         out: PathBuf,
     },
+    /// Resize a board: proportionally (--length alone), by length only
+    /// (--keep width,thickness), to a width or thickness, or to a target
+    /// volume (solved on what is not kept); for other water; for a rider.
+    /// Writes a new description and an overlay SVG.
+    Resize {
+        /// Board description (YAML).
+        board: PathBuf,
+        /// New length (e.g. 5'8"; bare numbers in the board's unit).
+        #[arg(long)]
+        length: Option<String>,
+        /// New width at the wide point.
+        #[arg(long)]
+        width: Option<String>,
+        /// New greatest thickness.
+        #[arg(long)]
+        thickness: Option<String>,
+        /// Target volume, litres.
+        #[arg(long)]
+        volume: Option<f64>,
+        /// What to keep: length, width, thickness (comma-separated).
+        #[arg(long)]
+        keep: Option<String>,
+        /// Water the new board is for: fresh, salt, or a density in kg/m³.
+        #[arg(long)]
+        water: Option<String>,
+        /// Water the board (or --volume) suits now (default salt).
+        #[arg(long)]
+        from_water: Option<String>,
+        /// Rider's weight, kg (with --litres-per-kg: sets the target volume).
+        #[arg(long)]
+        rider_kg: Option<f64>,
+        /// Litres per kilogram of rider wanted (a rule of thumb).
+        #[arg(long)]
+        litres_per_kg: Option<f64>,
+        /// Name of the new board (default: <name>-resized).
+        #[arg(long)]
+        name: Option<String>,
+        /// Where to write the new description (default out/<new name>.yaml).
+        #[arg(short, long)]
+        out: Option<PathBuf>,
+    },
+    /// Two boards side by side: measurements every 6 in, volumes, and an
+    /// overlay of outlines and rockers (SVG).
+    Diff {
+        /// First board (YAML or closed STL).
+        a: PathBuf,
+        /// Second board (YAML or closed STL).
+        b: PathBuf,
+        /// Output folder for the overlay.
+        #[arg(short, long, default_value = "out")]
+        out: PathBuf,
+    },
     /// The main job: every output for a board into DIR/<name>/. With no
     /// board, the built-in demo.
     Make {
@@ -183,6 +235,156 @@ fn comparison_text(c: &blanksmith::compare::Comparison) -> String {
         "volume: design {:.3} L, cut {:.3} L, difference {:+.3} L",
         c.design_volume_litres, c.cut_volume_litres, c.volume_difference_litres
     );
+    s
+}
+
+fn resize_text(r: &jobs::ResizeOutcome) -> String {
+    use blanksmith::units::Both;
+    use std::fmt::Write as _;
+    let mut s = String::new();
+    let (o, n) = (&r.old, &r.new);
+    let _ = writeln!(s, "{:<22}  {:<28}  {:<28}", "", o.name, n.name);
+    let row = |s: &mut String, what: &str, a: String, b: String| {
+        let _ = writeln!(s, "{what:<22}  {a:<28}  {b:<28}");
+    };
+    row(
+        &mut s,
+        "length",
+        Both(o.length_mm).to_string(),
+        Both(n.length_mm).to_string(),
+    );
+    row(
+        &mut s,
+        "width",
+        Both(o.width_mm).to_string(),
+        Both(n.width_mm).to_string(),
+    );
+    row(
+        &mut s,
+        "thickness",
+        Both(o.thickness_mm).to_string(),
+        Both(n.thickness_mm).to_string(),
+    );
+    row(
+        &mut s,
+        "nose width (N12)",
+        Both(o.nose_width_mm).to_string(),
+        Both(n.nose_width_mm).to_string(),
+    );
+    row(
+        &mut s,
+        "tail width (T12)",
+        Both(o.tail_width_mm).to_string(),
+        Both(n.tail_width_mm).to_string(),
+    );
+    row(
+        &mut s,
+        "volume",
+        format!("{:.2} L", o.volume_litres),
+        format!(
+            "{:.2} L ({:+.2} L)",
+            n.volume_litres,
+            n.volume_litres - o.volume_litres
+        ),
+    );
+    row(
+        &mut s,
+        "centre of volume",
+        Both(o.centre_of_volume_from_nose_mm).to_string(),
+        Both(n.centre_of_volume_from_nose_mm).to_string(),
+    );
+    let per_foot = |r: &blanksmith::report::Report| {
+        r.litres_per_foot
+            .iter()
+            .map(|p| format!("{:.1}", p.litres))
+            .collect::<Vec<_>>()
+            .join(" ")
+    };
+    row(&mut s, "litres per foot", per_foot(o), per_foot(n));
+    let _ = writeln!(
+        s,
+        "scaled by {:.4} along, {:.4} across, {:.4} in height",
+        r.factors[0], r.factors[1], r.factors[2]
+    );
+    if let Some((what, target)) = &r.solved {
+        let _ = writeln!(s, "adjusted {what} to hold {target:.2} L");
+    }
+    if let Some((from, to)) = r.water {
+        let _ = writeln!(
+            s,
+            "water: from {from} kg/m³ to {to} kg/m³ (Archimedes: volume × {:.4})",
+            from / to
+        );
+    }
+    let (fresh, salt) = (
+        blanksmith::resize::FRESH_WATER,
+        blanksmith::resize::SALT_WATER,
+    );
+    for (what, litres) in [("old", o.volume_litres), ("new", n.volume_litres)] {
+        let (nf, kf) = blanksmith::resize::buoyancy(litres, fresh);
+        let (ns, ks) = blanksmith::resize::buoyancy(litres, salt);
+        let _ = writeln!(
+            s,
+            "{what} board fully under water holds up {kf:.1} kg ({nf:.0} N) in fresh, {ks:.1} kg ({ns:.0} N) in salt water ({:.1} % less in fresh)",
+            100.0 * (1.0 - kf / ks)
+        );
+    }
+    if let Some((kg, litres)) = r.rider {
+        let _ = writeln!(
+            s,
+            "rider {kg:.1} kg: the rule of thumb asked for gives {litres:.2} L (a rule of thumb, not a measurement)"
+        );
+    }
+    for p in &r.written {
+        let _ = writeln!(s, "wrote {}", p.display());
+    }
+    s
+}
+
+fn diff_text(d: &jobs::Diff) -> String {
+    use blanksmith::units::{Both, feet_inches, inches};
+    use std::fmt::Write as _;
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "A = {}, B = {}  (section extents: width, thickness, bottom and deck heights; mm and inches)",
+        d.names[0], d.names[1]
+    );
+    let _ = writeln!(
+        s,
+        "length: A {}, B {}",
+        Both(d.lengths[0]),
+        Both(d.lengths[1])
+    );
+    let _ = writeln!(
+        s,
+        "{:>16}  {:>17} {:>17} {:>9}  {:>17} {:>17} {:>9}",
+        "from nose", "width A", "width B", "B − A", "thickness A", "thickness B", "B − A"
+    );
+    for (x, [a, b]) in &d.rows {
+        let cell = |v: f64| format!("{v:.1} {}", inches(v));
+        let _ = writeln!(
+            s,
+            "{:>16}  {:>17} {:>17} {:>+9.1}  {:>17} {:>17} {:>+9.1}",
+            format!("{:.0} mm {}", x, feet_inches(*x)),
+            cell(a[0]),
+            cell(b[0]),
+            b[0] - a[0],
+            cell(a[1]),
+            cell(b[1]),
+            b[1] - a[1]
+        );
+    }
+    let _ = writeln!(
+        s,
+        "volume: A {:.2} L, B {:.2} L, B − A {:+.2} L",
+        d.litres[0],
+        d.litres[1],
+        d.litres[1] - d.litres[0]
+    );
+    for p in &d.written {
+        let _ = writeln!(s, "wrote {}", p.display());
+    }
     s
 }
 
@@ -309,6 +511,41 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                     println!("wrote {}", p.display());
                 }
             }
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Resize {
+            board,
+            length,
+            width,
+            thickness,
+            volume,
+            keep,
+            water,
+            from_water,
+            rider_kg,
+            litres_per_kg,
+            name,
+            out,
+        } => {
+            let args = jobs::ResizeArgs {
+                length,
+                width,
+                thickness,
+                volume,
+                keep,
+                water,
+                from_water,
+                rider_kg,
+                litres_per_kg,
+                name,
+            };
+            let r = jobs::resize(&board, &args, out.as_deref())?;
+            print!("{}", resize_text(&r));
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Diff { a, b, out } => {
+            let d = jobs::diff(&a, &b, &out)?;
+            print!("{}", diff_text(&d));
             Ok(ExitCode::SUCCESS)
         }
         Command::Make {

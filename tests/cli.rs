@@ -439,3 +439,56 @@ fn slice_writes_true_scale_svg_and_csv() {
     assert_eq!(o.status.code(), Some(2));
     assert!(text(&o.stderr).contains("off the board"));
 }
+
+#[test]
+fn resize_writes_a_description_the_other_commands_accept() {
+    let dir = tempfile::tempdir().unwrap();
+    let board = root().join("fixtures/shortboard.yaml");
+    let o = run(
+        &[
+            "resize",
+            board.to_str().unwrap(),
+            "--length",
+            "5'8\"",
+            "--name",
+            "short-5-8",
+            "-o",
+            "short.yaml",
+        ],
+        dir.path(),
+    );
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let out = text(&o.stdout);
+    // Both unit systems and litres, old against new.
+    assert!(
+        out.contains("5' 8\"") && out.contains("1727.2 mm") && out.contains(" L"),
+        "{out}"
+    );
+    assert!(dir.path().join("short.overlay.svg").exists());
+    let o = run(&["report", "short.yaml", "--json"], dir.path());
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["name"], "short-5-8");
+    // 5'8" = 68 in = 1727.2 mm (1 in = 25.4 mm, NIST SP 811).
+    assert!((v["length_mm"].as_f64().unwrap() - 1727.2).abs() < 1e-9);
+    let o = run(&["diff", board.to_str().unwrap(), "short.yaml"], dir.path());
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    assert!(
+        text(&o.stdout).contains("volume: A 35.25 L"),
+        "{}",
+        text(&o.stdout)
+    );
+    for bad in [
+        vec!["--keep", "colour"],
+        vec!["--water", "lemonade"],
+        vec!["--rider-kg", "80"],
+        vec!["--length", "6 furlongs"],
+    ] {
+        let fresh = tempfile::tempdir().unwrap();
+        let mut args = vec!["resize", board.to_str().unwrap()];
+        args.extend(bad.iter().copied());
+        let o = run(&args, fresh.path());
+        assert_eq!(o.status.code(), Some(2), "{bad:?}: {}", text(&o.stderr));
+        assert!(files_under(fresh.path()).is_empty());
+    }
+}

@@ -7,6 +7,7 @@
 
 mod resolve;
 pub mod values;
+pub mod write;
 
 use std::fmt;
 use std::path::Path;
@@ -68,8 +69,10 @@ pub struct OutlineSpec {
     pub tail: Spanned<TailShape>,
     /// Tail block width (squash, square, swallow, diamond).
     pub tail_block: Option<Spanned<LengthValue>>,
-    /// Squash corner radius.
+    /// Squash corner radius (across the board).
     pub corner_radius: Option<Spanned<LengthValue>>,
+    /// How far along the board the squash corner runs (default: the radius).
+    pub corner_length: Option<Spanned<LengthValue>>,
     /// Swallow notch depth, from the tail to the notch apex.
     pub notch_depth: Option<Spanned<LengthValue>>,
     /// Diamond: from the tail block corners to the tail.
@@ -147,6 +150,11 @@ pub struct ThicknessSpec {
     pub nose_tip: Option<Spanned<LengthValue>>,
     /// Same at the tail.
     pub tail_tip: Option<Spanned<LengthValue>>,
+    /// Length over which the profile rounds over at a nose that is a point
+    /// in plan (default half the nose-tip thickness).
+    pub nose_rounding: Option<Spanned<LengthValue>>,
+    /// Same at a tail that is a point in plan.
+    pub tail_rounding: Option<Spanned<LengthValue>>,
     /// Thicknesses at stations; when given they rule.
     #[serde(default)]
     pub stations: Vec<ThicknessAt>,

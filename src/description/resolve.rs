@@ -216,13 +216,39 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
             );
         }
     }
+    let rounding = |v: &Option<Spanned<LengthValue>>, field: &str, hw: f64, t: f64| -> Res<f64> {
+        match v {
+            Some(r) if hw > 0.0 => cx.fail(
+                &r.referenced,
+                field,
+                "does not apply: this end has width in plan, so it ends in a flat face",
+                "remove the field",
+            ),
+            Some(r) => cx.length_in(
+                r,
+                field,
+                0.0,
+                0.25 * l,
+                true,
+                "how far from the tip the profile rounds over, e.g. 3/4in",
+            ),
+            None if hw <= 0.0 => Ok(0.5 * t),
+            None => Ok(0.0),
+        }
+    };
     let closing = Closing {
-        nose: if hw0 <= 0.0 {
-            0.5 * foil.eval(0.0)
-        } else {
-            0.0
-        },
-        tail: if hw_l <= 0.0 { 0.5 * foil.eval(l) } else { 0.0 },
+        nose: rounding(
+            &raw.thickness.nose_rounding,
+            "thickness.nose_rounding",
+            hw0,
+            foil.eval(0.0),
+        )?,
+        tail: rounding(
+            &raw.thickness.tail_rounding,
+            "thickness.tail_rounding",
+            hw_l,
+            foil.eval(l),
+        )?,
     };
 
     let dome = match &raw.deck.dome {
@@ -274,6 +300,11 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             "outline.corner_radius",
             "only squash tails have rounded corners",
         )?;
+        cx.forbid(
+            &o.corner_length,
+            "outline.corner_length",
+            "only squash tails have rounded corners",
+        )?;
     }
     if shape != TailShape::Swallow {
         cx.forbid(
@@ -307,7 +338,7 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             b,
             "outline.tail_block",
             0.0,
-            0.5 * l,
+            l,
             false,
             "the tail block is the width across the tail's end",
         )?;
@@ -349,10 +380,23 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
                 )?,
                 None => (25.4_f64).min(0.5 * e), // 1 in (common practice, no source)
             };
+            // Along the board the corner may run longer than across it (a
+            // board stretched in length keeps its corners in proportion).
+            let along = match &o.corner_length {
+                Some(c) => cx.length_in(
+                    c,
+                    "outline.corner_length",
+                    0.0,
+                    0.9 * d12,
+                    true,
+                    "how far up the rail the squash corner runs; it must stay behind the tail-width station",
+                )?,
+                None => r,
+            };
             (
                 TailEnd::Block {
                     half_block: e,
-                    corner: (r, r),
+                    corner: (along, r),
                 },
                 l,
             )

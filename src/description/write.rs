@@ -1,0 +1,236 @@
+//! Writes a board back out as a description. Every curve of a resolved
+//! board runs through nodes, and a station table through the same nodes
+//! resolves to the same curve, so reading the file back gives the same
+//! board (to the last digit or two of the numbers written).
+
+use std::fmt::Write as _;
+
+use crate::board::{Board, ContourKind, RailProfile, TailEnd};
+use crate::curve::Curve;
+use crate::units::{MM_PER_FOOT, Unit};
+
+/// The unit a board was described in, judged by where its tip widths are
+/// quoted (12 in for inch files, 300 mm for mm files).
+pub fn unit_of(board: &Board) -> Unit {
+    if (board.tip_station - MM_PER_FOOT).abs() < 1e-6 * MM_PER_FOOT {
+        Unit::In
+    } else {
+        Unit::Mm
+    }
+}
+
+struct Out {
+    text: String,
+    per_unit: f64,
+}
+
+impl Out {
+    /// A length in the file's unit, with every digit an f64 needs.
+    fn len(&self, mm: f64) -> String {
+        let v = mm / self.per_unit;
+        if v == 0.0 {
+            "0".to_string()
+        } else {
+            format!("{v}")
+        }
+    }
+}
+
+fn blend(c: &Curve, length: f64) -> String {
+    let (n, m, t) = (c.eval(0.0), c.eval(0.5 * length), c.eval(length));
+    if n == m && m == t {
+        format!("{n}")
+    } else {
+        format!("{{nose: {n}, middle: {m}, tail: {t}}}")
+    }
+}
+
+/// The description of `board` as YAML in `unit`, with `comment` lines at the top.
+pub fn to_yaml(board: &Board, unit: Unit, comment: &str) -> String {
+    let mut o = Out {
+        text: String::new(),
+        per_unit: unit.mm(),
+    };
+    for line in comment.lines() {
+        let _ = writeln!(o.text, "# {line}");
+    }
+    let unit_name = match unit {
+        Unit::In => "in",
+        Unit::Mm => "mm",
+    };
+    let _ = writeln!(o.text, "name: {}\nunits: {unit_name}\n", board.name);
+    let l = board.length;
+    let ol = &board.outline;
+    let _ = writeln!(o.text, "outline:\n  length: {}", o.len(l));
+    let _ = writeln!(
+        o.text,
+        "  nose: {}",
+        if ol.nose.power == 1.0 {
+            "pointed"
+        } else {
+            "round"
+        }
+    );
+    let tail = serde_json::to_value(ol.tail_shape)
+        .expect("a tail shape")
+        .as_str()
+        .unwrap_or("round")
+        .to_string();
+    let _ = writeln!(o.text, "  tail: {tail}");
+    match ol.tail_end {
+        TailEnd::Point => {}
+        TailEnd::Block { half_block, corner } => {
+            let _ = writeln!(o.text, "  tail_block: {}", o.len(2.0 * half_block));
+            if ol.tail_shape == crate::board::TailShape::Squash {
+                let _ = writeln!(o.text, "  corner_radius: {}", o.len(corner.1));
+                let _ = writeln!(o.text, "  corner_length: {}", o.len(corner.0));
+            }
+        }
+        TailEnd::Diamond {
+            half_block,
+            point_length,
+            half_tip,
+        } => {
+            let _ = writeln!(o.text, "  tail_block: {}", o.len(2.0 * half_block));
+            let _ = writeln!(o.text, "  point_length: {}", o.len(point_length));
+            let _ = writeln!(o.text, "  tip_width: {}", o.len(2.0 * half_tip));
+        }
+        TailEnd::Swallow {
+            half_block,
+            notch_depth,
+            tip,
+        } => {
+            let _ = writeln!(o.text, "  tail_block: {}", o.len(2.0 * half_block));
+            let _ = writeln!(o.text, "  notch_depth: {}", o.len(notch_depth));
+            let _ = writeln!(o.text, "  tip_width: {}", o.len(tip));
+        }
+    }
+    o.text.push_str("  stations:\n");
+    let width_at = |x: f64, raised: f64, power: f64| (x, 2.0 * raised.max(0.0).powf(1.0 / power));
+    let mut widths: Vec<(f64, f64)> = ol
+        .nose
+        .curve
+        .stations()
+        .map(|(x, g)| width_at(x, g, ol.nose.power))
+        .collect();
+    widths.extend(
+        ol.tail
+            .curve
+            .stations()
+            .skip(1)
+            .map(|(x, g)| width_at(x, g, ol.tail.power)),
+    );
+    for (x, w) in widths {
+        let _ = writeln!(o.text, "    - {{at: {}, width: {}}}", o.len(x), o.len(w));
+    }
+    let rocker: Vec<(f64, f64)> = board.rocker.stations().collect();
+    let _ = writeln!(
+        o.text,
+        "\nrocker:\n  nose: {}\n  tail: {}\n  stations:",
+        o.len(rocker[0].1),
+        o.len(rocker[rocker.len() - 1].1)
+    );
+    for &(x, h) in &rocker[1..rocker.len() - 1] {
+        let _ = writeln!(o.text, "    - {{at: {}, height: {}}}", o.len(x), o.len(h));
+    }
+    o.text.push_str("\nthickness:\n");
+    for (field, r) in [
+        ("nose_rounding", board.closing.nose),
+        ("tail_rounding", board.closing.tail),
+    ] {
+        if r > 0.0 {
+            let _ = writeln!(o.text, "  {field}: {}", o.len(r));
+        }
+    }
+    o.text.push_str("  stations:\n");
+    for (x, t) in board.foil.stations() {
+        let _ = writeln!(
+            o.text,
+            "    - {{at: {}, thickness: {}}}",
+            o.len(x),
+            o.len(t)
+        );
+    }
+    let _ = writeln!(o.text, "\ndeck:\n  dome: {}", o.len(board.dome));
+    let r = &board.rails;
+    match r.profile {
+        RailProfile::Square => {
+            let _ = writeln!(
+                o.text,
+                "\nrails:\n  profile: square\n  apex: {}",
+                blend(&r.apex, l)
+            );
+        }
+        RailProfile::Rounded => {
+            let _ = writeln!(
+                o.text,
+                "\nrails:\n  apex: {}\n  softness: {}\n  tuck: {}",
+                blend(&r.apex, l),
+                blend(&r.softness, l),
+                blend(&r.tuck, l)
+            );
+        }
+    }
+    if !board.bottom.is_empty() {
+        o.text.push_str("\nbottom:\n");
+        for c in &board.bottom {
+            let kind = match c.kind {
+                ContourKind::Flat => "flat",
+                ContourKind::Vee => "vee",
+                ContourKind::SingleConcave => "single_concave",
+                ContourKind::DoubleConcave => "double_concave",
+            };
+            let _ = writeln!(
+                o.text,
+                "  - {{contour: {kind}, from: {}, to: {}, depth: {}, blend: {}, span: {}}}",
+                o.len(c.from),
+                o.len(c.to),
+                o.len(c.depth),
+                o.len(c.blend),
+                c.span
+            );
+        }
+    }
+    o.text
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::description;
+
+    #[test]
+    fn every_fixture_comes_back_the_same() {
+        for name in [
+            "shortboard.yaml",
+            "fish.yaml",
+            "longboard.yaml",
+            "check-box.yaml",
+        ] {
+            let path = format!("{}/fixtures/{name}", env!("CARGO_MANIFEST_DIR"));
+            let board = description::load(std::path::Path::new(&path)).unwrap();
+            for unit in [Unit::In, Unit::Mm] {
+                let text = to_yaml(&board, unit, "round trip");
+                let back = description::board_from_str(&text, "written.yaml")
+                    .unwrap_or_else(|e| panic!("{name}: {e}\n{text}"));
+                for i in 0..=400 {
+                    let x = board.length * i as f64 / 400.0;
+                    let (a, b) = (
+                        board.station(x),
+                        back.station(back.length * i as f64 / 400.0),
+                    );
+                    for (p, q) in [
+                        (a.half_width, b.half_width),
+                        (a.bottom, b.bottom),
+                        (a.thickness, b.thickness),
+                        (a.inner, b.inner),
+                    ] {
+                        // 10 µm: where a squash corner meets the tail its
+                        // slope is infinite and the last digit of the length shows.
+                        assert!((p - q).abs() < 1e-5, "{name} {unit:?} at {x}: {p} vs {q}");
+                    }
+                }
+            }
+        }
+    }
+}
