@@ -178,11 +178,19 @@ pub fn certify_only(board: Board, tolerance: f64) -> Result<Meshed, JobError> {
     })
 }
 
-/// The main job for one board: everything into `<out>/<name>/`.
+/// The main job for one board: everything into `<out>/<name>/`: the
+/// certified mesh (STL and reports) and the full-size templates on A4.
 pub fn make(input: &Input, tolerance: f64, out: &Path) -> Result<Meshed, JobError> {
     let board = load(input)?;
+    if !(crate::mesher::MIN_TOLERANCE..=crate::mesher::MAX_TOLERANCE).contains(&tolerance) {
+        return Err(MeshError::Tolerance(tolerance).into());
+    }
     let dir = out.join(&board.name);
-    mesh_to(board, tolerance, &dir, StlKind::Binary, true)
+    let design = Design::Board(Box::new(board.clone()));
+    let t = templates(&design, crate::tiling::A4, &[], &[], &dir)?;
+    let mut m = mesh_to(board, tolerance, &dir, StlKind::Binary, true)?;
+    m.written.extend(t.written);
+    Ok(m)
 }
 
 /// Something to cut or draw: a board description or a mesh from elsewhere.
@@ -664,6 +672,102 @@ pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
         rows,
         litres,
         lengths,
+        written,
+    })
+}
+
+/// The templates written for a design.
+pub struct Templates {
+    /// Pages in the PDF.
+    pub pages: usize,
+    /// The drawings.
+    pub drawings: Vec<crate::template::Drawing>,
+    /// Files written.
+    pub written: Vec<PathBuf>,
+}
+
+/// Writes the full-size templates of a design: `DIR/<name>.templates.pdf`
+/// (tiled on `paper`) and one SVG a template. `only` picks from outline,
+/// rocker, sections, sheet; `stations` (mm from the nose) places the
+/// sections (default: 12 in from each tip and the wide point).
+pub fn templates(
+    design: &Design,
+    paper: crate::tiling::Paper,
+    only: &[String],
+    stations: &[f64],
+    dir: &Path,
+) -> Result<Templates, JobError> {
+    use crate::template;
+    let all = ["outline", "rocker", "sections", "sheet"];
+    for o in only {
+        if !all.contains(&o.as_str()) {
+            return Err(JobError::Option(format!(
+                "--only {o}: choose from outline, rocker, sections, sheet"
+            )));
+        }
+    }
+    let want = |k: &str| only.is_empty() || only.iter().any(|o| o == k);
+    let tol = crate::mesher::DEFAULT_TOLERANCE;
+    let mesh = design.mesh(tol)?;
+    let (side, report) = match design {
+        Design::Board(b) => {
+            let c = certificate::certify(b, tol)?;
+            (template::side_of(b), Some(Report::new(b, &c, None)))
+        }
+        Design::Mesh { name, mesh } => (template::side_of_mesh(name, mesh), None),
+    };
+    let length = side.length();
+    let section_at = if stations.is_empty() {
+        default_stations(design, length)
+    } else {
+        stations.to_vec()
+    };
+    if let Some(&bad) = section_at.iter().find(|&&x| !(0.0 < x && x < length)) {
+        return Err(JobError::Option(format!(
+            "station {} is off the board (0 to {})",
+            crate::units::Both(bad),
+            crate::units::Both(length)
+        )));
+    }
+    let mut drawings = vec![];
+    if want("outline") {
+        drawings.push(template::outline(&side));
+    }
+    if want("rocker") {
+        drawings.push(template::rocker(&side));
+    }
+    if want("sections") {
+        drawings.push(template::sections(design.name(), &mesh, &section_at));
+    }
+    let name = design.name();
+    let mut pages = vec![];
+    if want("sheet") {
+        let lines = match &report {
+            Some(r) => template::sheet(r),
+            None => vec![
+                format!("{name}: shaping sheet"),
+                "(a mesh from elsewhere: no measurements beyond the templates)".into(),
+            ],
+        };
+        pages.push(crate::tiling::sheet_page(&lines, paper, name));
+    }
+    for d in &drawings {
+        pages.extend(crate::tiling::tile(d, paper, name));
+    }
+    let mut files = vec![(
+        dir.join(format!("{name}.templates.pdf")),
+        crate::tiling::to_pdf(&pages),
+    )];
+    for d in &drawings {
+        files.push((
+            dir.join(format!("{name}.{}.svg", d.kind)),
+            template::to_svg(d).into_bytes(),
+        ));
+    }
+    let written = write_all(&files)?;
+    Ok(Templates {
+        pages: pages.len(),
+        drawings,
         written,
     })
 }

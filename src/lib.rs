@@ -40,6 +40,8 @@ pub mod section;
 pub mod slice;
 pub mod stl;
 pub mod svg;
+pub mod template;
+pub mod tiling;
 pub mod topology;
 pub mod units;
 pub mod volume;

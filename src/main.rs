@@ -155,6 +155,28 @@ enum Command {
         #[arg(short, long, default_value = "out")]
         out: PathBuf,
     },
+    /// Full-size templates for hand shaping: half outline, rocker, female
+    /// sections and a shaping sheet, tiled 1:1 on ordinary paper (PDF), and
+    /// one true-scale SVG a template for plotters and cutters.
+    Templates {
+        /// Board description (YAML) or a closed STL.
+        design: PathBuf,
+        /// a4, a3, letter, tabloid, or roll:WIDTH (e.g. roll:914mm).
+        #[arg(long, default_value = "a4")]
+        paper: String,
+        /// Only these, comma-separated: outline, rocker, sections, sheet.
+        #[arg(long)]
+        only: Option<String>,
+        /// Section stations, comma-separated, as for `slice`.
+        #[arg(long)]
+        stations: Option<String>,
+        /// Unit of bare numbers in --stations: in or mm.
+        #[arg(long, default_value = "mm")]
+        units: String,
+        /// Output folder.
+        #[arg(short, long, default_value = "out")]
+        out: PathBuf,
+    },
     /// The main job: every output for a board into DIR/<name>/. With no
     /// board, the built-in demo.
     Make {
@@ -388,6 +410,39 @@ fn diff_text(d: &jobs::Diff) -> String {
     s
 }
 
+fn parse_unit(units: &str) -> Result<Unit, JobError> {
+    match units {
+        "in" => Ok(Unit::In),
+        "mm" => Ok(Unit::Mm),
+        other => Err(JobError::Option(format!(
+            "--units {other}: use `in` or `mm`"
+        ))),
+    }
+}
+
+fn design_length(d: &jobs::Design) -> f64 {
+    match d {
+        jobs::Design::Board(b) => b.length,
+        jobs::Design::Mesh { mesh, .. } => {
+            mesh.bounding_box().map_or(0.0, |(lo, hi)| hi[0] - lo[0])
+        }
+    }
+}
+
+fn parse_stations(list: Option<&str>, length: f64, unit: Unit) -> Result<Vec<f64>, JobError> {
+    let mut xs = vec![];
+    for item in list
+        .iter()
+        .flat_map(|s| s.split(','))
+        .map(str::trim)
+        .filter(|s| !s.is_empty())
+    {
+        let p = parse_position(item).map_err(|e| JobError::Option(format!("--stations: {e}")))?;
+        xs.push(p.from_nose(length, unit));
+    }
+    Ok(xs)
+}
+
 fn run(cli: Cli) -> Result<ExitCode, JobError> {
     match cli.command {
         Command::Mesh {
@@ -443,33 +498,9 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             units,
             out,
         } => {
-            let unit = match units.as_str() {
-                "in" => Unit::In,
-                "mm" => Unit::Mm,
-                other => {
-                    return Err(JobError::Option(format!(
-                        "--units {other}: use `in` or `mm`"
-                    )));
-                }
-            };
+            let unit = parse_unit(&units)?;
             let d = jobs::load_design(&design)?;
-            let length = match &d {
-                jobs::Design::Board(b) => b.length,
-                jobs::Design::Mesh { mesh, .. } => {
-                    mesh.bounding_box().map_or(0.0, |(lo, hi)| hi[0] - lo[0])
-                }
-            };
-            let mut xs = vec![];
-            for item in stations
-                .iter()
-                .flat_map(|s| s.split(','))
-                .map(str::trim)
-                .filter(|s| !s.is_empty())
-            {
-                let p = parse_position(item)
-                    .map_err(|e| JobError::Option(format!("--stations: {e}")))?;
-                xs.push(p.from_nose(length, unit));
-            }
+            let xs = parse_stations(stations.as_deref(), design_length(&d), unit)?;
             let step = match z_step {
                 None => None,
                 Some(t) => Some(
@@ -546,6 +577,39 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
         Command::Diff { a, b, out } => {
             let d = jobs::diff(&a, &b, &out)?;
             print!("{}", diff_text(&d));
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Templates {
+            design,
+            paper,
+            only,
+            stations,
+            units,
+            out,
+        } => {
+            let unit = parse_unit(&units)?;
+            let paper = blanksmith::tiling::paper(&paper).map_err(JobError::Option)?;
+            let d = jobs::load_design(&design)?;
+            let xs = parse_stations(stations.as_deref(), design_length(&d), unit)?;
+            let only: Vec<String> = only
+                .iter()
+                .flat_map(|o| o.split(','))
+                .map(|s| s.trim().to_string())
+                .filter(|s| !s.is_empty())
+                .collect();
+            let t = jobs::templates(&d, paper, &only, &xs, &out)?;
+            println!(
+                "{} templates on {} pages of {}",
+                t.drawings.len(),
+                t.pages,
+                paper.name
+            );
+            for p in &t.written {
+                println!("wrote {}", p.display());
+            }
+            println!(
+                "print at 100 % (actual size) and measure the calibration bars before cutting"
+            );
             Ok(ExitCode::SUCCESS)
         }
         Command::Make {

@@ -54,6 +54,12 @@ fn make_runs_the_demo_into_out() {
     let stl = folder.join("saltgrass-shortboard-6-2.stl");
     let json = folder.join("saltgrass-shortboard-6-2.report.json");
     assert!(folder.join("saltgrass-shortboard-6-2.report.txt").exists());
+    assert!(
+        folder
+            .join("saltgrass-shortboard-6-2.templates.pdf")
+            .exists()
+    );
+    assert!(folder.join("saltgrass-shortboard-6-2.outline.svg").exists());
     // Binary STL: 84 + 50·n bytes (format layout).
     let bytes = std::fs::read(&stl).unwrap();
     let n = u32::from_le_bytes(bytes[80..84].try_into().unwrap()) as usize;
@@ -95,7 +101,8 @@ fn the_same_input_gives_byte_identical_files() {
         assert!(o.status.success(), "{}", text(&o.stderr));
     }
     let (fa, fb) = (files_under(a.path()), files_under(b.path()));
-    assert_eq!(fa.len(), 3);
+    // STL, JSON and text reports, the templates' PDF and three SVGs.
+    assert_eq!(fa.len(), 7, "{fa:?}");
     for (x, y) in fa.iter().zip(&fb) {
         assert_eq!(
             std::fs::read(x).unwrap(),
@@ -260,10 +267,12 @@ fn out_of_range_tolerances_and_missing_files_are_errors() {
     let board = root().join("fixtures/shortboard.yaml");
     for tol in ["1e-9", "0", "-1", "NaN", "50"] {
         let flag = format!("--tolerance={tol}");
-        let o = run(&["mesh", board.to_str().unwrap(), &flag], dir.path());
-        let err = text(&o.stderr);
-        assert_eq!(o.status.code(), Some(2), "{tol}: {err}");
-        assert!(err.contains("tolerance"), "{tol}: {err}");
+        for cmd in ["mesh", "make"] {
+            let o = run(&[cmd, board.to_str().unwrap(), &flag], dir.path());
+            let err = text(&o.stderr);
+            assert_eq!(o.status.code(), Some(2), "{tol}: {err}");
+            assert!(err.contains("tolerance"), "{tol}: {err}");
+        }
     }
     let o = run(&["mesh", "no-such-board.yaml"], dir.path());
     assert_eq!(o.status.code(), Some(2));

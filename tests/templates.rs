@@ -1,0 +1,224 @@
+//! Templates read back with independent parsers: page sizes and bars from
+//! the PDF (lopdf), tiles reassembled into the outline, the SVG outline
+//! against the board (roxmltree).
+
+use blanksmith::jobs::{self, Design};
+use blanksmith::template::{self, Item, Role};
+use blanksmith::tiling::{self, CUT_WIDTH, PT_PER_MM};
+use lopdf::{Document, Object, content::Content};
+
+fn board() -> blanksmith::board::Board {
+    let path = format!("{}/fixtures/shortboard.yaml", env!("CARGO_MANIFEST_DIR"));
+    blanksmith::description::load(std::path::Path::new(&path)).unwrap()
+}
+
+fn num(o: &Object) -> f64 {
+    match o {
+        Object::Integer(i) => *i as f64,
+        Object::Real(r) => *r as f64,
+        _ => f64::NAN,
+    }
+}
+
+struct PageData {
+    media: [f64; 4],
+    /// Horizontal segments drawn before any `cm` (page space), pt: (x0, x1, y).
+    page_segments: Vec<(f64, f64, f64)>,
+    /// Clip window (page space) and the translation after it, pt.
+    window: Option<([f64; 4], [f64; 2])>,
+    /// Polylines stroked at the cut width after the `cm`, in drawing pt.
+    cut: Vec<Vec<[f64; 2]>>,
+}
+
+fn read_pdf(bytes: &[u8]) -> Vec<PageData> {
+    let doc = Document::load_mem(bytes).unwrap();
+    let mut out = vec![];
+    for (_, id) in doc.get_pages() {
+        let dict = doc.get_object(id).unwrap().as_dict().unwrap();
+        let mb: Vec<f64> = dict
+            .get(b"MediaBox")
+            .unwrap()
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(num)
+            .collect();
+        let content = Content::decode(&doc.get_page_content(id)).unwrap();
+        let mut p = PageData {
+            media: [mb[0], mb[1], mb[2], mb[3]],
+            page_segments: vec![],
+            window: None,
+            cut: vec![],
+        };
+        let (mut width, mut path, mut translated, mut rect) =
+            (0.0, Vec::<[f64; 2]>::new(), false, None);
+        for op in &content.operations {
+            let a: Vec<f64> = op.operands.iter().map(num).collect();
+            match op.operator.as_str() {
+                "w" => width = a[0],
+                "m" => path = vec![[a[0], a[1]]],
+                "l" => path.push([a[0], a[1]]),
+                "re" => rect = Some([a[0], a[1], a[2], a[3]]),
+                "cm" => {
+                    translated = true;
+                    p.window = Some((rect.unwrap(), [a[4], a[5]]));
+                }
+                "S" | "s" => {
+                    if !translated && path.len() == 2 && (path[0][1] - path[1][1]).abs() < 1e-3 {
+                        p.page_segments.push((path[0][0], path[1][0], path[0][1]));
+                    }
+                    if translated && (width - CUT_WIDTH * PT_PER_MM).abs() < 1e-3 {
+                        p.cut.push(std::mem::take(&mut path));
+                    }
+                }
+                _ => {}
+            }
+        }
+        out.push(p);
+    }
+    out
+}
+
+fn templates_pdf(paper: tiling::Paper, only: &str) -> (Vec<u8>, Vec<template::Drawing>) {
+    let dir = tempfile::tempdir().unwrap();
+    let t = jobs::templates(
+        &Design::Board(Box::new(board())),
+        paper,
+        &[only.to_string()],
+        &[],
+        dir.path(),
+    )
+    .unwrap();
+    let pdf = std::fs::read(dir.path().join("saltgrass-shortboard-6-2.templates.pdf")).unwrap();
+    (pdf, t.drawings)
+}
+
+#[test]
+fn pages_have_exact_paper_sizes_and_both_calibration_bars() {
+    // ISO 216 A4 = 210 × 297 mm = 595.28 × 841.89 pt; US Letter = 612 × 792 pt
+    // (1 pt = 1/72 in, ISO 32000-1). The bars are 100 mm = 283.46 pt and
+    // 4 in = 288 pt long.
+    for (paper, size) in [
+        (tiling::A4, [595.28, 841.89]),
+        (tiling::LETTER, [612.0, 792.0]),
+    ] {
+        let (pdf, _) = templates_pdf(paper, "outline");
+        let pages = read_pdf(&pdf);
+        assert!(pages.len() > 2);
+        for p in &pages {
+            let (w, h) = (p.media[2] - p.media[0], p.media[3] - p.media[1]);
+            let mut got = [w, h];
+            got.sort_by(f64::total_cmp);
+            assert!(
+                (got[0] - size[0]).abs() < 0.01 && (got[1] - size[1]).abs() < 0.01,
+                "{} page {w} × {h}",
+                paper.name
+            );
+            for want in [100.0 * 72.0 / 25.4, 288.0] {
+                assert!(
+                    p.page_segments
+                        .iter()
+                        .any(|s| ((s.1 - s.0).abs() - want).abs() < 0.01),
+                    "{}: no bar of {want} pt on a page",
+                    paper.name
+                );
+            }
+        }
+    }
+}
+
+#[test]
+fn tiles_reassemble_the_outline_and_lose_none_of_it() {
+    let (pdf, drawings) = templates_pdf(tiling::A4, "outline");
+    let outline = drawings.iter().find(|d| d.kind == "outline").unwrap();
+    let Item::Line { points, .. } = outline
+        .items
+        .iter()
+        .find(|i| {
+            matches!(
+                i,
+                Item::Line {
+                    role: Role::Cut,
+                    ..
+                }
+            )
+        })
+        .unwrap()
+    else {
+        unreachable!()
+    };
+    let pages: Vec<PageData> = read_pdf(&pdf)
+        .into_iter()
+        .filter(|p| p.window.is_some())
+        .collect();
+    assert!(!pages.is_empty());
+    for p in &pages {
+        // Each tile draws the cut line in drawing coordinates: it must be the
+        // outline itself, point for point, to the PDF's number precision.
+        assert_eq!(p.cut.len(), 1);
+        for (a, b) in p.cut[0].iter().zip(points) {
+            assert!((a[0] / PT_PER_MM - b[0]).abs() < 0.1 && (a[1] / PT_PER_MM - b[1]).abs() < 0.1);
+        }
+    }
+    // Every point of the outline lies inside some tile's printable window
+    // (undo each tile's shift): no part is lost in a margin.
+    for q in points {
+        let seen = pages.iter().any(|p| {
+            let ([x, y, w, h], [tx, ty]) = p.window.unwrap();
+            let (px, py) = (q[0] * PT_PER_MM + tx, q[1] * PT_PER_MM + ty);
+            px >= x - 1e-6 && px <= x + w + 1e-6 && py >= y - 1e-6 && py <= y + h + 1e-6
+        });
+        assert!(seen, "outline point {q:?} falls in no tile");
+    }
+}
+
+#[test]
+fn svg_outline_matches_the_board_and_the_written_half_widths() {
+    let b = board();
+    let side = template::side_of(&b);
+    let svg = template::to_svg(&template::outline(&side));
+    let doc = roxmltree::Document::parse(&svg).unwrap();
+    let root = doc.root_element();
+    let height: f64 = root
+        .attribute("height")
+        .unwrap()
+        .trim_end_matches("mm")
+        .parse()
+        .unwrap();
+    assert!(root.attribute("width").unwrap().ends_with("mm"));
+    let path = doc
+        .descendants()
+        .find(|n| n.has_tag_name("path") && n.attribute("stroke") == Some("black"))
+        .unwrap();
+    let d = path.attribute("d").unwrap();
+    let mut checked = 0;
+    for cmd in d
+        .split(['M', 'L', 'Z'])
+        .map(str::trim)
+        .filter(|s| !s.is_empty())
+    {
+        let (x, y) = cmd.split_once(',').unwrap();
+        let (x, y): (f64, f64) = (x.parse().unwrap(), y.parse().unwrap());
+        let (bx, w) = (x - template::BORDER, height - y - template::BORDER);
+        if w > 0.01 {
+            // The SVG keeps 3 decimals: within 0.05 mm of the board's half-width.
+            assert!(
+                (w - b.half_width(bx)).abs() < 0.05,
+                "at {bx}: {w} vs {}",
+                b.half_width(bx)
+            );
+            checked += 1;
+        }
+    }
+    assert!(checked > 100);
+    // N12 is 12 1/4 in, so the half-width written 12 in from the nose is 6 1/8 in.
+    let texts: Vec<String> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("text"))
+        .filter_map(|n| n.text().map(String::from))
+        .collect();
+    assert!(
+        texts.iter().any(|t| t == "half 155.6 mm / 6 1/8\""),
+        "{texts:?}"
+    );
+}
