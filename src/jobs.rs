@@ -134,8 +134,26 @@ pub fn mesh_to(
     table: bool,
 ) -> Result<Meshed, JobError> {
     let certified = certificate::certify(&board, tolerance)?;
+    let (report, files) = mesh_files(&board, &certified, dir, kind, table);
+    let written = write_all(&files)?;
+    Ok(Meshed {
+        board,
+        certified,
+        report,
+        written,
+    })
+}
+
+/// The STL and report files of a certified board, in memory.
+fn mesh_files(
+    board: &Board,
+    certified: &Certified,
+    dir: &Path,
+    kind: StlKind,
+    table: bool,
+) -> (Report, Files) {
     let stl_path = dir.join(format!("{}.stl", board.name));
-    let report = Report::new(&board, &certified, Some(stl_path.display().to_string()));
+    let report = Report::new(board, certified, Some(stl_path.display().to_string()));
     let mut stl_bytes = Vec::new();
     let header = format!("blanksmith {} mm", board.name);
     match kind {
@@ -157,13 +175,7 @@ pub fn mesh_to(
             text.into_bytes(),
         ));
     }
-    let written = write_all(&files)?;
-    Ok(Meshed {
-        board,
-        certified,
-        report,
-        written,
-    })
+    (report, files)
 }
 
 /// Certifies `board` without writing anything.
@@ -179,18 +191,31 @@ pub fn certify_only(board: Board, tolerance: f64) -> Result<Meshed, JobError> {
 }
 
 /// The main job for one board: everything into `<out>/<name>/`: the
-/// certified mesh (STL and reports) and the full-size templates on A4.
+/// certified mesh (STL and reports) and the full-size templates on A4,
+/// all computed before any file is written.
 pub fn make(input: &Input, tolerance: f64, out: &Path) -> Result<Meshed, JobError> {
     let board = load(input)?;
-    if !(crate::mesher::MIN_TOLERANCE..=crate::mesher::MAX_TOLERANCE).contains(&tolerance) {
-        return Err(MeshError::Tolerance(tolerance).into());
-    }
     let dir = out.join(&board.name);
+    let certified = certificate::certify(&board, tolerance)?;
+    let (report, mut files) = mesh_files(&board, &certified, &dir, StlKind::Binary, true);
     let design = Design::Board(Box::new(board.clone()));
-    let t = templates(&design, crate::tiling::A4, &[], &[], &dir)?;
-    let mut m = mesh_to(board, tolerance, &dir, StlKind::Binary, true)?;
-    m.written.extend(t.written);
-    Ok(m)
+    let (_, _, template_files) = template_files(
+        &design,
+        &certified.mesh,
+        Some(&report),
+        crate::tiling::A4,
+        &[],
+        &[],
+        &dir,
+    )?;
+    files.extend(template_files);
+    let written = write_all(&files)?;
+    Ok(Meshed {
+        board,
+        certified,
+        report,
+        written,
+    })
 }
 
 /// Something to cut or draw: a board description or a mesh from elsewhere.
@@ -697,6 +722,38 @@ pub fn templates(
     stations: &[f64],
     dir: &Path,
 ) -> Result<Templates, JobError> {
+    let tol = crate::mesher::DEFAULT_TOLERANCE;
+    let (mesh, report) = match design {
+        Design::Board(b) => {
+            let c = certificate::certify(b, tol)?;
+            let r = Report::new(b, &c, None);
+            (c.mesh, Some(r))
+        }
+        Design::Mesh { mesh, .. } => (mesh.clone(), None),
+    };
+    let (drawings, pages, files) =
+        template_files(design, &mesh, report.as_ref(), paper, only, stations, dir)?;
+    let written = write_all(&files)?;
+    Ok(Templates {
+        pages,
+        drawings,
+        written,
+    })
+}
+
+/// Files to write: paths and bytes.
+type Files = Vec<(PathBuf, Vec<u8>)>;
+
+/// The templates' PDF and SVGs in memory, from a design's mesh (and report).
+fn template_files(
+    design: &Design,
+    mesh: &Mesh,
+    report: Option<&Report>,
+    paper: crate::tiling::Paper,
+    only: &[String],
+    stations: &[f64],
+    dir: &Path,
+) -> Result<(Vec<crate::template::Drawing>, usize, Files), JobError> {
     use crate::template;
     let all = ["outline", "rocker", "sections", "sheet"];
     for o in only {
@@ -707,14 +764,9 @@ pub fn templates(
         }
     }
     let want = |k: &str| only.is_empty() || only.iter().any(|o| o == k);
-    let tol = crate::mesher::DEFAULT_TOLERANCE;
-    let mesh = design.mesh(tol)?;
-    let (side, report) = match design {
-        Design::Board(b) => {
-            let c = certificate::certify(b, tol)?;
-            (template::side_of(b), Some(Report::new(b, &c, None)))
-        }
-        Design::Mesh { name, mesh } => (template::side_of_mesh(name, mesh), None),
+    let side = match design {
+        Design::Board(b) => template::side_of(b),
+        Design::Mesh { name, mesh } => template::side_of_mesh(name, mesh),
     };
     let length = side.length();
     let section_at = if stations.is_empty() {
@@ -737,12 +789,12 @@ pub fn templates(
         drawings.push(template::rocker(&side));
     }
     if want("sections") {
-        drawings.push(template::sections(design.name(), &mesh, &section_at));
+        drawings.push(template::sections(design.name(), mesh, &section_at));
     }
     let name = design.name();
     let mut pages = vec![];
     if want("sheet") {
-        let lines = match &report {
+        let lines = match report {
             Some(r) => template::sheet(r),
             None => vec![
                 format!("{name}: shaping sheet"),
@@ -764,10 +816,5 @@ pub fn templates(
             template::to_svg(d).into_bytes(),
         ));
     }
-    let written = write_all(&files)?;
-    Ok(Templates {
-        pages: pages.len(),
-        drawings,
-        written,
-    })
+    Ok((drawings, pages.len(), files))
 }

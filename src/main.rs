@@ -269,36 +269,16 @@ fn resize_text(r: &jobs::ResizeOutcome) -> String {
     let row = |s: &mut String, what: &str, a: String, b: String| {
         let _ = writeln!(s, "{what:<22}  {a:<28}  {b:<28}");
     };
-    row(
-        &mut s,
-        "length",
-        Both(o.length_mm).to_string(),
-        Both(n.length_mm).to_string(),
-    );
-    row(
-        &mut s,
-        "width",
-        Both(o.width_mm).to_string(),
-        Both(n.width_mm).to_string(),
-    );
-    row(
-        &mut s,
-        "thickness",
-        Both(o.thickness_mm).to_string(),
-        Both(n.thickness_mm).to_string(),
-    );
-    row(
-        &mut s,
-        "nose width (N12)",
-        Both(o.nose_width_mm).to_string(),
-        Both(n.nose_width_mm).to_string(),
-    );
-    row(
-        &mut s,
-        "tail width (T12)",
-        Both(o.tail_width_mm).to_string(),
-        Both(n.tail_width_mm).to_string(),
-    );
+    let lengths = [
+        ("length", o.length_mm, n.length_mm),
+        ("width", o.width_mm, n.width_mm),
+        ("thickness", o.thickness_mm, n.thickness_mm),
+        ("nose width (N12)", o.nose_width_mm, n.nose_width_mm),
+        ("tail width (T12)", o.tail_width_mm, n.tail_width_mm),
+    ];
+    for (what, a, b) in lengths {
+        row(&mut s, what, Both(a).to_string(), Both(b).to_string());
+    }
     row(
         &mut s,
         "volume",

@@ -31,6 +31,35 @@ impl Mesh {
         }))
     }
 
+    /// A closed, outward box with one corner at `origin` and sides `size`.
+    pub fn cuboid(origin: [f64; 3], size: [f64; 3]) -> Mesh {
+        let vertices = (0..8)
+            .map(|i| {
+                [
+                    origin[0] + size[0] * (i & 1) as f64,
+                    origin[1] + size[1] * ((i >> 1) & 1) as f64,
+                    origin[2] + size[2] * ((i >> 2) & 1) as f64,
+                ]
+            })
+            .collect();
+        let quads = [
+            [0, 2, 3, 1],
+            [4, 5, 7, 6],
+            [0, 1, 5, 4],
+            [2, 6, 7, 3],
+            [0, 4, 6, 2],
+            [1, 3, 7, 5],
+        ];
+        let triangles = quads
+            .iter()
+            .flat_map(|q| [[q[0], q[1], q[2]], [q[0], q[2], q[3]]])
+            .collect();
+        Mesh {
+            vertices,
+            triangles,
+        }
+    }
+
     /// The same mesh moved by `d`.
     pub fn translated(&self, d: [f64; 3]) -> Mesh {
         Mesh {

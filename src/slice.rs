@@ -264,25 +264,7 @@ mod tests {
     use super::*;
 
     fn cube() -> Mesh {
-        let vertices = (0..8)
-            .map(|i| [(i & 1) as f64, ((i >> 1) & 1) as f64, ((i >> 2) & 1) as f64])
-            .collect();
-        let quads = [
-            [0, 2, 3, 1],
-            [4, 5, 7, 6],
-            [0, 1, 5, 4],
-            [2, 6, 7, 3],
-            [0, 4, 6, 2],
-            [1, 3, 7, 5],
-        ];
-        let triangles = quads
-            .iter()
-            .flat_map(|q| [[q[0], q[1], q[2]], [q[0], q[2], q[3]]])
-            .collect();
-        Mesh {
-            vertices,
-            triangles,
-        }
+        Mesh::cuboid([0.0; 3], [1.0; 3])
     }
 
     #[test]

@@ -121,30 +121,7 @@ mod tests {
     use super::*;
 
     fn unit_cube(offset: f64) -> Mesh {
-        let mut vertices = vec![];
-        for i in 0..8 {
-            vertices.push([
-                offset + (i & 1) as f64,
-                offset + ((i >> 1) & 1) as f64,
-                offset + ((i >> 2) & 1) as f64,
-            ]);
-        }
-        let quads = [
-            [0, 2, 3, 1],
-            [4, 5, 7, 6],
-            [0, 1, 5, 4],
-            [2, 6, 7, 3],
-            [0, 4, 6, 2],
-            [1, 3, 7, 5],
-        ];
-        let triangles = quads
-            .iter()
-            .flat_map(|q| [[q[0], q[1], q[2]], [q[0], q[2], q[3]]])
-            .collect();
-        Mesh {
-            vertices,
-            triangles,
-        }
+        Mesh::cuboid([offset; 3], [1.0; 3])
     }
 
     #[test]

@@ -71,35 +71,14 @@ pub fn torus(big_r: f64, r: f64, n: usize, m: usize) -> Mesh {
     }
 }
 
-/// A unit cube, outward; without the top face when `open`.
+/// A cube of side `size`, outward; without its top face (z = size) when `open`.
 pub fn cube(size: f64, open: bool) -> Mesh {
-    let vertices = (0..8)
-        .map(|i| {
-            [
-                size * (i & 1) as f64,
-                size * ((i >> 1) & 1) as f64,
-                size * ((i >> 2) & 1) as f64,
-            ]
-        })
-        .collect();
-    let mut quads = vec![
-        [0, 2, 3, 1],
-        [0, 1, 5, 4],
-        [2, 6, 7, 3],
-        [0, 4, 6, 2],
-        [1, 3, 7, 5],
-    ];
-    if !open {
-        quads.push([4, 5, 7, 6]);
+    let mut m = Mesh::cuboid([0.0; 3], [size; 3]);
+    if open {
+        // The top face is the second quad: its two triangles.
+        m.triangles.drain(2..4);
     }
-    let triangles = quads
-        .iter()
-        .flat_map(|q| [[q[0], q[1], q[2]], [q[0], q[2], q[3]]])
-        .collect();
-    Mesh {
-        vertices,
-        triangles,
-    }
+    m
 }
 
 /// Binary STL bytes of a mesh (through the project's writer).
