@@ -331,6 +331,18 @@ fn resize_text(r: &jobs::ResizeOutcome) -> String {
             100.0 * (1.0 - kf / ks)
         );
     }
+    if let Some((kg, _)) = r.rider {
+        // What the new board holds up beyond the rider, fully under water
+        // (the board's own weight is not known here: subtract it).
+        let (_, kf) = blanksmith::resize::buoyancy(n.volume_litres, fresh);
+        let (_, ks) = blanksmith::resize::buoyancy(n.volume_litres, salt);
+        let _ = writeln!(
+            s,
+            "rider {kg:.1} kg plus board: the new board fully under water holds up {:.1} kg more than the rider in fresh water, {:.1} kg in salt (less the board's own weight)",
+            kf - kg,
+            ks - kg
+        );
+    }
     if let Some((kg, litres)) = r.rider {
         let _ = writeln!(
             s,

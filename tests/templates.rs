@@ -222,3 +222,40 @@ fn svg_outline_matches_the_board_and_the_written_half_widths() {
         "{texts:?}"
     );
 }
+
+#[test]
+fn roll_paper_is_as_wide_as_asked_and_tabloid_and_a3_are_exact() {
+    // A roll 914 mm (36 in) wide; ISO 216 A3 = 297 × 420 mm = 841.89 × 1190.55 pt;
+    // US Tabloid = 11 × 17 in = 792 × 1224 pt.
+    let roll = tiling::paper("roll:36in").unwrap();
+    assert!((roll.width - 914.4).abs() < 1e-9);
+    for (paper, size) in [
+        (tiling::A3, [841.89, 1190.55]),
+        (tiling::TABLOID, [792.0, 1224.0]),
+    ] {
+        let (pdf, _) = templates_pdf(paper, "rocker");
+        for p in read_pdf(&pdf) {
+            let mut got = [p.media[2] - p.media[0], p.media[3] - p.media[1]];
+            got.sort_by(f64::total_cmp);
+            assert!(
+                (got[0] - size[0]).abs() < 0.01 && (got[1] - size[1]).abs() < 0.01,
+                "{}: {got:?}",
+                paper.name
+            );
+        }
+    }
+    let (pdf, _) = templates_pdf(roll, "outline");
+    let pages = read_pdf(&pdf);
+    // The roll's width is one of each page's sides; the board's 6'2" fits along one page.
+    assert!(
+        pages
+            .iter()
+            .all(|p| ((p.media[2] - p.media[0]) - 914.4 * PT_PER_MM).abs() < 0.01)
+    );
+    assert!(
+        pages.iter().filter(|p| p.window.is_some()).count() <= 6,
+        "{} tiles",
+        pages.len()
+    );
+    assert!(tiling::paper("roll:2cm").is_err() && tiling::paper("b5").is_err());
+}

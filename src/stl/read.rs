@@ -97,10 +97,60 @@ pub fn read(bytes: &[u8]) -> Result<Soup, StlError> {
     }))
 }
 
-/// Reads an STL file.
+/// Reads an STL file. A binary file whose size matches its header is read
+/// facet by facet in chunks, without holding the whole file in memory.
 pub fn read_file(path: &Path) -> Result<Soup, StlError> {
-    let bytes = std::fs::read(path).map_err(|e| StlError::Io(e.to_string()))?;
+    use std::io::Read;
+    let io = |e: std::io::Error| StlError::Io(e.to_string());
+    let mut file = std::fs::File::open(path).map_err(io)?;
+    let len = file.metadata().map_err(io)?.len();
+    let mut head = [0u8; 84];
+    if len >= 84 {
+        file.read_exact(&mut head).map_err(io)?;
+        let claimed = u32::from_le_bytes(head[80..84].try_into().expect("4 bytes"));
+        if 84 + 50 * claimed as u64 == len {
+            if claimed as usize > MAX_TRIANGLES {
+                return Err(StlError::TooLarge {
+                    count: claimed as u64,
+                    limit: MAX_TRIANGLES,
+                });
+            }
+            let mut triangles = Vec::with_capacity(claimed as usize);
+            let mut chunk = vec![0u8; 50 * 20_000];
+            let mut left = claimed as usize;
+            while left > 0 {
+                let n = left.min(20_000);
+                file.read_exact(&mut chunk[..50 * n]).map_err(io)?;
+                parse_facets(&chunk[..50 * n], triangles.len(), &mut triangles)?;
+                left -= n;
+            }
+            return Ok(Soup {
+                triangles,
+                format: StlFormat::Binary,
+            });
+        }
+    }
+    // Anything else is small enough, or malformed enough, to read whole.
+    let mut bytes = head[..(len.min(84) as usize)].to_vec();
+    file.read_to_end(&mut bytes).map_err(io)?;
     read(&bytes)
+}
+
+/// Parses 50-byte facets, numbering them from `first` in messages.
+fn parse_facets(bytes: &[u8], first: usize, out: &mut Vec<[[f32; 3]; 3]>) -> Result<(), StlError> {
+    for (i, facet) in bytes.chunks_exact(50).enumerate() {
+        let f = |k: usize| {
+            f32::from_le_bytes(facet[12 + 4 * k..16 + 4 * k].try_into().expect("4 bytes"))
+        };
+        let t = [[f(0), f(1), f(2)], [f(3), f(4), f(5)], [f(6), f(7), f(8)]];
+        if t.iter().flatten().any(|v| !v.is_finite()) {
+            return Err(StlError::NotFinite {
+                at: format!("facet {}", first + i + 1),
+            });
+        }
+        out.push(t);
+    }
+    Ok(())
 }
 
 fn looks_ascii(bytes: &[u8]) -> bool {
@@ -121,18 +171,7 @@ fn read_binary(bytes: &[u8], count: u32) -> Result<Soup, StlError> {
         });
     }
     let mut triangles = Vec::with_capacity(count as usize);
-    for (i, facet) in bytes[84..].chunks_exact(50).enumerate() {
-        let f = |k: usize| {
-            f32::from_le_bytes(facet[12 + 4 * k..16 + 4 * k].try_into().expect("4 bytes"))
-        };
-        let t = [[f(0), f(1), f(2)], [f(3), f(4), f(5)], [f(6), f(7), f(8)]];
-        if t.iter().flatten().any(|v| !v.is_finite()) {
-            return Err(StlError::NotFinite {
-                at: format!("facet {}", i + 1),
-            });
-        }
-        triangles.push(t);
-    }
+    parse_facets(&bytes[84..], 0, &mut triangles)?;
     Ok(Soup {
         triangles,
         format: StlFormat::Binary,
