@@ -84,7 +84,7 @@ pub fn sections_svg(set: &SliceSet) -> String {
     );
     let mut top = MARGIN + LABEL;
     for (s, &q) in set.slices.iter().zip(&set.quoted) {
-        let (a, b) = bounds(std::slice::from_ref(s));
+        let (_, b) = bounds(std::slice::from_ref(s));
         let h = panel(s);
         doc.text([MARGIN, top], 3.5, &describe(s, q));
         let base = top + LABEL;
@@ -116,7 +116,6 @@ pub fn sections_svg(set: &SliceSet) -> String {
                 None,
             );
         }
-        let _ = a;
         top = base + h + MARGIN;
     }
     doc.finish()

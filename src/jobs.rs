@@ -161,6 +161,12 @@ fn mesh_files(
         StlKind::Ascii => stl::write_ascii(&mut stl_bytes, &certified.mesh, &board.name),
     }
     .expect("writing to memory cannot fail");
+    // Read the file back as written (f32 coordinates) and inspect it: the
+    // rounding must not have opened, folded or flattened anything.
+    let mut report = report;
+    let written_check = stl::read(&stl_bytes).map(|soup| inspect::inspect_soup(&soup, Some(0.0)).1);
+    report.stl_clean = Some(matches!(&written_check, Ok(i) if i.is_clean()));
+    report.certified &= report.stl_clean == Some(true);
     let mut files = vec![
         (stl_path, stl_bytes),
         (

@@ -111,6 +111,8 @@ pub struct Report {
     pub stations: Vec<StationRow>,
     /// The STL written, if any.
     pub stl: Option<String>,
+    /// Whether that STL, read back as written (f32), is a clean closed solid.
+    pub stl_clean: Option<bool>,
 }
 
 /// Measurements every `step` mm from the nose, and at the tail.
@@ -195,6 +197,7 @@ impl Report {
             litres_per_300mm: pieces(c.profile.litres_along(l, 300.0)),
             stations: measurements(board, 6.0 * MM_PER_INCH),
             stl,
+            stl_clean: None,
         }
     }
 
@@ -306,6 +309,9 @@ impl Report {
         let mut why = vec![];
         if !self.watertight {
             why.push("the mesh is not watertight".to_string());
+        }
+        if self.stl_clean == Some(false) {
+            why.push("the STL read back as written (f32) is not a clean closed solid; run `blanksmith check` on it".to_string());
         }
         if !self.certificate.agrees {
             why.push(format!(

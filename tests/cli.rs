@@ -83,6 +83,7 @@ fn make_runs_the_demo_into_out() {
     }
     assert_eq!(report["triangles"].as_u64().unwrap() as usize, n);
     assert_eq!(report["watertight"], true);
+    assert_eq!(report["stl_clean"], true);
     assert_eq!(report["euler_characteristic"], 2);
     assert_eq!(
         report["stl"],

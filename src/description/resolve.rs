@@ -673,7 +673,6 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             }
         }
     }
-    let _ = near;
     Ok(outline)
 }
 
