@@ -242,6 +242,11 @@ fn footer(width: f64, label: &str) -> Vec<Mark> {
 /// Lays `drawing` onto `paper`: an assembly map, then the tiles (in the
 /// orientation that needs fewer pages).
 pub fn tile(drawing: &Drawing, paper: Paper, board: &str) -> Vec<Page> {
+    // On a roll the board's length runs along the roll: turn the drawing a
+    // quarter turn, so one length of roll holds what is narrower than it.
+    if paper.roll && drawing.width > drawing.height {
+        return tile(&quarter_turn(drawing), paper, board);
+    }
     let layout = |pw: f64, ph: f64| {
         let (ww, wh) = (pw - 2.0 * MARGIN, ph - 2.0 * MARGIN - FOOTER);
         let (sx, sy) = (ww - OVERLAP, wh - OVERLAP);
@@ -250,7 +255,7 @@ pub fn tile(drawing: &Drawing, paper: Paper, board: &str) -> Vec<Page> {
         (pw, ph, ww, wh, sx, sy, cols, rows)
     };
     let options = if paper.roll {
-        let ph = drawing.height.min(drawing.width) + 2.0 * MARGIN + FOOTER + OVERLAP;
+        let ph = drawing.height + 2.0 * MARGIN + FOOTER;
         vec![layout(paper.width, ph.max(200.0))]
     } else {
         vec![
@@ -416,6 +421,39 @@ pub fn tile(drawing: &Drawing, paper: Paper, board: &str) -> Vec<Page> {
         }
     }
     pages
+}
+
+/// The drawing turned a quarter turn anticlockwise: (x, y) → (H − y, x).
+/// Text keeps reading left to right at its turned anchor.
+fn quarter_turn(d: &Drawing) -> Drawing {
+    let turn = |p: &[f64; 2]| [d.height - p[1], p[0]];
+    let items = d
+        .items
+        .iter()
+        .map(|i| match i {
+            Item::Line {
+                points,
+                closed,
+                role,
+            } => Item::Line {
+                points: points.iter().map(turn).collect(),
+                closed: *closed,
+                role: *role,
+            },
+            Item::Text { at, size, text } => Item::Text {
+                at: turn(at),
+                size: *size,
+                text: text.clone(),
+            },
+        })
+        .collect();
+    Drawing {
+        kind: d.kind,
+        title: d.title.clone(),
+        width: d.height,
+        height: d.width,
+        items,
+    }
 }
 
 fn ascii(text: &str) -> Vec<u8> {
