@@ -8,6 +8,14 @@ use blanksmith::description::board_from_str;
 use blanksmith::mesher::{DEFAULT_TOLERANCE, mesh_board};
 use blanksmith::{integrals, topology, volume};
 
+/// Every board fixture.
+const FIXTURES: [&str; 4] = [
+    "shortboard.yaml",
+    "fish.yaml",
+    "longboard.yaml",
+    "check-box.yaml",
+];
+
 fn fixture(name: &str) -> Board {
     let path = format!("{}/fixtures/{name}", env!("CARGO_MANIFEST_DIR"));
     blanksmith::description::load(std::path::Path::new(&path)).unwrap()
@@ -99,12 +107,7 @@ fn agrees_with_an_independent_mass_properties_library() {
     // parry3d-f64's MassProperties::from_trimesh (an independent library from
     // the registries): its mass at density 1 is the volume. It drops the
     // sign, so orientation is checked separately by our own sum's sign.
-    for name in [
-        "shortboard.yaml",
-        "fish.yaml",
-        "longboard.yaml",
-        "check-box.yaml",
-    ] {
+    for name in FIXTURES {
         let b = fixture(name);
         let m = mesh_board(&b, 0.05).unwrap();
         let ours = volume::volume(&m);
@@ -174,12 +177,7 @@ fn every_fixture_is_watertight_and_certified_at_the_default() {
     // The default tolerance must put the mesh within 0.01 L of the
     // converged volume; the shape integral (converged to 1e-9 relative) is
     // the reference.
-    for name in [
-        "shortboard.yaml",
-        "fish.yaml",
-        "longboard.yaml",
-        "check-box.yaml",
-    ] {
+    for name in FIXTURES {
         let b = fixture(name);
         let c = certify(&b, DEFAULT_TOLERANCE).unwrap();
         let t = c.topology;
