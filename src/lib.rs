@@ -19,6 +19,7 @@
 //! - [`demo`]: the built-in demo board.
 
 pub mod board;
+pub mod cam;
 pub mod certificate;
 pub mod compare;
 pub mod contours;

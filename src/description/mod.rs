@@ -295,9 +295,43 @@ impl DescriptionError {
 
 /// Reads a description's text (`file` names it in messages).
 pub fn parse(text: &str, file: &str) -> Result<BoardFile, DescriptionError> {
+    read_yaml(text, file)
+}
+
+/// A broken rule at a place in a YAML file, for any of the project's files
+/// (descriptions, machine and job profiles).
+pub fn rule_error(
+    text: &str,
+    file: &str,
+    at: &serde_saphyr::Location,
+    field: &str,
+    rule: impl Into<String>,
+    hint: impl Into<String>,
+) -> DescriptionError {
+    let (line, column) = (at.line(), at.column());
+    let source_line = (line > 0)
+        .then(|| text.lines().nth(line as usize - 1).map(str::to_string))
+        .flatten();
+    DescriptionError::Rule(Box::new(RuleError {
+        file: file.to_string(),
+        line,
+        column,
+        field: field.to_string(),
+        rule: rule.into(),
+        hint: hint.into(),
+        source_line,
+    }))
+}
+
+/// Reads any of the project's YAML files into its raw fields, with the
+/// reader's line, column and snippet on failure.
+pub fn read_yaml<T: serde::de::DeserializeOwned>(
+    text: &str,
+    file: &str,
+) -> Result<T, DescriptionError> {
     let mut options = serde_saphyr::Options::default();
     options.strict_booleans = true;
-    serde_saphyr::from_str_with_options::<BoardFile>(text, options).map_err(|e| {
+    serde_saphyr::from_str_with_options::<T>(text, options).map_err(|e| {
         let (line, column) = e
             .location()
             .map(|l| (l.line(), l.column()))

@@ -6,7 +6,7 @@
 use serde_saphyr::{Location, Spanned};
 
 use super::values::{Blend, LengthValue, Position};
-use super::{BoardFile, DescriptionError, NoseShape, RailProfileSpec, RuleError};
+use super::{BoardFile, DescriptionError, NoseShape, RailProfileSpec};
 use crate::board::{
     Board, Closing, Contour, ContourKind, Outline, PlanCurve, RailProfile, Rails, TailEnd,
     TailShape,
@@ -36,19 +36,9 @@ impl Ctx<'_> {
         rule: impl Into<String>,
         hint: impl Into<String>,
     ) -> Res<T> {
-        let (line, column) = (at.line(), at.column());
-        let source_line = (line > 0)
-            .then(|| self.text.lines().nth(line as usize - 1).map(str::to_string))
-            .flatten();
-        Err(DescriptionError::Rule(Box::new(RuleError {
-            file: self.file.to_string(),
-            line,
-            column,
-            field: field.to_string(),
-            rule: rule.into(),
-            hint: hint.into(),
-            source_line,
-        })))
+        Err(super::rule_error(
+            self.text, self.file, at, field, rule, hint,
+        ))
     }
 
     fn mm(&self, v: &Spanned<LengthValue>) -> f64 {

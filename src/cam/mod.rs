@@ -1,0 +1,6 @@
+//! Router programs: machine and job profiles, the board's placement in the
+//! stock, toolpaths for both setups, and their G-code.
+
+pub mod dropcutter;
+pub mod job;
+pub mod profile;
