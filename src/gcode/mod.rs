@@ -1,0 +1,3 @@
+//! G-code (RS-274/NGC subset): reading any program, writing our own.
+
+pub mod read;
