@@ -2,5 +2,9 @@
 //! stock, toolpaths for both setups, and their G-code.
 
 pub mod dropcutter;
+pub mod field;
 pub mod job;
+pub mod paths;
 pub mod profile;
+pub mod program;
+pub mod setup;

@@ -1,0 +1,746 @@
+//! Toolpaths for one setup: registration holes, Z-level roughing, the
+//! outline (separation) pass with tabs, and ball-end finishing (parallel
+//! passes plus Z levels on the steep rail band).
+
+use rayon::prelude::*;
+
+use super::dropcutter::DropCutter;
+use super::field::{self, Field, Line};
+use super::job::{Job, Pass};
+use super::profile::Cutter;
+use super::setup::{Placement, Side};
+use crate::mesh::Mesh;
+
+/// One step of a toolpath, tip positions in setup coordinates (mm).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Step {
+    /// G0 to a point.
+    Rapid([f64; 3]),
+    /// G1 down (or in) at the plunge feed.
+    Plunge([f64; 3]),
+    /// G1 at the cutting feed.
+    Cut([f64; 3]),
+    /// G2/G3 about a centre (X, Y), Z may change (a helix).
+    Arc {
+        /// End.
+        to: [f64; 3],
+        /// Centre.
+        centre: [f64; 2],
+        /// Clockwise (G2).
+        cw: bool,
+    },
+}
+
+/// A strategy's path with one tool.
+#[derive(Debug, Clone)]
+pub struct Toolpath {
+    /// What it does: `registration holes`, `roughing`, `outline`, `finishing`.
+    pub label: &'static str,
+    /// Tool, feeds and speeds.
+    pub pass: Pass,
+    /// Steps in order.
+    pub steps: Vec<Step>,
+}
+
+/// Everything a setup cuts, tool by tool.
+#[derive(Debug, Clone)]
+pub struct SetupPaths {
+    /// Which side is up.
+    pub side: Side,
+    /// In cutting order.
+    pub paths: Vec<Toolpath>,
+    /// Finishing cutter positions computed (for speed reports).
+    pub positions: usize,
+}
+
+/// Height of rapids: the clearance above the block's top face.
+pub fn safe_z(clearance: f64) -> f64 {
+    clearance
+}
+
+struct Ctx<'a> {
+    place: &'a Placement,
+    job: &'a Job,
+    side: Side,
+    guard: Vec<Mesh>,
+    clear: f64,
+    /// Distance from the part's plan silhouette (0 inside), 1 mm grid.
+    outside: Field,
+}
+
+fn lerp3(a: [f64; 3], b: [f64; 3], t: f64) -> [f64; 3] {
+    [
+        a[0] + t * (b[0] - a[0]),
+        a[1] + t * (b[1] - a[1]),
+        a[2] + t * (b[2] - a[2]),
+    ]
+}
+
+impl Ctx<'_> {
+    fn floor(&self, x: f64) -> f64 {
+        self.place.floor_at(self.side, x, self.job.overlap)
+    }
+
+    fn region(&self) -> ([f64; 2], [f64; 2]) {
+        let b = &self.place.block;
+        ([0.0, 0.0], [b.length, b.width])
+    }
+}
+
+/// Builds the paths of one setup.
+pub fn setup_paths(
+    place: &Placement,
+    job: &Job,
+    side: Side,
+    clearance: f64,
+    progress: &dyn Fn(&str),
+) -> SetupPaths {
+    let guard = place.guard(side);
+    let (lo, hi) = ([0.0, 0.0], [place.block.length, place.block.width]);
+    let grid = Field::new(lo, hi, 1.0, 0.0);
+    let ray = DropCutter::new(&guard[..1].iter().collect::<Vec<_>>(), Cutter::flat(0.0));
+    let inside: Vec<bool> = grid
+        .nodes()
+        .par_iter()
+        .map(|p| ray.drop(p[0], p[1]).is_some())
+        .collect();
+    let outside = field::distance_to(&grid, &inside);
+    let ctx = Ctx {
+        place,
+        job,
+        side,
+        guard,
+        clear: safe_z(clearance),
+        outside,
+    };
+    let mut paths = Vec::new();
+    if side == Side::Deck {
+        progress("registration holes");
+        paths.push(holes(&ctx));
+    }
+    progress("roughing");
+    paths.push(roughing(&ctx));
+    progress("outline");
+    paths.push(outline(&ctx));
+    progress("finishing");
+    let (fin, positions) = finishing(&ctx);
+    paths.push(fin);
+    SetupPaths {
+        side,
+        paths,
+        positions,
+    }
+}
+
+/// Bores each registration hole through the block and `pin_depth` into
+/// the spoilboard with a helix of the roughing tool.
+fn holes(ctx: &Ctx) -> Toolpath {
+    let job = ctx.job;
+    let pass = job.roughing.clone();
+    let r = pass.tool.cutter.radius;
+    let helix = (job.hole_diameter / 2.0 - r).max(0.0);
+    let bottom = -ctx.place.block.thickness - job.pin_depth;
+    let pitch = (pass.stepdown / 4.0).clamp(1.0, 5.0);
+    let mut steps = Vec::new();
+    for h in ctx.place.holes {
+        steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
+        steps.push(Step::Rapid([h[0], h[1], 2.0]));
+        if helix < 0.05 {
+            // The hole is the tool's size: peck straight down.
+            let mut z = 0.0;
+            while z > bottom {
+                z = (z - pitch).max(bottom);
+                steps.push(Step::Plunge([h[0], h[1], z]));
+                steps.push(Step::Rapid([h[0], h[1], 2.0]));
+                steps.push(Step::Rapid([h[0], h[1], z + 0.5]));
+            }
+            steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
+            continue;
+        }
+        let start = [h[0] + helix, h[1], 0.0];
+        steps.push(Step::Plunge([h[0], h[1], 0.0]));
+        steps.push(Step::Cut(start));
+        let mut z = 0.0;
+        while z > bottom {
+            z = (z - pitch).max(bottom);
+            steps.push(Step::Arc {
+                to: [start[0], start[1], z],
+                centre: h,
+                cw: false,
+            });
+        }
+        // A last full turn at the bottom, then back to the centre.
+        steps.push(Step::Arc {
+            to: [start[0], start[1], bottom],
+            centre: h,
+            cw: false,
+        });
+        steps.push(Step::Cut([h[0], h[1], bottom]));
+        steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
+    }
+    Toolpath {
+        label: "registration holes",
+        pass,
+        steps,
+    }
+}
+
+/// Orients a closed line clockwise (climb milling round material on its
+/// right with the spindle turning clockwise; common practice, from memory)
+/// or counter-clockwise.
+fn orient(mut l: Line, clockwise: bool) -> Line {
+    if l.closed && (field::signed_area(&l.points) < 0.0) != clockwise {
+        l.points.reverse();
+    }
+    l
+}
+
+fn roughing(ctx: &Ctx) -> Toolpath {
+    let job = ctx.job;
+    let pass = job.roughing.clone();
+    let r = pass.tool.cutter.radius;
+    let (lo, hi) = ctx.region();
+    let cell = 2.0;
+    let grid = Field::new(lo, hi, cell, 0.0);
+    // The tool as the grid must see it: grown by the stock to leave and by
+    // the farthest a path point can be from a grid node, so every point of
+    // every path is at least the stock to leave away from the part.
+    let grow = pass.leave + std::f64::consts::FRAC_1_SQRT_2 * cell;
+    let dc = DropCutter::new(
+        &ctx.guard.iter().collect::<Vec<_>>(),
+        Cutter::flat(2.0 * (r + grow)),
+    );
+    let nodes = grid.nodes();
+    let floor: Vec<f64> = nodes.iter().map(|p| ctx.floor(p[0])).collect();
+    let high: Vec<f64> = dc
+        .drop_many(&nodes)
+        .into_iter()
+        .zip(&floor)
+        .map(|(d, &f)| d.map_or(f, |d| (d + pass.leave).max(f)))
+        .collect();
+    // The band the roughing may clear: tool centres within frame - r of the outline.
+    let band_limit = job.frame - r;
+    let in_band: Vec<bool> = nodes
+        .iter()
+        .map(|p| ctx.outside.at(*p) <= band_limit)
+        .collect();
+    let lowest = high
+        .iter()
+        .zip(&in_band)
+        .filter(|(_, b)| **b)
+        .map(|(h, _)| *h)
+        .fold(f64::INFINITY, f64::min);
+    let mut levels = Vec::new();
+    let mut z = 0.0;
+    while z - pass.stepdown > lowest + 1e-6 {
+        z -= pass.stepdown;
+        levels.push(z);
+    }
+    if lowest < z - 1e-6 {
+        levels.push(lowest);
+    }
+    let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
+    let mut prev_z = 0.0;
+    for &level in &levels {
+        let blocked: Vec<bool> = high
+            .iter()
+            .zip(&in_band)
+            .map(|(h, b)| *h > level + 1e-9 || !b)
+            .collect();
+        let part_blocked: Vec<bool> = high.iter().map(|h| *h > level + 1e-9).collect();
+        let dist = field::distance_to(&grid, &blocked);
+        let dpart = field::distance_to(&grid, &part_blocked);
+        let first = 1.5 * cell;
+        let mut rings = Vec::new();
+        let max_d = dist
+            .values
+            .iter()
+            .copied()
+            .filter(|v| v.is_finite())
+            .fold(0.0, f64::max);
+        let mut d = first;
+        let mut ds = Vec::new();
+        while d <= max_d {
+            ds.push(d);
+            d += pass.stepover;
+        }
+        // Outermost first: from the band's wall in towards the part.
+        for &d in ds.iter().rev() {
+            for l in field::contours(&dist, d) {
+                rings.push(orient(l, pass.climb));
+            }
+        }
+        let _ = &dpart;
+        for ring in rings {
+            if ring.points.len() < 2 {
+                continue;
+            }
+            let pts: Vec<[f64; 3]> = ring.points.iter().map(|p| [p[0], p[1], level]).collect();
+            entry(&mut steps, ctx, &pts, ring.closed, prev_z, level, &pass);
+        }
+        prev_z = level;
+    }
+    steps.push(Step::Rapid(last_xy(&steps, ctx.clear)));
+    Toolpath {
+        label: "roughing",
+        pass,
+        steps,
+    }
+}
+
+fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
+    let p = steps
+        .iter()
+        .rev()
+        .find_map(|s| match s {
+            Step::Rapid(p) | Step::Plunge(p) | Step::Cut(p) => Some(*p),
+            Step::Arc { to, .. } => Some(*to),
+        })
+        .unwrap_or([0.0; 3]);
+    [p[0], p[1], z]
+}
+
+/// Goes to the start of a ring and cuts it: rapid at clearance, rapid down
+/// to 2 mm above the level cleared before, then a zig-zag ramp at 3° down
+/// to this level along the ring's first stretch (common practice for
+/// foam, no source), then the ring.
+fn entry(
+    steps: &mut Vec<Step>,
+    ctx: &Ctx,
+    pts: &[[f64; 3]],
+    closed: bool,
+    above: f64,
+    level: f64,
+    _pass: &Pass,
+) {
+    let start = pts[0];
+    steps.push(Step::Rapid(last_xy(steps, ctx.clear)));
+    steps.push(Step::Rapid([start[0], start[1], ctx.clear]));
+    steps.push(Step::Rapid([start[0], start[1], above + 2.0]));
+    steps.push(Step::Plunge([start[0], start[1], above]));
+    let drop = above - level;
+    let ramp_len = drop / 3f64.to_radians().tan();
+    // The stretch to ramp along: up to half the ramp length forward.
+    let mut stretch = vec![start];
+    let mut run = 0.0;
+    for w in pts.windows(2) {
+        let l = ((w[1][0] - w[0][0]).powi(2) + (w[1][1] - w[0][1]).powi(2)).sqrt();
+        stretch.push(w[1]);
+        run += l;
+        if run >= ramp_len / 2.0 {
+            break;
+        }
+    }
+    if run > 1e-6 && drop > 1e-9 {
+        let laps = (ramp_len / (2.0 * run)).ceil().max(1.0) as usize;
+        let total = 2.0 * run * laps as f64;
+        let mut done = 0.0;
+        let mut at = start;
+        for _ in 0..laps {
+            for dir in [true, false] {
+                let seq: Vec<[f64; 3]> = if dir {
+                    stretch[1..].to_vec()
+                } else {
+                    stretch.iter().rev().skip(1).copied().collect()
+                };
+                for p in seq {
+                    done += ((p[0] - at[0]).powi(2) + (p[1] - at[1]).powi(2)).sqrt();
+                    let z = above - drop * (done / total).min(1.0);
+                    steps.push(Step::Cut([p[0], p[1], z]));
+                    at = p;
+                }
+            }
+        }
+    } else {
+        steps.push(Step::Plunge(start));
+    }
+    steps.push(Step::Cut(start));
+    for p in &pts[1..] {
+        steps.push(Step::Cut(*p));
+    }
+    if closed {
+        steps.push(Step::Cut(start));
+    }
+    let end = if closed { start } else { pts[pts.len() - 1] };
+    steps.push(Step::Rapid([end[0], end[1], ctx.clear]));
+}
+
+/// The separation pass: round the outline at the parting surface, in a
+/// spiral that descends one outline stepdown a lap from above the deepest
+/// roughing stair, lifted over the tabs by the drop-cutter.
+fn outline(ctx: &Ctx) -> Toolpath {
+    let job = ctx.job;
+    let pass = job.outline.clone();
+    let r = pass.tool.cutter.radius;
+    let loops = field::contours(&ctx.outside, r + 0.6);
+    let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), pass.tool.cutter);
+    let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
+    let rise = job.roughing.stepdown + 1.0;
+    let laps = (rise / pass.stepdown).ceil().max(1.0) as usize;
+    for l in loops.into_iter().filter(|l| l.closed && l.points.len() > 8) {
+        let l = orient(l, pass.climb);
+        // Resample to 2 mm along the loop.
+        let pts = resample(&l.points, 2.0, true);
+        let n = pts.len();
+        let lap_len = n as f64;
+        let z_of = |k: usize, lap: usize| {
+            let p = pts[k];
+            let floor = ctx.floor(p[0]);
+            let descent = rise * (1.0 - ((lap * n + k) as f64 / (laps as f64 * lap_len)).min(1.0));
+            let z = floor + descent;
+            dc.drop(p[0], p[1]).map_or(z, |d| z.max(d))
+        };
+        let s = pts[0];
+        steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
+        let z0 = z_of(0, 0);
+        steps.push(Step::Rapid([s[0], s[1], z0 + 2.0]));
+        steps.push(Step::Plunge([s[0], s[1], z0]));
+        for lap in 0..=laps {
+            for (k, p) in pts.iter().enumerate() {
+                let z = if lap == laps {
+                    ctx.floor(p[0]).max(dc.drop(p[0], p[1]).unwrap_or(f64::MIN))
+                } else {
+                    z_of(k, lap)
+                };
+                steps.push(Step::Cut([p[0], p[1], z]));
+            }
+        }
+        let z = ctx.floor(s[0]).max(dc.drop(s[0], s[1]).unwrap_or(f64::MIN));
+        steps.push(Step::Cut([s[0], s[1], z]));
+        steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
+    }
+    Toolpath {
+        label: "outline",
+        pass,
+        steps,
+    }
+}
+
+fn resample(points: &[[f64; 2]], step: f64, closed: bool) -> Vec<[f64; 2]> {
+    let mut out = vec![points[0]];
+    let mut pts = points.to_vec();
+    if closed {
+        pts.push(points[0]);
+    }
+    let mut carry = 0.0;
+    for w in pts.windows(2) {
+        let l = ((w[1][0] - w[0][0]).powi(2) + (w[1][1] - w[0][1]).powi(2)).sqrt();
+        let mut t = step - carry;
+        while t < l {
+            let f = t / l;
+            out.push([
+                w[0][0] + f * (w[1][0] - w[0][0]),
+                w[0][1] + f * (w[1][1] - w[0][1]),
+            ]);
+            t += step;
+        }
+        carry = l - (t - step);
+    }
+    if !closed {
+        out.push(points[points.len() - 1]);
+    }
+    out
+}
+
+/// Scallop stepover on a flat for a ball of radius `r` and cusp height
+/// `h`: s = 2·√(2rh − h²) (standard machining geometry: the chord of a
+/// circle of radius r at depth h).
+pub fn scallop_stepover(r: f64, h: f64) -> f64 {
+    2.0 * (2.0 * r * h - h * h).max(0.0).sqrt()
+}
+
+/// Simplifies a pass: drops points within `tol` of the line through their
+/// neighbours (Douglas–Peucker, Cartographica 10, 1973), in 3D.
+pub fn simplify(points: &[[f64; 3]], tol: f64) -> Vec<[f64; 3]> {
+    if points.len() < 3 {
+        return points.to_vec();
+    }
+    let mut keep = vec![false; points.len()];
+    keep[0] = true;
+    keep[points.len() - 1] = true;
+    let mut stack = vec![(0usize, points.len() - 1)];
+    while let Some((a, b)) = stack.pop() {
+        let (pa, pb) = (points[a], points[b]);
+        let d = [pb[0] - pa[0], pb[1] - pa[1], pb[2] - pa[2]];
+        let dd = d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
+        let mut worst = (0.0, a);
+        for (k, p) in points.iter().enumerate().take(b).skip(a + 1) {
+            let w = [p[0] - pa[0], p[1] - pa[1], p[2] - pa[2]];
+            let t = if dd > 0.0 {
+                ((w[0] * d[0] + w[1] * d[1] + w[2] * d[2]) / dd).clamp(0.0, 1.0)
+            } else {
+                0.0
+            };
+            let q = lerp3(pa, pb, t);
+            let e = ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt();
+            if e > worst.0 {
+                worst = (e, k);
+            }
+        }
+        if worst.0 > tol {
+            keep[worst.1] = true;
+            stack.push((a, worst.1));
+            stack.push((worst.1, b));
+        }
+    }
+    points
+        .iter()
+        .zip(keep)
+        .filter(|(_, k)| *k)
+        .map(|(p, _)| *p)
+        .collect()
+}
+
+fn finishing(ctx: &Ctx) -> (Toolpath, usize) {
+    let job = ctx.job;
+    let fin = &job.finishing;
+    let pass = fin.pass.clone();
+    let cutter = pass.tool.cutter;
+    let r = cutter.radius;
+    let s = scallop_stepover(r, fin.scallop);
+    let theta = fin.steep_angle.to_radians();
+    let stepover = s * theta.cos();
+    let dz = s * theta.sin();
+    let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), cutter);
+    let along = (0.5f64).min(s / 2.0);
+    let reach = r + 1.0;
+    let p = ctx.place;
+    let (y0, y1) = (
+        p.centre_y - p.half_width - reach,
+        p.centre_y + p.half_width + reach,
+    );
+    let (x0, x1) = (p.x_range[0] - reach, p.x_range[1] + reach);
+    let n_pass = ((y1 - y0) / stepover).ceil() as usize + 1;
+    let n_along = ((x1 - x0) / along).ceil() as usize + 1;
+    let tol = fin.tolerance;
+    // Every cutter position of every pass, in parallel, in pass order.
+    let passes: Vec<Vec<Vec<[f64; 3]>>> = (0..n_pass)
+        .into_par_iter()
+        .map(|j| {
+            let y = (y0 + j as f64 * stepover).min(y1);
+            let mut runs: Vec<Vec<[f64; 3]>> = Vec::new();
+            let mut run: Vec<[f64; 3]> = Vec::new();
+            for k in 0..n_along {
+                let x = (x0 + k as f64 * along).min(x1);
+                if ctx.outside.at([x, y]) > reach {
+                    if run.len() > 1 {
+                        runs.push(std::mem::take(&mut run));
+                    }
+                    run.clear();
+                    continue;
+                }
+                let f = ctx.floor(x);
+                let z = dc.drop(x, y).map_or(f, |d| d.max(f));
+                run.push([x, y, z]);
+            }
+            if run.len() > 1 {
+                runs.push(run);
+            }
+            if j % 2 == 1 {
+                runs.reverse();
+                for r in &mut runs {
+                    r.reverse();
+                }
+            }
+            runs.into_iter().map(|r| simplify(&r, tol)).collect()
+        })
+        .collect();
+    let mut positions = n_pass * n_along;
+    let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
+    let mut at: Option<[f64; 3]> = None;
+    for runs in passes {
+        for run in runs {
+            link(&mut steps, ctx, &dc, &mut at, &run, stepover * 1.5);
+        }
+    }
+    // Z levels over the steep rail band.
+    let (wl, n) = waterlines(ctx, &dc, dz, theta);
+    positions += n;
+    for run in wl {
+        link(&mut steps, ctx, &dc, &mut at, &run, 0.0);
+    }
+    steps.push(Step::Rapid(last_xy(&steps, ctx.clear)));
+    (
+        Toolpath {
+            label: "finishing",
+            pass,
+            steps,
+        },
+        positions,
+    )
+}
+
+/// Joins the tool to the start of `run`: across the surface when the gap
+/// is short (following the drop-cutter, so it cannot gouge), otherwise up
+/// to clearance and across.
+fn link(
+    steps: &mut Vec<Step>,
+    ctx: &Ctx,
+    dc: &DropCutter,
+    at: &mut Option<[f64; 3]>,
+    run: &[[f64; 3]],
+    short: f64,
+) {
+    let s = run[0];
+    let near = at.is_some_and(|a| ((a[0] - s[0]).powi(2) + (a[1] - s[1]).powi(2)).sqrt() <= short);
+    if let (true, Some(a)) = (near, *at) {
+        let n = (((a[0] - s[0]).powi(2) + (a[1] - s[1]).powi(2)).sqrt() / 0.5)
+            .ceil()
+            .max(1.0) as usize;
+        for k in 1..n {
+            let t = k as f64 / n as f64;
+            let (x, y) = (a[0] + t * (s[0] - a[0]), a[1] + t * (s[1] - a[1]));
+            let f = ctx.floor(x);
+            let z = dc
+                .drop(x, y)
+                .map_or(f, |d| d.max(f))
+                .max(a[2] + t * (s[2] - a[2]));
+            steps.push(Step::Cut([x, y, z]));
+        }
+    } else {
+        steps.push(Step::Rapid(last_xy(steps, ctx.clear)));
+        steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
+        steps.push(Step::Rapid([s[0], s[1], s[2] + 2.0]));
+        steps.push(Step::Plunge(s));
+    }
+    for p in &run[1..] {
+        steps.push(Step::Cut(*p));
+    }
+    *at = Some(run[run.len() - 1]);
+}
+
+/// Z-level passes where the surface is steeper than `theta`: contours of
+/// the drop-cutter height every `dz`, each point then dropped exactly.
+fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64; 3]>>, usize) {
+    let r = dc.cutter().radius;
+    let p = ctx.place;
+    let lo = [p.x_range[0] - r - 2.0, p.centre_y - p.half_width - r - 2.0];
+    let hi = [p.x_range[1] + r + 2.0, p.centre_y + p.half_width + r + 2.0];
+    let grid = Field::new(lo, hi, 1.0, 0.0);
+    let nodes = grid.nodes();
+    // Only near the rail: within 40 mm inside the outline and r + 1 outside.
+    let inside_band: Vec<bool> = nodes
+        .par_iter()
+        .map(|q| ctx.outside.at(*q) <= r + 1.0)
+        .collect();
+    let heights: Vec<f64> = nodes
+        .par_iter()
+        .zip(&inside_band)
+        .map(|(q, &b)| {
+            let f = ctx.floor(q[0]);
+            if b {
+                dc.drop(q[0], q[1]).map_or(f, |d| d.max(f))
+            } else {
+                f64::NAN
+            }
+        })
+        .collect();
+    let count = inside_band.iter().filter(|b| **b).count();
+    let h = grid.with_values(heights.clone());
+    let [nx, ny] = grid.dims;
+    let tan = theta.tan();
+    let slope = |i: usize, j: usize| {
+        let v = |i: usize, j: usize| heights[j * nx + i];
+        if i == 0 || j == 0 || i + 1 >= nx || j + 1 >= ny {
+            return 0.0;
+        }
+        let gx = (v(i + 1, j) - v(i - 1, j)) / 2.0;
+        let gy = (v(i, j + 1) - v(i, j - 1)) / 2.0;
+        (gx * gx + gy * gy).sqrt()
+    };
+    let mut steep = vec![false; heights.len()];
+    let mut top = f64::NEG_INFINITY;
+    let mut bottom = f64::INFINITY;
+    for j in 0..ny {
+        for i in 0..nx {
+            let k = j * nx + i;
+            if heights[k].is_finite() && slope(i, j) >= tan * 0.9 {
+                steep[k] = true;
+                top = top.max(heights[k]);
+                bottom = bottom.min(heights[k]);
+            }
+        }
+    }
+    if !(top > bottom) {
+        return (vec![], count);
+    }
+    // NaN nodes count as below every level so contours close round the band.
+    let filled = grid.with_values(
+        heights
+            .iter()
+            .map(|v| if v.is_finite() { *v } else { -1e9 })
+            .collect(),
+    );
+    let mut levels = Vec::new();
+    let mut z = top - dz / 2.0;
+    while z > bottom {
+        levels.push(z);
+        z -= dz;
+    }
+    let runs: Vec<Vec<Vec<[f64; 3]>>> = levels
+        .par_iter()
+        .map(|&level| {
+            let mut out = Vec::new();
+            for l in field::contours(&filled, level) {
+                let pts = resample(&l.points, 0.5, l.closed);
+                let mut run: Vec<[f64; 3]> = Vec::new();
+                for q in pts {
+                    let near_steep = {
+                        let i = ((q[0] - lo[0]) / 1.0).round() as usize;
+                        let j = ((q[1] - lo[1]) / 1.0).round() as usize;
+                        i < nx && j < ny && steep[j * nx + i]
+                    };
+                    if !near_steep || h.at(q).is_nan() {
+                        if run.len() > 1 {
+                            out.push(std::mem::take(&mut run));
+                        }
+                        run.clear();
+                        continue;
+                    }
+                    let f = ctx.floor(q[0]);
+                    let zq = dc.drop(q[0], q[1]).map_or(f, |d| d.max(f));
+                    run.push([q[0], q[1], zq]);
+                }
+                if run.len() > 1 {
+                    out.push(run);
+                }
+            }
+            out
+        })
+        .collect();
+    let tol = ctx.job.finishing.tolerance;
+    (
+        runs.into_iter()
+            .flatten()
+            .map(|r| simplify(&r, tol))
+            .collect(),
+        count,
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn scallop_stepover_is_the_chord_at_cusp_depth() {
+        // s = 2·√(2Rh − h²) (standard machining geometry). For R = 6.35 mm,
+        // h = 0.1 mm: s = 2·√(1.27 − 0.01) = 2.2450 mm.
+        assert!((scallop_stepover(6.35, 0.1) - 2.0 * 1.26f64.sqrt()).abs() < 1e-12);
+        // Hand check against the circle: the cusp between two balls s apart
+        // sits h above their lowest points.
+        let (r, h) = (6.35, 0.1);
+        let s = scallop_stepover(r, h);
+        let cusp = r - (r * r - (s / 2.0).powi(2)).sqrt();
+        assert!((cusp - h).abs() < 1e-12);
+    }
+
+    #[test]
+    fn simplify_keeps_corners_and_drops_collinear_points() {
+        let pts: Vec<[f64; 3]> = (0..=10)
+            .map(|k| [k as f64, 0.0, if k <= 5 { 0.0 } else { k as f64 - 5.0 }])
+            .collect();
+        let s = simplify(&pts, 0.01);
+        assert_eq!(s, vec![[0.0, 0.0, 0.0], [5.0, 0.0, 0.0], [10.0, 0.0, 5.0]]);
+    }
+}

@@ -1,0 +1,505 @@
+//! From a placed board to finished programs: toolpaths for both setups,
+//! one program per setup and tool, the setup sheet, and the safety gates
+//! that read each finished program back as text.
+
+use std::io::BufReader;
+
+use super::job::Job;
+use super::paths::{self, SetupPaths, Step, Toolpath};
+use super::profile::{Machine, Tool, mm_text};
+use super::setup::{self, CamError, Placement, Side};
+use crate::gcode::read::{self, Event, Motion, ReadOptions};
+use crate::gcode::write::{self, CAUTIONS, Header};
+use crate::mesh::Mesh;
+use crate::units::{self, Unit};
+
+/// The rail apex line of a resolved board, every 2 mm, for [`plan`].
+pub fn apex_line(board: &crate::board::Board) -> Vec<[f64; 3]> {
+    let n = (board.length / 2.0).ceil().max(1.0) as usize;
+    (0..=n)
+        .map(|k| {
+            let x = board.length * k as f64 / n as f64;
+            [x, 0.0, board.station(x).apex_height()]
+        })
+        .collect()
+}
+
+/// One finished program.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Program {
+    /// File name, e.g. `shortboard-1-deck-T1.nc`.
+    pub file_name: String,
+    /// Setup.
+    pub side: Side,
+    /// Tool.
+    pub tool: Tool,
+    /// What it cuts, in order.
+    pub labels: Vec<&'static str>,
+    /// The program text.
+    pub text: String,
+    /// Estimated run time, seconds.
+    pub time_s: f64,
+    /// Length of tool travel, mm.
+    pub path_mm: f64,
+}
+
+/// Everything the cutting stage makes.
+#[derive(Debug, Clone)]
+pub struct CutPlan {
+    /// Where the board sits.
+    pub placement: Placement,
+    /// Toolpaths per setup.
+    pub setups: Vec<SetupPaths>,
+    /// Programs in running order.
+    pub programs: Vec<Program>,
+    /// The setup sheet text.
+    pub sheet: String,
+}
+
+/// Builds and checks the programs for a board mesh (nose at low X).
+pub fn plan(
+    name: &str,
+    litres: f64,
+    board: &Mesh,
+    apex: Option<&[[f64; 3]]>,
+    machine: &Machine,
+    job: &Job,
+    progress: &dyn Fn(&str),
+) -> Result<CutPlan, CamError> {
+    progress("placing the board");
+    let placement = setup::place(board, apex, job)?;
+    fits_machine(&placement, machine, job)?;
+    let mut setups = Vec::new();
+    for side in [Side::Deck, Side::Bottom] {
+        setups.push(paths::setup_paths(
+            &placement,
+            job,
+            side,
+            machine.clearance,
+            &|s| {
+                progress(&format!(
+                    "setup {} ({} up): {s}",
+                    side.number(),
+                    side.name()
+                ))
+            },
+        ));
+    }
+    let mut programs = Vec::new();
+    for sp in &setups {
+        // Group the paths by tool, in cutting order.
+        let mut groups: Vec<Vec<&Toolpath>> = Vec::new();
+        for p in &sp.paths {
+            match groups.last_mut() {
+                Some(g) if machine.tool_changer || g[0].pass.tool.id == p.pass.tool.id => g.push(p),
+                _ => groups.push(vec![p]),
+            }
+        }
+        for g in groups {
+            let tool = g[0].pass.tool.clone();
+            let (time_s, path_mm) = estimate(&g, machine);
+            let tools: Vec<String> = {
+                let mut t: Vec<String> = g.iter().map(|p| p.pass.tool.describe()).collect();
+                t.dedup();
+                t
+            };
+            let file_name = if machine.tool_changer {
+                format!("{name}-{}-{}.nc", sp.side.number(), sp.side.name())
+            } else {
+                format!(
+                    "{name}-{}-{}-T{}.nc",
+                    sp.side.number(),
+                    sp.side.name(),
+                    tool.id
+                )
+            };
+            let b = &placement.block;
+            let header = Header {
+                lines: vec![
+                    format!("blanksmith program {file_name}"),
+                    format!("board {name}, {litres:.2} L"),
+                    format!("setup {} of 2: {} up{}", sp.side.number(), sp.side.name(), if sp.side == Side::Bottom { ", after the flip about X onto the registration pins" } else { "" }),
+                    format!("cuts: {}", g.iter().map(|p| p.label).collect::<Vec<_>>().join(", ")),
+                    format!("tool: {}", tools.join("; ")),
+                    "zero: X0 Y0 at the front-left corner of the block's top face, Z0 on the top face (touch off the tool tip)".to_string(),
+                    format!("stock: {} x {} x {} mm block (L x W x T), front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), job.table_position[0], job.table_position[1]),
+                    format!("units: {}; estimated run time {}", unit_name(machine.output), duration(time_s)),
+                ],
+                cautions: CAUTIONS.iter().map(|s| s.to_string()).collect(),
+            };
+            let text = write::program(
+                &header,
+                &g,
+                machine.output,
+                machine.clearance,
+                machine.spindle_ramp,
+                machine.tool_changer,
+                machine.max_feed_z,
+            );
+            programs.push(Program {
+                file_name,
+                side: sp.side,
+                tool,
+                labels: g.iter().map(|p| p.label).collect(),
+                text,
+                time_s,
+                path_mm,
+            });
+        }
+    }
+    for p in &programs {
+        let problems = check_text(p, machine, &placement, job);
+        if !problems.is_empty() {
+            return Err(CamError::Refused(format!(
+                "{}: {}",
+                p.file_name,
+                problems.join("; ")
+            )));
+        }
+    }
+    let sheet = setup_sheet(name, litres, &placement, &programs, machine, job);
+    Ok(CutPlan {
+        placement,
+        setups,
+        programs,
+        sheet,
+    })
+}
+
+fn f1(v: f64) -> String {
+    format!("{v:.1}")
+}
+
+fn unit_name(u: Unit) -> &'static str {
+    match u {
+        Unit::Mm => "mm (G21)",
+        Unit::In => "inch (G20)",
+    }
+}
+
+/// `1 h 02 min 05 s`.
+pub fn duration(s: f64) -> String {
+    let t = s.round() as u64;
+    let (h, m, sec) = (t / 3600, (t / 60) % 60, t % 60);
+    if h > 0 {
+        format!("{h} h {m:02} min {sec:02} s")
+    } else {
+        format!("{m} min {sec:02} s")
+    }
+}
+
+fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {
+    let b = &p.block;
+    let [tx, ty] = job.table_position;
+    let mut why = Vec::new();
+    if tx + b.length > m.travel[0] {
+        why.push(format!(
+            "the block runs to machine X {:.1} mm but X travel is {:.1} mm",
+            tx + b.length,
+            m.travel[0]
+        ));
+    }
+    if ty + b.width > m.travel[1] {
+        why.push(format!(
+            "the block runs to machine Y {:.1} mm but Y travel is {:.1} mm",
+            ty + b.width,
+            m.travel[1]
+        ));
+    }
+    let top = m.table_top + b.thickness + m.clearance;
+    if top > m.travel[2] {
+        why.push(format!(
+            "the block top plus clearance is {:.1} mm above the bed but Z travel is {:.1} mm",
+            top, m.travel[2]
+        ));
+    }
+    if why.is_empty() {
+        Ok(())
+    } else {
+        Err(CamError::Fit(format!(
+            "the stock does not fit the machine: {}",
+            why.join("; ")
+        )))
+    }
+}
+
+/// Run time: feed moves at their feed (limited by the machine's Z rate on
+/// steep moves), rapids at the machine's rapid rates with the axes moving
+/// together, plus the spindle dwell.
+fn estimate(paths: &[&Toolpath], m: &Machine) -> (f64, f64) {
+    let mut at = [0.0, 0.0, m.clearance];
+    let (mut t, mut len) = (m.spindle_ramp, 0.0);
+    for p in paths {
+        for s in &p.steps {
+            let (to, feed, arc) = match *s {
+                Step::Rapid(to) => (to, None, None),
+                Step::Plunge(to) => (to, Some(p.pass.plunge_feed), None),
+                Step::Cut(to) => (to, Some(p.pass.feed), None),
+                Step::Arc { to, centre, .. } => (to, Some(p.pass.feed), Some(centre)),
+            };
+            let dxy = match arc {
+                // Full turns: the helix length is 2πr a turn.
+                Some(c) => {
+                    2.0 * std::f64::consts::PI
+                        * ((at[0] - c[0]).powi(2) + (at[1] - c[1]).powi(2)).sqrt()
+                }
+                None => ((to[0] - at[0]).powi(2) + (to[1] - at[1]).powi(2)).sqrt(),
+            };
+            let dz = (to[2] - at[2]).abs();
+            let d = (dxy * dxy + dz * dz).sqrt();
+            len += d;
+            t += match feed {
+                None => (dxy / m.rapid_xy).max(dz / m.rapid_z) * 60.0,
+                Some(f) => {
+                    let f = if d > 0.0 {
+                        f.min(m.max_feed_z * d / dz.max(1e-12))
+                    } else {
+                        f
+                    };
+                    d / f * 60.0
+                }
+            };
+            at = to;
+        }
+    }
+    (t, len)
+}
+
+/// The safety gates, on the program text as written: reads it back with
+/// the project's reader and checks every move and setting.
+pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec<String> {
+    let b = &place.block;
+    let [tx, ty] = job.table_position;
+    let mut problems: Vec<String> = Vec::new();
+    let mut note = |s: String| {
+        if problems.len() < 8 {
+            problems.push(s);
+        }
+    };
+    let mut first_move = true;
+    let mut spindle_started = false;
+    let lowest_ok = -b.thickness - m.spoilboard_allowance.min(job.pin_depth) - 1e-6;
+    let result = read::read(
+        BufReader::new(p.text.as_bytes()),
+        &p.file_name,
+        ReadOptions::default(),
+        |e| match e {
+            Event::Move {
+                line,
+                motion,
+                from,
+                to,
+                feed,
+                spindle,
+                spindle_on,
+                ..
+            } => {
+                if first_move {
+                    first_move = false;
+                    if motion != Motion::Rapid
+                        || to[0] != from[0]
+                        || to[1] != from[1]
+                        || to[2] < m.clearance - 1e-6
+                    {
+                        note(format!(
+                            "line {line}: the first move must rise to clearance height"
+                        ));
+                    }
+                }
+                for q in [to] {
+                    let mach = [q[0] + tx, q[1] + ty, q[2] + b.thickness + m.table_top];
+                    for a in 0..3 {
+                        if mach[a] < -1e-6 || mach[a] > m.travel[a] + 1e-6 {
+                            note(format!(
+                                "line {line}: move to machine {} {:.3} mm is outside the travel 0..{:.1} mm",
+                                ["X", "Y", "Z"][a],
+                                mach[a],
+                                m.travel[a]
+                            ));
+                        }
+                    }
+                    if q[2] < lowest_ok {
+                        note(format!(
+                            "line {line}: Z {:.3} mm is below the table top (block bottom at Z {:.3} mm, spoilboard allowance {:.1} mm)",
+                            q[2], -b.thickness, m.spoilboard_allowance
+                        ));
+                    }
+                    if -q[2] > p.tool.reach + 1e-6 {
+                        note(format!(
+                            "line {line}: Z {:.3} mm is deeper below the block top than T{} reaches below its holder ({})",
+                            q[2],
+                            p.tool.id,
+                            mm_text(p.tool.reach)
+                        ));
+                    }
+                }
+                if motion != Motion::Rapid {
+                    if !spindle_on || spindle <= 0.0 {
+                        note(format!("line {line}: a feed move with the spindle off"));
+                    }
+                    if !spindle_started {
+                        note(format!(
+                            "line {line}: a feed move before the spindle start and dwell"
+                        ));
+                    }
+                    let d = [to[0] - from[0], to[1] - from[1], to[2] - from[2]];
+                    let len = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
+                    if feed > m.max_feed_xy + 1e-6 {
+                        note(format!(
+                            "line {line}: feed {feed:.0} mm/min is beyond the machine's {:.0} mm/min",
+                            m.max_feed_xy
+                        ));
+                    }
+                    if len > 0.0 && feed * d[2].abs() / len > m.max_feed_z + 1e-3 {
+                        note(format!(
+                            "line {line}: Z feed {:.0} mm/min is beyond the machine's {:.0} mm/min",
+                            feed * d[2].abs() / len,
+                            m.max_feed_z
+                        ));
+                    }
+                }
+                if spindle > 0.0 && (spindle < m.spindle_min || spindle > m.spindle_max) {
+                    note(format!(
+                        "line {line}: spindle {spindle:.0} rpm is outside the machine's {:.0}..{:.0} rpm",
+                        m.spindle_min, m.spindle_max
+                    ));
+                }
+            }
+            Event::Dwell { .. } => spindle_started = true,
+            Event::Setting {
+                line,
+                spindle: Some(s),
+                ..
+            } if s > m.spindle_max || (s > 0.0 && s < m.spindle_min) => note(format!(
+                "line {line}: spindle {s:.0} rpm is outside the machine's {:.0}..{:.0} rpm",
+                m.spindle_min, m.spindle_max
+            )),
+            _ => {}
+        },
+    );
+    let lines: Vec<&str> = p.text.lines().collect();
+    let mut problems: Vec<String> = problems
+        .into_iter()
+        .map(|s| {
+            // Quote the line the problem is on.
+            let n: Option<usize> = s
+                .strip_prefix("line ")
+                .and_then(|r| r.split(':').next())
+                .and_then(|n| n.parse().ok());
+            match n.and_then(|n| lines.get(n - 1)) {
+                Some(text) => format!("{s} (`{text}`)"),
+                None => s,
+            }
+        })
+        .collect();
+    match result {
+        Err(e) => problems.push(format!("the program does not read back: {e}")),
+        Ok(s) if s.missing_end => problems.push("the program has no M30 end".into()),
+        Ok(_) => {}
+    }
+    problems
+}
+
+/// The setup sheet: the steps in order, each program's tool, time and cautions.
+pub fn setup_sheet(
+    name: &str,
+    litres: f64,
+    place: &Placement,
+    programs: &[Program],
+    m: &Machine,
+    job: &Job,
+) -> String {
+    let mut s = String::new();
+    let both = |v: f64| units::Both(v).to_string();
+    s.push_str(&format!(
+        "SETUP SHEET: {name} ({litres:.2} L) on {}\n\n",
+        m.name
+    ));
+    for c in CAUTIONS {
+        s.push_str(c);
+        s.push('\n');
+    }
+    s.push_str("\nFIT\n");
+    for l in place.fit_lines() {
+        s.push_str(&format!("  {l}\n"));
+    }
+    let b = &place.block;
+    let [h1, h2] = place.holes;
+    let mut step = 0;
+    let mut next = |text: String, s: &mut String| {
+        step += 1;
+        s.push_str(&format!("{step:>2}. {text}\n"));
+    };
+    s.push_str("\nSTEPS\n");
+    next(
+        format!(
+            "Fix the blank: the {} x {} x {} block flat on the spoilboard, its front-left corner at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot lift or slide (clamps outside the cut band, or vacuum).",
+            both(b.length),
+            both(b.width),
+            both(b.thickness),
+            job.table_position[0],
+            job.table_position[1]
+        ),
+        &mut s,
+    );
+    next("Set zero: X0 Y0 on the block's front-left corner, Z0 on its top face with each tool's tip. Check the tool length after every tool change.".into(), &mut s);
+    let mut flipped = false;
+    for p in programs {
+        if p.side == Side::Bottom && !flipped {
+            flipped = true;
+            next(
+                format!(
+                    "Flip: lift the block off, turn it over about its long (X) axis, and set it back on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), through the block and {:.1} mm into the spoilboard. The front-left corner is again at the same machine X, Y. Pins must not stand above the block's top face.",
+                    h1[0], h2[0], h1[1], job.pin_depth
+                ),
+                &mut s,
+            );
+            next(
+                "Set Z0 again on the new top face (it was the bottom face); X0 Y0 are unchanged."
+                    .into(),
+                &mut s,
+            );
+        }
+        next(
+            format!(
+                "Setup {} ({} up): load {}; run {} ({}); about {}.",
+                p.side.number(),
+                p.side.name(),
+                p.tool.describe(),
+                p.file_name,
+                p.labels.join(", "),
+                duration(p.time_s)
+            ),
+            &mut s,
+        );
+        if p.labels.contains(&"registration holes") {
+            next(
+                "Leave the pins out until the flip; clean the chips out of the holes.".into(),
+                &mut s,
+            );
+        }
+    }
+    next(
+        format!(
+            "Remove the tabs: the board is held at nose and tail by tabs {} wide and {} high; cut them with a fine saw and sand them fair by hand.",
+            both(job.tabs[0]),
+            both(job.tabs[1])
+        ),
+        &mut s,
+    );
+    next(
+        "Sand the scallops and the parting line at the rail apex by hand.".into(),
+        &mut s,
+    );
+    s.push_str("\nPROGRAMS\n");
+    for p in programs {
+        s.push_str(&format!(
+            "  {}: {}, {}, {}\n",
+            p.file_name,
+            p.tool.describe(),
+            p.labels.join(" + "),
+            duration(p.time_s)
+        ));
+    }
+    s
+}

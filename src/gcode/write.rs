@@ -1,0 +1,236 @@
+//! Writes toolpaths as a conservative RS-274/NGC program (NIST IR 6556):
+//! units, absolute mode, plane and feed mode stated before any motion;
+//! clearance height before the first rapid; spindle on and a dwell before
+//! the first cut; a feed before the first G1; spindle off and program end
+//! last. Numbers have a fixed format per unit, so the same paths give the
+//! same bytes.
+
+use std::fmt::Write as _;
+
+use crate::cam::paths::{Step, Toolpath};
+use crate::units::Unit;
+
+/// What a program's header says.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Header {
+    /// Title lines (board, volume, setup, tool, zero, stock, time).
+    pub lines: Vec<String>,
+    /// Cautions, one per line.
+    pub cautions: Vec<String>,
+}
+
+/// The cautions written into every program and the setup sheet.
+pub const CAUTIONS: &[&str] = &[
+    "CAUTION: the machine maker's manual, your shop rules and local codes come first; this program does not replace them",
+    "CAUTION: check work zero and tool length before starting; run an air cut first (zero raised above the stock)",
+    "CAUTION: keep the emergency stop within reach; keep hands and loose clothing clear of the gantry and cutter",
+    "CAUTION: secure the blank and the frame so nothing can lift; never hold foam by hand near the cutter",
+    "CAUTION: run dust extraction and wear a respirator suited to foam dust; wear eye and ear protection",
+];
+
+/// How numbers are written: 3 decimals in mm, 4 in inches.
+fn num(out: &mut String, mm: f64, unit: Unit) {
+    let v = match unit {
+        Unit::Mm => mm,
+        Unit::In => mm / 25.4,
+    };
+    let digits = match unit {
+        Unit::Mm => 3,
+        Unit::In => 4,
+    };
+    let mut s = format!("{v:.digits$}");
+    if s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.') {
+        s.remove(0);
+    }
+    out.push_str(&s);
+}
+
+/// Keeps only characters a comment may hold (no parentheses, ASCII).
+fn comment(out: &mut String, text: &str) {
+    let clean: String = text
+        .chars()
+        .map(|c| match c {
+            '(' | ')' => '-',
+            c if c.is_ascii() && !c.is_control() => c,
+            '°' => 'd',
+            _ => '?',
+        })
+        .collect();
+    let _ = writeln!(out, "({clean})");
+}
+
+/// Modal state of the program being written, so each line carries only
+/// the words that change.
+struct Writer {
+    out: String,
+    unit: Unit,
+    pos: [Option<String>; 3],
+    feed: Option<String>,
+    mode: Option<&'static str>,
+    /// Last position in mm, for capping the feed of steep moves.
+    at: [f64; 3],
+    /// Fastest Z feed the machine allows, mm/min.
+    max_feed_z: f64,
+}
+
+impl Writer {
+    fn fmt(&self, mm: f64) -> String {
+        let mut s = String::new();
+        num(&mut s, mm, self.unit);
+        s
+    }
+
+    fn motion(
+        &mut self,
+        word: &'static str,
+        to: [f64; 3],
+        feed: Option<f64>,
+        centre: Option<[f64; 2]>,
+    ) {
+        let mut words: Vec<String> = Vec::new();
+        let from = self.pos.clone();
+        for (a, letter) in ["X", "Y", "Z"].iter().enumerate() {
+            let v = self.fmt(to[a]);
+            let arc_xy = centre.is_some() && a < 2;
+            if self.pos[a].as_deref() != Some(v.as_str()) || arc_xy {
+                words.push(format!("{letter}{v}"));
+            }
+            self.pos[a] = Some(v);
+        }
+        if let Some(c) = centre {
+            // I and J are offsets from the start point (NIST IR 6556, 3.5.3).
+            let fx: f64 = from[0]
+                .as_deref()
+                .and_then(|s| s.parse().ok())
+                .unwrap_or(0.0);
+            let fy: f64 = from[1]
+                .as_deref()
+                .and_then(|s| s.parse().ok())
+                .unwrap_or(0.0);
+            let k = match self.unit {
+                Unit::Mm => 1.0,
+                Unit::In => 25.4,
+            };
+            words.push(format!("I{}", self.fmt(c[0] - fx * k)));
+            words.push(format!("J{}", self.fmt(c[1] - fy * k)));
+        }
+        if words.is_empty() {
+            self.at = to;
+            return;
+        }
+        let mut line = String::new();
+        if self.mode != Some(word) || centre.is_some() {
+            line.push_str(word);
+            line.push(' ');
+            self.mode = Some(word);
+        }
+        line.push_str(&words.join(" "));
+        if let Some(f) = feed {
+            // A steep move is slowed so its Z component stays within the machine's Z rate.
+            let d = [to[0] - self.at[0], to[1] - self.at[1], to[2] - self.at[2]];
+            let len = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
+            let f = if centre.is_none() && d[2].abs() > 0.0 {
+                f.min(0.99 * self.max_feed_z * len / d[2].abs())
+            } else {
+                f
+            };
+            let f = match self.unit {
+                Unit::Mm => format!("{:.0}", f.floor()),
+                Unit::In => format!("{:.1}", (f / 25.4 * 10.0).floor() / 10.0),
+            };
+            if self.feed.as_deref() != Some(f.as_str()) {
+                line.push_str(" F");
+                line.push_str(&f);
+                self.feed = Some(f);
+            }
+        }
+        self.at = to;
+        let _ = writeln!(self.out, "{line}");
+    }
+
+    fn raw(&mut self, text: &str) {
+        let _ = writeln!(self.out, "{text}");
+    }
+}
+
+/// One program: the header, then each toolpath (all with one tool unless
+/// `tool_changer`), then the end.
+pub fn program(
+    header: &Header,
+    paths: &[&Toolpath],
+    unit: Unit,
+    clearance: f64,
+    dwell: f64,
+    tool_changer: bool,
+    max_feed_z: f64,
+) -> String {
+    let mut w = Writer {
+        out: String::new(),
+        unit,
+        pos: [None, None, None],
+        feed: None,
+        mode: None,
+        at: [0.0, 0.0, clearance],
+        max_feed_z,
+    };
+    for l in &header.lines {
+        comment(&mut w.out, l);
+    }
+    for c in &header.cautions {
+        comment(&mut w.out, c);
+    }
+    w.raw(match unit {
+        Unit::Mm => "G21 G90 G17 G94",
+        Unit::In => "G20 G90 G17 G94",
+    });
+    let z = w.fmt(clearance);
+    // Clearance height before the first rapid.
+    w.raw(&format!("G0 Z{z}"));
+    w.mode = Some("G0");
+    w.pos[2] = Some(z.clone());
+    let mut tool: Option<u32> = None;
+    let mut rpm: Option<f64> = None;
+    for p in paths {
+        comment(
+            &mut w.out,
+            &format!("{}: {}", p.label, p.pass.tool.describe()),
+        );
+        if tool != Some(p.pass.tool.id) {
+            if tool.is_some() {
+                w.raw(&format!("G0 Z{z}"));
+                w.mode = Some("G0");
+                w.pos[2] = Some(z.clone());
+                w.raw("M5");
+                rpm = None;
+            }
+            if tool_changer {
+                w.raw(&format!("T{} M6", p.pass.tool.id));
+            } else {
+                w.raw(&format!("T{}", p.pass.tool.id));
+            }
+            tool = Some(p.pass.tool.id);
+        }
+        if rpm != Some(p.pass.spindle) {
+            w.raw(&format!("S{:.0} M3", p.pass.spindle));
+            w.raw(&format!("G4 P{dwell:.1}"));
+            rpm = Some(p.pass.spindle);
+        }
+        for s in &p.steps {
+            match *s {
+                Step::Rapid(to) => w.motion("G0", to, None, None),
+                Step::Plunge(to) => w.motion("G1", to, Some(p.pass.plunge_feed), None),
+                Step::Cut(to) => w.motion("G1", to, Some(p.pass.feed), None),
+                Step::Arc { to, centre, cw } => w.motion(
+                    if cw { "G2" } else { "G3" },
+                    to,
+                    Some(p.pass.feed),
+                    Some(centre),
+                ),
+            }
+        }
+    }
+    w.raw(&format!("G0 Z{z}"));
+    w.raw("M5");
+    w.raw("M30");
+    w.out
+}
