@@ -6,6 +6,9 @@
 use std::path::{Path, PathBuf};
 
 use crate::board::Board;
+use crate::cam::job::{self, Job};
+use crate::cam::profile::{self, Machine};
+use crate::cam::program::{self, CutPlan};
 use crate::certificate::{self, Certified};
 use crate::compare::Comparison;
 use crate::contours::{self, SliceSet};
@@ -48,6 +51,9 @@ pub enum JobError {
     /// A command-line value is out of range.
     #[error("{0}")]
     Option(String),
+    /// The board does not fit, or a safety gate refused the program.
+    #[error("{0}")]
+    Cam(#[from] crate::cam::setup::CamError),
     /// A file could not be written.
     #[error("{path}: cannot write: {source}")]
     Write {
@@ -199,7 +205,14 @@ pub fn certify_only(board: Board, tolerance: f64) -> Result<Meshed, JobError> {
 /// The main job for one board: everything into `<out>/<name>/`: the
 /// certified mesh (STL and reports) and the full-size templates on A4,
 /// all computed before any file is written.
-pub fn make(input: &Input, tolerance: f64, out: &Path) -> Result<Meshed, JobError> {
+pub fn make(
+    input: &Input,
+    tolerance: f64,
+    out: &Path,
+    cut: &CutArgs,
+    progress: &dyn Fn(&str),
+) -> Result<Meshed, JobError> {
+    let (machine, job) = cut_profiles(cut)?;
     let board = load(input)?;
     let dir = out.join(&board.name);
     let certified = certificate::certify(&board, tolerance)?;
@@ -215,6 +228,16 @@ pub fn make(input: &Input, tolerance: f64, out: &Path) -> Result<Meshed, JobErro
         &dir,
     )?;
     files.extend(template_files);
+    let (_, cut_files) = cut_files(
+        &design,
+        &certified.mesh,
+        certified.certificate.mesh_litres,
+        &machine,
+        &job,
+        &dir,
+        progress,
+    )?;
+    files.extend(cut_files);
     let written = write_all(&files)?;
     Ok(Meshed {
         board,
@@ -222,6 +245,81 @@ pub fn make(input: &Input, tolerance: f64, out: &Path) -> Result<Meshed, JobErro
         report,
         written,
     })
+}
+
+/// Machine and job for the cutting stage: files, or the shipped machine
+/// and the default job.
+#[derive(Debug, Clone, Default)]
+pub struct CutArgs {
+    /// Machine profile; the shipped generic gantry router when `None`.
+    pub machine: Option<PathBuf>,
+    /// Job profile; every default when `None`.
+    pub job: Option<PathBuf>,
+}
+
+/// Reads the machine and job a cut runs with.
+pub fn cut_profiles(args: &CutArgs) -> Result<(Machine, Job), JobError> {
+    let machine = match &args.machine {
+        Some(p) => profile::load_machine(p)?,
+        None => profile::generic_machine(),
+    };
+    let job = match &args.job {
+        Some(p) => job::load_job(p, &machine)?,
+        None => job::default_job(&machine)?,
+    };
+    Ok((machine, job))
+}
+
+/// The cutting stage in memory: programs and setup sheet for a design.
+pub fn cut_files(
+    design: &Design,
+    mesh: &Mesh,
+    litres: f64,
+    machine: &Machine,
+    job: &Job,
+    dir: &Path,
+    progress: &dyn Fn(&str),
+) -> Result<(CutPlan, Files), JobError> {
+    let apex = match design {
+        Design::Board(b) => Some(program::apex_line(b)),
+        Design::Mesh { .. } => None,
+    };
+    let plan = program::plan(
+        design.name(),
+        litres,
+        mesh,
+        apex.as_deref(),
+        machine,
+        job,
+        progress,
+    )?;
+    let mut files: Files = plan
+        .programs
+        .iter()
+        .map(|p| (dir.join(&p.file_name), p.text.clone().into_bytes()))
+        .collect();
+    files.push((
+        dir.join(format!("{}.setup.txt", design.name())),
+        plan.sheet.clone().into_bytes(),
+    ));
+    Ok((plan, files))
+}
+
+/// `cut`: reads a design (description or STL), writes its programs and
+/// setup sheet into `dir`, or nothing if any gate refuses.
+pub fn cut(
+    path: &Path,
+    args: &CutArgs,
+    dir: &Path,
+    progress: &dyn Fn(&str),
+) -> Result<(CutPlan, Vec<PathBuf>), JobError> {
+    let design = load_design(path)?;
+    let (machine, job) = cut_profiles(args)?;
+    let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
+    let litres = crate::volume::volume(&mesh) / 1e6;
+    let (plan, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)?;
+    let written = write_all(&files)?;
+    Ok((plan, written))
 }
 
 /// Something to cut or draw: a board description or a mesh from elsewhere.

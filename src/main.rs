@@ -188,6 +188,33 @@ enum Command {
         /// Chord tolerance of the mesh, mm.
         #[arg(long, default_value_t = DEFAULT_TOLERANCE)]
         tolerance: f64,
+        /// Machine profile (YAML); the shipped generic gantry router when left out.
+        #[arg(long)]
+        machine: Option<PathBuf>,
+        /// Job profile (YAML); every default when left out.
+        #[arg(long)]
+        job: Option<PathBuf>,
+        /// No progress display.
+        #[arg(long)]
+        quiet: bool,
+    },
+    /// Router programs for both sides of the blank: writes DIR/<name>-<setup>-<side>-T<n>.nc
+    /// and DIR/<name>.setup.txt, or nothing when a safety gate refuses.
+    Cut {
+        /// Board description (YAML) or closed mesh (STL, mm, nose at low X, stringer along X).
+        design: PathBuf,
+        /// Machine profile (YAML).
+        #[arg(long)]
+        machine: PathBuf,
+        /// Job profile (YAML); every default when left out.
+        #[arg(long)]
+        job: Option<PathBuf>,
+        /// Output folder.
+        #[arg(short, long, default_value = "out")]
+        out: PathBuf,
+        /// No progress display.
+        #[arg(long)]
+        quiet: bool,
     },
 }
 
@@ -608,12 +635,67 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             board,
             out,
             tolerance,
+            machine,
+            job,
+            quiet,
         } => {
             let input = board.map(Input::File).unwrap_or(Input::Demo);
-            let m = jobs::make(&input, tolerance, &out)?;
+            let bar = progress(quiet);
+            let m = jobs::make(
+                &input,
+                tolerance,
+                &out,
+                &jobs::CutArgs { machine, job },
+                &|s| bar.set_message(s.to_string()),
+            )?;
+            bar.finish_and_clear();
             Ok(finish(&m, false))
         }
+        Command::Cut {
+            design,
+            machine,
+            job,
+            out,
+            quiet,
+        } => {
+            let bar = progress(quiet);
+            let args = jobs::CutArgs {
+                machine: Some(machine),
+                job,
+            };
+            let result = jobs::cut(&design, &args, &out, &|s| bar.set_message(s.to_string()));
+            bar.finish_and_clear();
+            let (plan, written) = result?;
+            for l in plan.placement.fit_lines() {
+                println!("{l}");
+            }
+            for p in &plan.programs {
+                println!(
+                    "{}: {}, {}, about {}",
+                    p.file_name,
+                    p.tool.describe(),
+                    p.labels.join(" + "),
+                    blanksmith::cam::program::duration(p.time_s)
+                );
+            }
+            for p in &written {
+                println!("wrote {}", p.display());
+            }
+            println!("read the setup sheet and the cautions in each program before cutting");
+            Ok(ExitCode::SUCCESS)
+        }
     }
+}
+
+/// A spinner with the stage being worked on, on standard error; hidden
+/// with `--quiet` or when standard error is not a terminal.
+fn progress(quiet: bool) -> indicatif::ProgressBar {
+    if quiet {
+        return indicatif::ProgressBar::hidden();
+    }
+    let bar = indicatif::ProgressBar::new_spinner();
+    bar.enable_steady_tick(std::time::Duration::from_millis(120));
+    bar
 }
 
 fn main() -> ExitCode {
