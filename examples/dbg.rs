@@ -4,21 +4,19 @@ fn main() {
     let c = blanksmith::certificate::certify(&board, 0.01).unwrap();
     let m = profile::generic_machine();
     let j = job::default_job(&m).unwrap();
-    let p = setup::place(&c.mesh, &j).unwrap();
-    let g = p.guard(setup::Side::Deck);
-    let dc = DropCutter::new(&g.iter().collect::<Vec<_>>(), profile::Cutter::ball(12.7));
-    let y0 = p.centre_y - p.half_width - 7.35;
-    eprintln!(
-        "y0 {y0} hw {} floor {}",
-        p.half_width,
-        p.floor_at(setup::Side::Deck, 1130.0, 1.0)
-    );
-    for k in 0..20 {
-        let x = 1125.0 + k as f64 * 0.5;
-        eprintln!("{x} {:?}", dc.drop(x, y0));
+    let apex = blanksmith::cam::program::apex_line(&board);
+    let p = setup::place(&c.mesh, Some(&apex), &j).unwrap();
+    let g = p.guard(setup::Side::Bottom);
+    let ray = DropCutter::new(&[&g[0]], profile::Cutter::flat(0.0));
+    let ball = DropCutter::new(&g.iter().collect::<Vec<_>>(), profile::Cutter::ball(12.7));
+    for y in [509.25, 509.75, 510.25] {
+        eprintln!("design at y {y}: {:?}", ray.drop_contact(1612.25, y));
     }
-    eprintln!(
-        "parting {:?}",
-        &p.parting[p.parting.len() / 2 - 3..p.parting.len() / 2 + 3]
-    );
+    for x in [1132.923, 1133.423, 1133.923] {
+        eprintln!(
+            "ball {x}: {:?} floor {}",
+            ball.drop(x, 567.984),
+            p.floor_at(setup::Side::Bottom, x, 1.0)
+        );
+    }
 }

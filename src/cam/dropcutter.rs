@@ -185,6 +185,32 @@ impl DropCutter {
         (best > f64::NEG_INFINITY).then_some(best)
     }
 
+    /// Like [`drop`](Self::drop), with the unit normal (up) of the
+    /// triangle touched.
+    pub fn drop_contact(&self, x: f64, y: f64) -> Option<(f64, [f64; 3])> {
+        let i = ((x - self.origin[0]) / self.cell).floor();
+        let j = ((y - self.origin[1]) / self.cell).floor();
+        if !(i >= 0.0 && j >= 0.0) || i as usize >= self.dims[0] || j as usize >= self.dims[1] {
+            return None;
+        }
+        let b = j as usize * self.dims[0] + i as usize;
+        let mut best = (f64::NEG_INFINITY, [0.0, 0.0, 1.0]);
+        for &ti in &self.items[self.starts[b] as usize..self.starts[b + 1] as usize] {
+            let t = &self.tris[ti as usize];
+            if t.zmax <= best.0 {
+                break;
+            }
+            let z = match self.cutter.kind {
+                ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius),
+                _ => flat_touch(t, x, y, self.cutter.radius),
+            };
+            if z > best.0 {
+                best = (z, t.n);
+            }
+        }
+        (best.0 > f64::NEG_INFINITY).then_some(best)
+    }
+
     /// [`drop`](Self::drop) at many points, in parallel; the order is kept.
     pub fn drop_many(&self, points: &[[f64; 2]]) -> Vec<Option<f64>> {
         points

@@ -10,6 +10,7 @@ use super::job::{Job, Pass};
 use super::profile::Cutter;
 use super::setup::{Placement, Side};
 use crate::mesh::Mesh;
+use crate::sim::zmap::{Sweep, ZMap};
 
 /// One step of a toolpath, tip positions in setup coordinates (mm).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -66,6 +67,8 @@ struct Ctx<'a> {
     clear: f64,
     /// Distance from the part's plan silhouette (0 inside), 1 mm grid.
     outside: Field,
+    /// The stock as the paths so far have left it (1 mm cells).
+    stock: std::sync::RwLock<ZMap>,
 }
 
 fn lerp3(a: [f64; 3], b: [f64; 3], t: f64) -> [f64; 3] {
@@ -79,6 +82,46 @@ fn lerp3(a: [f64; 3], b: [f64; 3], t: f64) -> [f64; 3] {
 impl Ctx<'_> {
     fn floor(&self, x: f64) -> f64 {
         self.place.floor_at(self.side, x, self.job.overlap)
+    }
+
+    /// Takes a toolpath's cut out of the stock map.
+    fn cut(&self, path: &Toolpath) {
+        let cutter = path.pass.tool.cutter;
+        let mut at = [0.0, 0.0, self.clear];
+        let mut sweeps = Vec::with_capacity(path.steps.len());
+        for s in &path.steps {
+            let to = match *s {
+                Step::Rapid(p) | Step::Plunge(p) | Step::Cut(p) => p,
+                Step::Arc { to, .. } => to,
+            };
+            sweeps.push(Sweep {
+                from: at,
+                to,
+                cutter,
+            });
+            at = to;
+        }
+        self.stock.write().expect("not poisoned").cut(&sweeps);
+    }
+
+    /// Highest stock left under a tool of radius `r` at (x, y).
+    fn stock_top(&self, x: f64, y: f64, r: f64) -> f64 {
+        let map = self.stock.read().expect("not poisoned");
+        let (c, o, [nx, ny]) = (map.cell, map.origin, map.dims);
+        let i0 = (((x - r - o[0]) / c[0]).floor().max(0.0) as usize).min(nx - 1);
+        let i1 = (((x + r - o[0]) / c[0]).ceil().max(0.0) as usize).min(nx - 1);
+        let j0 = (((y - r - o[1]) / c[1]).floor().max(0.0) as usize).min(ny - 1);
+        let j1 = (((y + r - o[1]) / c[1]).ceil().max(0.0) as usize).min(ny - 1);
+        let mut top = f64::NEG_INFINITY;
+        for j in j0..=j1 {
+            for i in i0..=i1 {
+                let k = j * nx + i;
+                if map.top[k] > map.bottom[k] {
+                    top = top.max(map.top[k] as f64);
+                }
+            }
+        }
+        top
     }
 
     fn region(&self) -> ([f64; 2], [f64; 2]) {
@@ -105,6 +148,11 @@ pub fn setup_paths(
         .map(|p| ray.drop(p[0], p[1]).is_some())
         .collect();
     let outside = field::distance_to(&grid, &inside);
+    // Setup 1 never cuts through the block (it stops at the parting
+    // surface), so each setup starts from a whole block.
+    let b = &place.block;
+    let stock = ZMap::block([0.0, 0.0], [b.length, b.width], -b.thickness, 0.0, 1.0)
+        .expect("a block within the machine fits a 1 mm map");
     let ctx = Ctx {
         place,
         job,
@@ -112,6 +160,7 @@ pub fn setup_paths(
         guard,
         clear: safe_z(clearance),
         outside,
+        stock: std::sync::RwLock::new(stock),
     };
     let mut paths = Vec::new();
     if side == Side::Deck {
@@ -119,9 +168,13 @@ pub fn setup_paths(
         paths.push(holes(&ctx));
     }
     progress("roughing");
-    paths.push(roughing(&ctx));
+    let rough = roughing(&ctx);
+    ctx.cut(&rough);
+    paths.push(rough);
     progress("outline");
-    paths.push(outline(&ctx));
+    let out = outline(&ctx);
+    ctx.cut(&out);
+    paths.push(out);
     progress("finishing");
     let (fin, positions) = finishing(&ctx);
     paths.push(fin);
@@ -372,15 +425,22 @@ fn outline(ctx: &Ctx) -> Toolpath {
     let job = ctx.job;
     let pass = job.outline.clone();
     let r = pass.tool.cutter.radius;
-    let loops = field::contours(&ctx.outside, r + 0.6);
+    // The distance field measures to the nearest grid node inside the
+    // outline; the outline itself may lie up to a node spacing beyond it.
+    let loops = field::contours(&ctx.outside, r + 0.6 + ctx.outside.cell);
     let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), pass.tool.cutter);
     let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
-    let rise = job.roughing.stepdown + 1.0;
-    let laps = (rise / pass.stepdown).ceil().max(1.0) as usize;
     for l in loops.into_iter().filter(|l| l.closed && l.points.len() > 8) {
         let l = orient(l, pass.climb);
         // Resample to 2 mm along the loop.
         let pts = resample(&l.points, 2.0, true);
+        // Start 1 mm above the highest stock the roughing left on the loop.
+        let rise = pts
+            .iter()
+            .map(|p| ctx.stock_top(p[0], p[1], r + 1.0) - ctx.floor(p[0]))
+            .fold(0.0, f64::max)
+            + 1.0;
+        let laps = (rise / pass.stepdown).ceil().max(1.0) as usize;
         let n = pts.len();
         let lap_len = n as f64;
         let z_of = |k: usize, lap: usize| {
@@ -395,6 +455,7 @@ fn outline(ctx: &Ctx) -> Toolpath {
         let z0 = z_of(0, 0);
         steps.push(Step::Rapid([s[0], s[1], z0 + 2.0]));
         steps.push(Step::Plunge([s[0], s[1], z0]));
+        let mut spiral = vec![[s[0], s[1], z0]];
         for lap in 0..=laps {
             for (k, p) in pts.iter().enumerate() {
                 let z = if lap == laps {
@@ -402,11 +463,16 @@ fn outline(ctx: &Ctx) -> Toolpath {
                 } else {
                     z_of(k, lap)
                 };
-                steps.push(Step::Cut([p[0], p[1], z]));
+                spiral.push([p[0], p[1], z]);
             }
         }
         let z = ctx.floor(s[0]).max(dc.drop(s[0], s[1]).unwrap_or(f64::MIN));
-        steps.push(Step::Cut([s[0], s[1], z]));
+        spiral.push([s[0], s[1], z]);
+        // Where the path climbs over a tab, keep the straight moves clear of it.
+        let h = |x: f64, y: f64| dc.drop(x, y).unwrap_or(f64::MIN);
+        for p in refine(&spiral, &h, 0.01).into_iter().skip(1) {
+            steps.push(Step::Cut(p));
+        }
         steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
     }
     Toolpath {
@@ -449,6 +515,70 @@ pub fn scallop_stepover(r: f64, h: f64) -> f64 {
     2.0 * (2.0 * r * h - h * h).max(0.0).sqrt()
 }
 
+/// Refines a run of dropped points so no straight move between neighbours
+/// digs in. A ball running off an edge otherwise cuts the corner between
+/// two exact positions: the drop height jumps at the edge, and a straight
+/// move across the jump passes through the edge.
+///
+/// A steep move (rising or falling more than four times its run) becomes
+/// a dog-leg: straight up, across at the highest drop height found every
+/// 0.05 mm along the way, straight down; moving straight up from a contact
+/// or straight down to one cannot dig in. Other moves are split at the
+/// quarter points where the drop-cutter stands more than `tol` above the
+/// straight line, down to steps of 0.005 mm.
+pub fn refine(run: &[[f64; 3]], height: &dyn Fn(f64, f64) -> f64, tol: f64) -> Vec<[f64; 3]> {
+    let mut out = Vec::with_capacity(run.len());
+    if run.is_empty() {
+        return out;
+    }
+    out.push(run[0]);
+    for w in run.windows(2) {
+        let mut stack = vec![(w[0], w[1], 0u32)];
+        while let Some((a, b, depth)) = stack.pop() {
+            let run_xy = ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt();
+            let rise = b[2] - a[2];
+            let at = |t: f64| [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])];
+            if rise.abs() > 4.0 * run_xy && run_xy > 1e-9 {
+                let n = (run_xy / 0.05).ceil().max(1.0) as usize;
+                let top = (0..=n)
+                    .map(|k| {
+                        let p = at(k as f64 / n as f64);
+                        height(p[0], p[1])
+                    })
+                    .fold(a[2].max(b[2]), f64::max);
+                if top > a[2] {
+                    out.push([a[0], a[1], top]);
+                }
+                out.push([b[0], b[1], top]);
+                if top > b[2] {
+                    out.push(b);
+                }
+                continue;
+            }
+            let worst = [0.25, 0.5, 0.75]
+                .into_iter()
+                .map(|t| {
+                    let p = at(t);
+                    (height(p[0], p[1]) - (a[2] + t * rise), t)
+                })
+                .fold(
+                    (f64::NEG_INFINITY, 0.5),
+                    |m, v| if v.0 > m.0 { v } else { m },
+                );
+            if worst.0 > tol && run_xy > 0.005 && depth < 16 {
+                let p = at(worst.1);
+                let m = [p[0], p[1], height(p[0], p[1])];
+                // Second half first: the stack pops the first half next.
+                stack.push((m, b, depth + 1));
+                stack.push((a, m, depth + 1));
+            } else {
+                out.push(b);
+            }
+        }
+    }
+    out
+}
+
 /// Simplifies a pass: drops points within `tol` of the line through their
 /// neighbours (Douglas–Peucker, Cartographica 10, 1973), in 3D.
 pub fn simplify(points: &[[f64; 3]], tol: f64) -> Vec<[f64; 3]> {
@@ -472,7 +602,15 @@ pub fn simplify(points: &[[f64; 3]], tol: f64) -> Vec<[f64; 3]> {
                 0.0
             };
             let q = lerp3(pa, pb, t);
-            let e = ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt();
+            // On a steep chord a small distance off the line is a larger
+            // height error; measure the error as a height.
+            let cos = if dd > 0.0 {
+                ((d[0] * d[0] + d[1] * d[1]) / dd).sqrt().max(0.05)
+            } else {
+                1.0
+            };
+            let e = ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt()
+                / cos;
             if e > worst.0 {
                 worst = (e, k);
             }
@@ -542,7 +680,13 @@ fn finishing(ctx: &Ctx) -> (Toolpath, usize) {
                     r.reverse();
                 }
             }
-            runs.into_iter().map(|r| simplify(&r, tol)).collect()
+            let h = |x: f64, y: f64| {
+                let f = ctx.floor(x);
+                dc.drop(x, y).map_or(f, |d| d.max(f))
+            };
+            runs.into_iter()
+                .map(|r| simplify(&refine(&r, &h, tol / 2.0), tol))
+                .collect()
         })
         .collect();
     let mut positions = n_pass * n_along;
@@ -600,7 +744,9 @@ fn link(
     } else {
         steps.push(Step::Rapid(last_xy(steps, ctx.clear)));
         steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
-        steps.push(Step::Rapid([s[0], s[1], s[2] + 2.0]));
+        // Stop 2 mm above the stock the roughing left under the tool.
+        let top = ctx.stock_top(s[0], s[1], ctx.job.finishing.pass.tool.cutter.radius + 1.0);
+        steps.push(Step::Rapid([s[0], s[1], top.max(s[2]) + 2.0]));
         steps.push(Step::Plunge(s));
     }
     for p in &run[1..] {
@@ -709,13 +855,16 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
         })
         .collect();
     let tol = ctx.job.finishing.tolerance;
-    (
-        runs.into_iter()
-            .flatten()
-            .map(|r| simplify(&r, tol))
-            .collect(),
-        count,
-    )
+    let h = |x: f64, y: f64| {
+        let f = ctx.floor(x);
+        dc.drop(x, y).map_or(f, |d| d.max(f))
+    };
+    let runs = runs
+        .into_iter()
+        .flatten()
+        .map(|r| simplify(&refine(&r, &h, tol / 2.0), tol))
+        .collect();
+    (runs, count)
 }
 
 #[cfg(test)]
