@@ -6,9 +6,10 @@
 use std::path::{Path, PathBuf};
 
 use crate::board::Board;
-use crate::cam::job::{self, Job};
+use crate::cam::job::{self, Block, Job};
 use crate::cam::profile::{self, Machine};
 use crate::cam::program::{self, CutPlan};
+use crate::cam::setup::Side;
 use crate::certificate::{self, Certified};
 use crate::compare::Comparison;
 use crate::contours::{self, SliceSet};
@@ -19,6 +20,8 @@ use crate::mesh::Mesh;
 use crate::mesher::MeshError;
 use crate::output;
 use crate::report::Report;
+use crate::sim::picture;
+use crate::sim::verify::{self, ProgramSource, Setting, Verification, VerifyOptions};
 use crate::slice::{Axis, Slice};
 use crate::stl;
 
@@ -51,6 +54,9 @@ pub enum JobError {
     /// A command-line value is out of range.
     #[error("{0}")]
     Option(String),
+    /// A program could not be read.
+    #[error("{0}")]
+    Gcode(crate::gcode::read::GcodeError),
     /// The board does not fit, or a safety gate refused the program.
     #[error("{0}")]
     Cam(#[from] crate::cam::setup::CamError),
@@ -293,6 +299,16 @@ pub fn cut_files(
         job,
         progress,
     )?;
+    // The last gate: simulate the programs as written against the board.
+    let verification = verify_plan(&plan, machine, job, progress)?;
+    if verification.has_findings() {
+        return Err(JobError::Cam(crate::cam::setup::CamError::Refused(
+            format!(
+                "the simulation of the programs found problems, so none is written:\n{}",
+                verification.text()
+            ),
+        )));
+    }
     let mut files: Files = plan
         .programs
         .iter()
@@ -302,6 +318,7 @@ pub fn cut_files(
         dir.join(format!("{}.setup.txt", design.name())),
         plan.sheet.clone().into_bytes(),
     ));
+    files.extend(verification_files(&verification, design.name(), dir));
     Ok((plan, files))
 }
 
@@ -921,4 +938,254 @@ fn template_files(
         ));
     }
     Ok((drawings, pages.len(), files))
+}
+
+/// Simulates a plan's own programs against its placed board.
+pub fn verify_plan(
+    plan: &CutPlan,
+    machine: &Machine,
+    job: &Job,
+    progress: &dyn Fn(&str),
+) -> Result<Verification, JobError> {
+    let sources = plan
+        .programs
+        .iter()
+        .map(|p| ProgramSource {
+            name: p.file_name.clone(),
+            side: p.side,
+            reader: Box::new(p.text.as_bytes()),
+        })
+        .collect();
+    let setting = Setting {
+        machine,
+        block: plan.placement.block,
+        table_position: job.table_position,
+        default_tool: None,
+        design: Some(&plan.placement.part),
+        keep: tab_rectangles(&plan.placement),
+    };
+    verify::verify(sources, &setting, VerifyOptions::default(), progress).map_err(JobError::Gcode)
+}
+
+fn tab_rectangles(place: &crate::cam::setup::Placement) -> Vec<[[f64; 2]; 2]> {
+    place
+        .tabs
+        .iter()
+        .filter_map(|t| t.bounding_box())
+        .map(|(lo, hi)| [[lo[0], lo[1]], [hi[0], hi[1]]])
+        .collect()
+}
+
+/// The verification's JSON, text and pictures, in memory.
+fn verification_files(v: &Verification, name: &str, dir: &Path) -> Files {
+    let mut files: Files = vec![
+        (
+            dir.join(format!("{name}.verify.json")),
+            v.to_json().into_bytes(),
+        ),
+        (
+            dir.join(format!("{name}.verify.txt")),
+            v.text().into_bytes(),
+        ),
+    ];
+    let scale = v.leftover_p95_mm.unwrap_or(0.1).max(v.gouge_tolerance_mm) * 4.0;
+    for m in &v.maps {
+        let title = format!(
+            "{name}: setup {} ({} up), stock left (blue) and gouges (red), plan view from above",
+            m.side.number(),
+            m.side.name()
+        );
+        files.push((
+            dir.join(format!(
+                "{name}-{}-{}.deviation.svg",
+                m.side.number(),
+                m.side.name()
+            )),
+            picture::svg(m, scale, &title).into_bytes(),
+        ));
+    }
+    files
+}
+
+/// What `verify` runs on.
+#[derive(Debug, Clone, Default)]
+pub struct VerifyArgs {
+    /// The programs, in running order.
+    pub programs: Vec<PathBuf>,
+    /// Machine profile.
+    pub machine: PathBuf,
+    /// Job profile (its stock, placement and table position).
+    pub job: Option<PathBuf>,
+    /// `LxWxT` block.
+    pub stock: Option<String>,
+    /// Tool for programs without a listed T word.
+    pub tool: Option<String>,
+    /// Design (description or STL).
+    pub design: Option<PathBuf>,
+    /// Number of programs before the flip (default: from their headers).
+    pub flip_after: Option<usize>,
+    /// Skip words outside the subset.
+    pub lenient: bool,
+    /// Height-map cell, mm.
+    pub cell: f64,
+}
+
+/// Reads `300x200x50mm` or `74x22x4in` (each part a length; a unit at the
+/// end applies to the bare numbers, mm when there is none).
+pub fn parse_block(text: &str) -> Result<Block, JobError> {
+    let bad = |why: String| {
+        JobError::Option(format!(
+            "--stock {text}: {why}; write LxWxT, e.g. 2100x650x120mm"
+        ))
+    };
+    let t = text.trim().to_ascii_lowercase();
+    let (body, unit) = if let Some(b) = t.strip_suffix("mm") {
+        (b.to_string(), crate::units::Unit::Mm)
+    } else if let Some(b) = t.strip_suffix("in") {
+        (b.to_string(), crate::units::Unit::In)
+    } else {
+        (t.clone(), crate::units::Unit::Mm)
+    };
+    let parts: Vec<&str> = body.split('x').map(str::trim).collect();
+    if parts.len() != 3 {
+        return Err(bad("three sizes are needed".into()));
+    }
+    let mut v = [0.0; 3];
+    for (k, p) in parts.iter().enumerate() {
+        let l = crate::units::parse_length(p).map_err(|e| bad(e.to_string()))?;
+        v[k] = l.to_mm(unit);
+        if !(v[k] > 0.0 && v[k] <= 20_000.0) {
+            return Err(bad(format!(
+                "{} must be more than 0 and at most 20 m",
+                ["the length", "the width", "the thickness"][k]
+            )));
+        }
+    }
+    Ok(Block {
+        length: v[0],
+        width: v[1],
+        thickness: v[2],
+    })
+}
+
+/// `verify`: simulates programs from anywhere; writes the report and
+/// pictures into `dir` when given.
+pub fn verify_programs(
+    args: &VerifyArgs,
+    dir: Option<&Path>,
+    progress: &dyn Fn(&str),
+) -> Result<(Verification, Vec<PathBuf>), JobError> {
+    let machine = profile::load_machine(&args.machine)?;
+    if !(args.cell.is_finite() && (0.05..=10.0).contains(&args.cell)) {
+        return Err(JobError::Option(format!(
+            "--cell {} mm is outside 0.05..10 mm",
+            args.cell
+        )));
+    }
+    let default_tool = match &args.tool {
+        Some(t) => {
+            Some(profile::parse_cutter(t).map_err(|e| JobError::Option(format!("--tool {e}")))?)
+        }
+        None => None,
+    };
+    let job = match &args.job {
+        Some(p) => Some(job::load_job(p, &machine)?),
+        None => None,
+    };
+    let design = match &args.design {
+        Some(p) => Some(load_design(p)?),
+        None => None,
+    };
+    // The block, and where the design sits in it.
+    let (block, table_position, part, keep) = match (&args.stock, &job) {
+        (Some(s), _) => {
+            let block = parse_block(s)?;
+            let part = match &design {
+                Some(d) => Some(d.mesh(crate::mesher::DEFAULT_TOLERANCE)?),
+                None => None,
+            };
+            let at = job.as_ref().map_or([0.0, 0.0], |j| j.table_position);
+            (block, at, part, vec![])
+        }
+        (None, Some(j)) => match &design {
+            Some(d) => {
+                let mesh = d.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
+                let apex = match d {
+                    Design::Board(b) => Some(program::apex_line(b)),
+                    Design::Mesh { .. } => None,
+                };
+                let place = crate::cam::setup::place(&mesh, apex.as_deref(), j)?;
+                let keep = tab_rectangles(&place);
+                (place.block, j.table_position, Some(place.part), keep)
+            }
+            None => match j.stock {
+                Some(b) => (b, j.table_position, None, vec![]),
+                None => {
+                    return Err(JobError::Option(
+                        "the job sizes its block from the board: give --design, or --stock LxWxT"
+                            .into(),
+                    ));
+                }
+            },
+        },
+        (None, None) => {
+            return Err(JobError::Option(
+                "give --stock LxWxT (e.g. 300x200x50mm) or --job JOB.yaml".into(),
+            ));
+        }
+    };
+    let mut sources = Vec::new();
+    let count = args.programs.len();
+    for (k, path) in args.programs.iter().enumerate() {
+        let file = std::fs::File::open(path)
+            .map_err(|e| JobError::Option(format!("{}: cannot read: {e}", path.display())))?;
+        let mut reader = std::io::BufReader::new(file);
+        let side = match args.flip_after {
+            Some(n) if k < n => Side::Deck,
+            Some(_) => Side::Bottom,
+            None => {
+                // The project's own programs name their setup in the header;
+                // of two programs from elsewhere, the second follows the flip.
+                use std::io::BufRead as _;
+                let head = reader
+                    .fill_buf()
+                    .map(|b| String::from_utf8_lossy(&b[..b.len().min(4096)]).to_string())
+                    .unwrap_or_default();
+                if head.contains("(setup 2 of 2")
+                    || (count == 2 && k == 1 && !head.contains("(setup 1 of 2"))
+                {
+                    Side::Bottom
+                } else {
+                    Side::Deck
+                }
+            }
+        };
+        sources.push(ProgramSource {
+            name: path.display().to_string(),
+            side,
+            reader: Box::new(reader),
+        });
+    }
+    let setting = Setting {
+        machine: &machine,
+        block,
+        table_position,
+        default_tool,
+        design: part.as_ref(),
+        keep,
+    };
+    let options = VerifyOptions {
+        cell: args.cell,
+        lenient: args.lenient,
+        ..Default::default()
+    };
+    let v = verify::verify(sources, &setting, options, progress).map_err(JobError::Gcode)?;
+    let mut written = vec![];
+    if let Some(dir) = dir {
+        let name = design
+            .as_ref()
+            .map_or("programs".to_string(), |d| d.name().to_string());
+        written = write_all(&verification_files(&v, &name, dir))?;
+    }
+    Ok((v, written))
 }

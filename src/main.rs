@@ -198,6 +198,50 @@ enum Command {
         #[arg(long)]
         quiet: bool,
     },
+    /// Simulate programs before they run: rapids into stock, moves outside the
+    /// machine, cuts with the spindle off, gouges and leftover against a design.
+    /// Exit 0 clean, 1 findings, 2 unreadable input.
+    Verify {
+        /// Programs in running order (setup 1 first).
+        #[arg(required = true)]
+        programs: Vec<PathBuf>,
+        /// Machine profile (YAML).
+        #[arg(long)]
+        machine: PathBuf,
+        /// Job profile (YAML): its block and placement.
+        #[arg(long, conflicts_with = "stock")]
+        job: Option<PathBuf>,
+        /// Block X 0..L, Y 0..W, Z -T..0 (zero on the top face, front-left corner), e.g. 300x200x50mm.
+        #[arg(long)]
+        stock: Option<String>,
+        /// Tool for a program that names none in the machine's list: KIND:DIAMETER[:CORNER],
+        /// e.g. flat:10mm, ball:12.7mm, bull:20mm:3mm.
+        #[arg(long)]
+        tool: Option<String>,
+        /// Design to measure against: description (placed as the job places it) or STL
+        /// (taken in the programs' own coordinates).
+        #[arg(long)]
+        design: Option<PathBuf>,
+        /// How many programs run before the flip (default: from the programs' headers;
+        /// of two other programs, the second).
+        #[arg(long)]
+        flip_after: Option<usize>,
+        /// List words outside the supported subset as skipped instead of refusing them.
+        #[arg(long)]
+        lenient: bool,
+        /// Height-map cell, mm.
+        #[arg(long, default_value_t = 0.5)]
+        cell: f64,
+        /// Print the JSON report.
+        #[arg(long)]
+        json: bool,
+        /// Folder for the report and deviation pictures.
+        #[arg(short, long)]
+        out: Option<PathBuf>,
+        /// No progress display.
+        #[arg(long)]
+        quiet: bool,
+    },
     /// Router programs for both sides of the blank: writes DIR/<name>-<setup>-<side>-T<n>.nc
     /// and DIR/<name>.setup.txt, or nothing when a safety gate refuses.
     Cut {
@@ -650,6 +694,50 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             )?;
             bar.finish_and_clear();
             Ok(finish(&m, false))
+        }
+        Command::Verify {
+            programs,
+            machine,
+            job,
+            stock,
+            tool,
+            design,
+            flip_after,
+            lenient,
+            cell,
+            json,
+            out,
+            quiet,
+        } => {
+            let bar = progress(quiet);
+            let args = jobs::VerifyArgs {
+                programs,
+                machine,
+                job,
+                stock,
+                tool,
+                design,
+                flip_after,
+                lenient,
+                cell,
+            };
+            let result =
+                jobs::verify_programs(&args, out.as_deref(), &|s| bar.set_message(s.to_string()));
+            bar.finish_and_clear();
+            let (v, written) = result?;
+            if json {
+                print!("{}", v.to_json());
+            } else {
+                print!("{}", v.text());
+                for p in &written {
+                    println!("wrote {}", p.display());
+                }
+            }
+            Ok(if v.has_findings() {
+                ExitCode::from(1)
+            } else {
+                ExitCode::SUCCESS
+            })
         }
         Command::Cut {
             design,

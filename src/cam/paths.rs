@@ -555,9 +555,16 @@ pub fn refine(run: &[[f64; 3]], height: &dyn Fn(f64, f64) -> f64, tol: f64) -> V
                 }
                 continue;
             }
-            let worst = [0.25, 0.5, 0.75]
-                .into_iter()
-                .map(|t| {
+            // A gentle move is checked at its middle; a steeper one, where
+            // a small edge could hide, at its quarter points.
+            let probes: &[f64] = if rise.abs() <= run_xy {
+                &[0.5]
+            } else {
+                &[0.25, 0.5, 0.75]
+            };
+            let worst = probes
+                .iter()
+                .map(|&t| {
                     let p = at(t);
                     (height(p[0], p[1]) - (a[2] + t * rise), t)
                 })

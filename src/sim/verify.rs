@@ -38,6 +38,9 @@ pub struct Setting<'a> {
     pub default_tool: Option<Cutter>,
     /// The design in setup-1 program coordinates, to measure against.
     pub design: Option<&'a Mesh>,
+    /// Plan rectangles (min, max corners, setup-1 coordinates) left on
+    /// purpose, e.g. the tabs: not counted as leftover.
+    pub keep: Vec<[[f64; 2]; 2]>,
 }
 
 /// Verification options.
@@ -160,6 +163,85 @@ impl Verification {
             || self
                 .gouge_max_mm
                 .is_some_and(|g| g > self.gouge_tolerance_mm)
+    }
+
+    /// The text report: the verdict, then what to look at.
+    pub fn text(&self) -> String {
+        use std::fmt::Write as _;
+        let mut s = String::new();
+        let verdict = if self.has_findings() {
+            "FINDINGS: do not run these programs as they are"
+        } else {
+            "clean: no collision, no move outside the machine, no cut with the spindle off, no gouge beyond tolerance"
+        };
+        let _ = writeln!(s, "verification ({} mm cells): {verdict}", self.cell_mm);
+        for (name, list) in [
+            ("rapid into stock", &self.collisions),
+            ("outside the machine", &self.out_of_envelope),
+            ("cutting with the spindle off", &self.spindle_off_cuts),
+            ("beyond a limit", &self.limits),
+        ] {
+            if list.is_empty() {
+                continue;
+            }
+            let _ = writeln!(
+                s,
+                "{} {name}{}:",
+                list.len(),
+                if list.len() >= MAX_FINDINGS {
+                    " or more"
+                } else {
+                    ""
+                }
+            );
+            for f in list.iter().take(10) {
+                let _ = writeln!(
+                    s,
+                    "  {}:{}: {} at X {:.1} Y {:.1} mm",
+                    f.program, f.line, f.what, f.at[0], f.at[1]
+                );
+            }
+        }
+        if let (Some(g), Some(at)) = (self.gouge_max_mm, self.gouge_at) {
+            let _ = writeln!(
+                s,
+                "deepest gouge {g:.3} mm (tolerance {:.3} mm) at X {:.1} Y {:.1} mm in setup {}",
+                self.gouge_tolerance_mm, at[0], at[1], at[2]
+            );
+        }
+        if let (Some(l), Some(p95), Some(at)) =
+            (self.leftover_max_mm, self.leftover_p95_mm, self.leftover_at)
+        {
+            let _ = writeln!(
+                s,
+                "stock left on the board: 95 % of it under {p95:.3} mm, at most {l:.3} mm at X {:.1} Y {:.1} mm in setup {}: look there when sanding",
+                at[0], at[1], at[2]
+            );
+        }
+        let _ = writeln!(
+            s,
+            "removed {:.2} L of foam; tool travel {:.1} m; estimated run time {}",
+            self.removed_volume_litres,
+            self.path_length_mm / 1000.0,
+            crate::cam::program::duration(self.time_estimate_s)
+        );
+        for p in &self.programs {
+            let _ = writeln!(
+                s,
+                "  setup {} {}: {} lines, {}, removes {:.2} L{}",
+                p.setup,
+                p.name,
+                p.lines,
+                crate::cam::program::duration(p.time_estimate_s),
+                p.removed_volume_litres,
+                if p.skipped.is_empty() {
+                    String::new()
+                } else {
+                    format!(", {} words skipped", p.skipped.len())
+                }
+            );
+        }
+        s
     }
 
     /// The JSON report.
@@ -493,6 +575,18 @@ pub fn verify(
                         dm.side.number() as f64,
                     ];
                     let d = d as f64;
+                    let y1 = if dm.side == Side::Bottom {
+                        b.width - p[1]
+                    } else {
+                        p[1]
+                    };
+                    if d > 0.0
+                        && setting.keep.iter().any(|r| {
+                            p[0] >= r[0][0] && p[0] <= r[1][0] && y1 >= r[0][1] && y1 <= r[1][1]
+                        })
+                    {
+                        continue;
+                    }
                     if -d > gouge.0 {
                         gouge = (-d, p);
                     }
