@@ -962,17 +962,21 @@ pub fn verify_plan(
         table_position: job.table_position,
         default_tool: None,
         design: Some(&plan.placement.part),
-        keep: tab_rectangles(&plan.placement),
+        keep: tab_rectangles(&plan.placement, job),
     };
     verify::verify(sources, &setting, VerifyOptions::default(), progress).map_err(JobError::Gcode)
 }
 
-fn tab_rectangles(place: &crate::cam::setup::Placement) -> Vec<[[f64; 2]; 2]> {
+/// The tabs' plan rectangles, grown by the finishing tool's radius plus
+/// 1 mm: the ball cannot reach closer to a tab's side, and that foam goes
+/// with the tab when it is cut off and sanded.
+fn tab_rectangles(place: &crate::cam::setup::Placement, job: &Job) -> Vec<[[f64; 2]; 2]> {
+    let g = job.finishing.pass.tool.cutter.radius + 1.0;
     place
         .tabs
         .iter()
         .filter_map(|t| t.bounding_box())
-        .map(|(lo, hi)| [[lo[0], lo[1]], [hi[0], hi[1]]])
+        .map(|(lo, hi)| [[lo[0] - g, lo[1] - g], [hi[0] + g, hi[1] + g]])
         .collect()
 }
 
@@ -1115,7 +1119,7 @@ pub fn verify_programs(
                     Design::Mesh { .. } => None,
                 };
                 let place = crate::cam::setup::place(&mesh, apex.as_deref(), j)?;
-                let keep = tab_rectangles(&place);
+                let keep = tab_rectangles(&place, j);
                 (place.block, j.table_position, Some(place.part), keep)
             }
             None => match j.stock {

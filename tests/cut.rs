@@ -1,0 +1,422 @@
+//! Router programs: checked against an independent G-code parser, against
+//! the geometry they must respect, and by the simulation.
+
+use std::sync::OnceLock;
+
+use blanksmith::cam::job::{self, Job};
+use blanksmith::cam::paths::Step;
+use blanksmith::cam::profile::{self, Machine};
+use blanksmith::cam::program::{self, CutPlan, Program};
+use blanksmith::cam::setup::{self, Side};
+use blanksmith::jobs::{self, Design};
+
+struct Case {
+    plan: CutPlan,
+    machine: Machine,
+    job: Job,
+}
+
+fn case(file: &str) -> Case {
+    let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("fixtures")
+        .join(file);
+    let design = jobs::load_design(&path).unwrap();
+    let Design::Board(board) = &design else {
+        panic!("a description")
+    };
+    let cert = blanksmith::certificate::certify(board, 0.01).unwrap();
+    let machine = profile::generic_machine();
+    let job = job::default_job(&machine).unwrap();
+    let plan = program::plan(
+        &board.name,
+        cert.certificate.mesh_litres,
+        &cert.mesh,
+        Some(&program::apex_line(board)),
+        &machine,
+        &job,
+        &|_| {},
+    )
+    .unwrap();
+    Case { plan, machine, job }
+}
+
+fn shortboard() -> &'static Case {
+    static C: OnceLock<Case> = OnceLock::new();
+    C.get_or_init(|| case("shortboard.yaml"))
+}
+
+/// Every line parses with the `gcode` crate (an independent parser from
+/// crates.io), and the program keeps the order rules of a conservative
+/// RS-274/NGC program (NIST IR 6556): units, absolute mode, plane and feed
+/// mode before any motion; clearance height first; spindle on and a dwell
+/// before the first feed move; a feed before the first G1; spindle stop
+/// and program end last; only words of the subset.
+#[test]
+fn programs_parse_independently_and_keep_the_order_rules() {
+    use gcode::{Code, Value};
+    for p in &shortboard().plan.programs {
+        let ast = gcode::parse(&p.text).unwrap_or_else(|e| panic!("{}: {e:?}", p.file_name));
+        let lines_with_words = p.text.lines().filter(|l| !l.starts_with('(')).count();
+        let blocks_with_words = ast
+            .blocks
+            .iter()
+            .filter(|b| !b.codes.is_empty() || !b.word_addresses.is_empty())
+            .count();
+        assert_eq!(lines_with_words, blocks_with_words, "{}", p.file_name);
+        let (mut units, mut absolute, mut plane, mut feed_mode) = (false, false, false, false);
+        let (mut spindle, mut dwell, mut feed, mut moved) = (false, false, false, false);
+        let mut mode = None;
+        let mut codes: Vec<String> = Vec::new();
+        for b in &ast.blocks {
+            let mut words: Vec<(char, f32)> = b
+                .word_addresses
+                .iter()
+                .filter_map(|w| match w.value {
+                    Value::Literal(v) => Some((w.letter, v)),
+                    _ => None,
+                })
+                .collect();
+            for c in &b.codes {
+                let (letter, n, args) = match c {
+                    Code::General(g) => ('G', g.number.to_string(), &g.args),
+                    Code::Miscellaneous(m) => ('M', m.number.to_string(), &m.args),
+                    Code::ToolChange(t) => ('T', t.number.to_string(), &t.args),
+                    other => panic!("{}: unexpected code {other:?}", p.file_name),
+                };
+                codes.push(format!("{letter}{n}"));
+                for a in args {
+                    if let Value::Literal(v) = a.value {
+                        words.push((a.letter, v));
+                    }
+                }
+                match (letter, n.as_str()) {
+                    ('G', "20" | "21") => units = true,
+                    ('G', "90") => absolute = true,
+                    ('G', "17") => plane = true,
+                    ('G', "94") => feed_mode = true,
+                    ('G', "4") => dwell = spindle,
+                    ('M', "3") => spindle = true,
+                    ('G', m @ ("0" | "1" | "2" | "3")) => mode = Some(m.to_string()),
+                    ('G', other) => panic!("{}: G{other} is outside the subset", p.file_name),
+                    ('M', "5" | "30" | "6") | ('T', _) => {}
+                    (l, other) => panic!("{}: {l}{other} is outside the subset", p.file_name),
+                }
+            }
+            for (l, _) in &words {
+                assert!("XYZIJFSP".contains(*l), "{}: word {l}", p.file_name);
+            }
+            if words.iter().any(|(l, _)| *l == 'F') {
+                feed = true;
+            }
+            if words.iter().any(|(l, _)| "XYZ".contains(*l)) {
+                assert!(
+                    units && absolute && plane && feed_mode,
+                    "{}: a move before the modes",
+                    p.file_name
+                );
+                if !moved {
+                    assert_eq!(
+                        mode.as_deref(),
+                        Some("0"),
+                        "{}: first move is a rapid",
+                        p.file_name
+                    );
+                    assert!(
+                        words.iter().all(|(l, _)| *l == 'Z'),
+                        "{}: first move goes straight up",
+                        p.file_name
+                    );
+                    let z = words[0].1 as f64;
+                    assert!(z >= 25.0 - 1e-3, "{}: first move to clearance", p.file_name);
+                    moved = true;
+                }
+                if mode.as_deref() != Some("0") {
+                    assert!(
+                        spindle && dwell,
+                        "{}: feed move before spindle and dwell",
+                        p.file_name
+                    );
+                    assert!(feed, "{}: feed move before any F", p.file_name);
+                }
+            }
+        }
+        let n = codes.len();
+        assert_eq!(&codes[n - 2..], ["M5", "M30"], "{}", p.file_name);
+        // The cautions are in every program.
+        for c in blanksmith::gcode::write::CAUTIONS {
+            let cleaned = c.replace(['(', ')'], "-");
+            assert!(
+                p.text.contains(&cleaned),
+                "{}: caution missing",
+                p.file_name
+            );
+        }
+    }
+}
+
+/// Every roughing tool position keeps the tool body at least the stock to
+/// leave away from the board (sampled at the mesh vertices and every 2 mm
+/// along every roughing move; the tool is a flat cylinder of its radius
+/// from the tip up).
+#[test]
+fn roughing_leaves_at_least_the_stock_to_leave() {
+    let c = shortboard();
+    for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
+        let part = &c.plan.placement.guard(side)[0];
+        let rough = c.plan.setups[k]
+            .paths
+            .iter()
+            .find(|p| p.label == "roughing")
+            .unwrap();
+        let r = rough.pass.tool.cutter.radius;
+        let leave = rough.pass.leave;
+        // Bucket the vertices in 10 mm squares.
+        let cell = 10.0;
+        let mut buckets: std::collections::HashMap<(i64, i64), Vec<[f64; 3]>> = Default::default();
+        for v in &part.vertices {
+            buckets
+                .entry(((v[0] / cell).floor() as i64, (v[1] / cell).floor() as i64))
+                .or_default()
+                .push(*v);
+        }
+        let mut at = [0.0, 0.0, 25.0];
+        let mut worst = f64::INFINITY;
+        let mut checked = 0usize;
+        for s in &rough.steps {
+            let (to, cutting) = match *s {
+                Step::Cut(p) | Step::Plunge(p) => (p, true),
+                Step::Rapid(p) => (p, false),
+                Step::Arc { to, .. } => (to, true),
+            };
+            if cutting {
+                let len =
+                    ((to[0] - at[0]).powi(2) + (to[1] - at[1]).powi(2) + (to[2] - at[2]).powi(2))
+                        .sqrt();
+                let n = (len / 2.0).ceil().max(1.0) as usize;
+                for i in 0..=n {
+                    let t = i as f64 / n as f64;
+                    let q = [
+                        at[0] + t * (to[0] - at[0]),
+                        at[1] + t * (to[1] - at[1]),
+                        at[2] + t * (to[2] - at[2]),
+                    ];
+                    let reach = ((r + leave) / cell).ceil() as i64 + 1;
+                    let (bi, bj) = ((q[0] / cell).floor() as i64, (q[1] / cell).floor() as i64);
+                    for di in -reach..=reach {
+                        for dj in -reach..=reach {
+                            for v in buckets.get(&(bi + di, bj + dj)).into_iter().flatten() {
+                                let h = ((v[0] - q[0]).powi(2) + (v[1] - q[1]).powi(2)).sqrt();
+                                let d = if v[2] >= q[2] {
+                                    h - r
+                                } else {
+                                    ((h - r).max(0.0).powi(2) + (q[2] - v[2]).powi(2)).sqrt()
+                                };
+                                worst = worst.min(d);
+                            }
+                        }
+                    }
+                    checked += 1;
+                }
+            }
+            at = to;
+        }
+        assert!(checked > 10_000, "{checked}");
+        assert!(
+            worst >= leave - 1e-9,
+            "setup {}: tool within {worst:.3} mm of the board; leave is {leave}",
+            k + 1
+        );
+    }
+}
+
+#[test]
+fn the_registration_holes_map_onto_themselves_through_the_flip() {
+    // A half turn about the block's X axis keeps points on its centre plane
+    // in place (geometry); both holes are on it.
+    let p = &shortboard().plan.placement;
+    for h in p.holes {
+        let q = setup::flip([h[0], h[1], -10.0], &p.block);
+        assert!((q[0] - h[0]).abs() < 1e-12 && (q[1] - h[1]).abs() < 1e-12);
+    }
+    // And the holes are drilled in setup 1 through the block into the spoilboard.
+    let holes = shortboard().plan.setups[0]
+        .paths
+        .iter()
+        .find(|p| p.label == "registration holes")
+        .unwrap();
+    let deepest = holes
+        .steps
+        .iter()
+        .map(|s| match s {
+            Step::Arc { to, .. } | Step::Cut(to) | Step::Plunge(to) | Step::Rapid(to) => to[2],
+        })
+        .fold(f64::INFINITY, f64::min);
+    assert!((deepest - (-p.block.thickness - shortboard().job.pin_depth)).abs() < 1e-9);
+}
+
+#[test]
+fn finishing_stepover_follows_the_scallop_target() {
+    // On a flat the scallop between passes s apart is r − √(r² − s²/4)
+    // (circle geometry); the raster's stepover keeps it within the target
+    // up to the steep angle, s_raster = s(h)·cos θ.
+    let c = shortboard();
+    let fin = &c.job.finishing;
+    let r = fin.pass.tool.cutter.radius;
+    let s = blanksmith::cam::paths::scallop_stepover(r, fin.scallop);
+    let raster = s * fin.steep_angle.to_radians().cos();
+    let cusp = r - (r * r - raster * raster / 4.0).sqrt();
+    assert!(cusp <= fin.scallop);
+    // The program's passes are that far apart: read the Y of consecutive passes.
+    let p = c.plan.setups[0]
+        .paths
+        .iter()
+        .find(|p| p.label == "finishing")
+        .unwrap();
+    // Raster passes run along X at one Y each: keep the Ys held by many points.
+    let mut count: std::collections::BTreeMap<u64, usize> = Default::default();
+    for s in &p.steps {
+        if let Step::Cut(q) = s {
+            *count.entry(q[1].to_bits()).or_default() += 1;
+        }
+    }
+    let mut ys: Vec<f64> = count
+        .into_iter()
+        .filter(|(_, n)| *n >= 20)
+        .map(|(y, _)| f64::from_bits(y))
+        .collect();
+    ys.sort_by(f64::total_cmp);
+    let gaps: Vec<f64> = ys
+        .windows(2)
+        .map(|w| w[1] - w[0])
+        .filter(|g| *g > 0.5)
+        .collect();
+    let typical = gaps[gaps.len() / 2];
+    assert!((typical - raster).abs() < 1e-6, "{typical} vs {raster}");
+}
+
+#[test]
+fn same_input_same_programs() {
+    let a = case("shortboard.yaml");
+    let b = shortboard();
+    for (p, q) in a.plan.programs.iter().zip(&b.plan.programs) {
+        assert!(p.text == q.text, "{} differs between runs", p.file_name);
+    }
+    assert_eq!(a.plan.sheet, b.plan.sheet);
+}
+
+/// The project's own programs, simulated: no collision, no move outside
+/// the machine, no cut with the spindle off, no gouge beyond 0.05 mm, and
+/// the stock left mostly within the scallop target.
+#[test]
+fn own_programs_verify_clean() {
+    for c in [shortboard(), &case("fish.yaml")] {
+        let v = jobs::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
+        assert!(!v.has_findings(), "{}", v.text());
+        let g = v.gouge_max_mm.unwrap();
+        assert!(g <= 0.05, "gouge {g}");
+        // 95 % of the surface within the scallop target (0.1 mm) plus the
+        // chord tolerance (0.02 mm): the cusps are sampled exactly at cell centres.
+        let p95 = v.leftover_p95_mm.unwrap();
+        assert!(
+            p95 <= c.job.finishing.scallop + c.job.finishing.tolerance,
+            "p95 {p95}"
+        );
+        let litres = c.plan.placement.block.length
+            * c.plan.placement.block.width
+            * c.plan.placement.block.thickness
+            / 1e6;
+        assert!(v.removed_volume_litres > 0.0 && v.removed_volume_litres < litres);
+    }
+}
+
+fn program_with(body: &str) -> Program {
+    let p = &shortboard().plan.programs[0];
+    let head: String = p
+        .text
+        .lines()
+        .take_while(|l| !l.starts_with("G0 Z"))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    Program {
+        text: format!("{head}G0 Z25.000\nT1\nS18000 M3\nG4 P5.0\n{body}G0 Z25.000\nM5\nM30\n"),
+        ..p.clone()
+    }
+}
+
+/// Each gate on the program text trips on a program that breaks it.
+#[test]
+fn each_safety_gate_trips() {
+    let c = shortboard();
+    let check = |body: &str| {
+        let mut p = program_with(body);
+        // A shorter tool, so the reach gate can trip inside the block.
+        p.tool.reach = 100.0;
+        program::check_text(&p, &c.machine, &c.plan.placement, &c.job)
+    };
+    assert!(
+        check("G0 X10 Y10\nG1 Z-5 F2000\n").is_empty(),
+        "a plain program passes: {:?}",
+        check("G0 X10 Y10\nG1 Z-5 F2000\n")
+    );
+    let cases = [
+        ("G0 X3100 Y10\n", "outside the travel"),
+        ("G0 X10 Y10\nG1 Z-150 F2000\n", "below the table top"),
+        ("G0 X10 Y10\nG1 Z-120 F2000\n", "reaches below its holder"),
+        (
+            "G0 X10 Y10\nG1 Z-5 F2000\nG1 X50 F20000\n",
+            "beyond the machine",
+        ),
+        ("G0 X10 Y10\nG1 Z-5 F9000\n", "Z feed"),
+        ("S30000 M3\nG0 X10 Y10\n", "spindle 30000"),
+        ("M5\nG0 X10 Y10\nG1 Z-5 F2000\n", "spindle off"),
+    ];
+    for (body, what) in cases {
+        let problems = check(body);
+        assert!(
+            problems.iter().any(|p| p.contains(what)),
+            "{what}: {problems:?}"
+        );
+    }
+    let mut p = program_with("G0 X10 Y10\n");
+    p.text = p.text.replace("M30\n", "");
+    assert!(
+        program::check_text(&p, &c.machine, &c.plan.placement, &c.job)
+            .iter()
+            .any(|s| s.contains("M30"))
+    );
+}
+
+#[test]
+fn a_block_too_long_for_the_machine_is_refused_with_the_numbers() {
+    let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("fixtures/longboard.yaml");
+    let dir = tempfile::tempdir().unwrap();
+    let e = jobs::cut(
+        &path,
+        &jobs::CutArgs {
+            machine: None,
+            job: None,
+        },
+        dir.path(),
+        &|_| {},
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(e.contains("X travel is 3000.0 mm"), "{e}");
+    assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0);
+}
+
+#[test]
+fn a_block_too_thin_is_refused_saying_by_how_much() {
+    let m = profile::generic_machine();
+    let j = job::job_from_str(
+        "stock: {length: 2100, width: 650, thickness: 80}\n",
+        "j.yaml",
+        &m,
+    )
+    .unwrap();
+    let c = shortboard();
+    let e = setup::place(&c.plan.placement.part, None, &j)
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("thickness") && e.contains("short"), "{e}");
+}
