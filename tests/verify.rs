@@ -1,0 +1,307 @@
+//! The simulation against elementary geometry, and hand-written programs
+//! that break the rules, each caught with its line.
+
+use std::f64::consts::PI;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use blanksmith::cam::job::Block;
+use blanksmith::cam::profile::{self, Cutter};
+use blanksmith::cam::setup::Side;
+use blanksmith::mesh::Mesh;
+use blanksmith::sim::verify::{self, ProgramSource, Setting, Verification, VerifyOptions};
+
+fn run(
+    programs: &[&str],
+    block: Block,
+    tool: Cutter,
+    design: Option<&Mesh>,
+    cell: f64,
+) -> Verification {
+    let m = profile::generic_machine();
+    let sources = programs
+        .iter()
+        .enumerate()
+        .map(|(k, t)| ProgramSource {
+            name: format!("p{k}.nc"),
+            side: if k == 0 { Side::Deck } else { Side::Bottom },
+            reader: Box::new(t.as_bytes()),
+        })
+        .collect();
+    let setting = Setting {
+        machine: &m,
+        block,
+        table_position: [0.0, 0.0],
+        default_tool: Some(tool),
+        design,
+        keep: vec![],
+    };
+    verify::verify(
+        sources,
+        &setting,
+        VerifyOptions {
+            cell,
+            ..Default::default()
+        },
+        &|_| {},
+    )
+    .unwrap()
+}
+
+const HEAD: &str = "G21 G90 G17 G94\nG0 Z10\nS18000 M3\nG4 P2\n";
+const TAIL: &str = "G0 Z10\nM5\nM30\n";
+
+fn block() -> Block {
+    Block {
+        length: 300.0,
+        width: 200.0,
+        thickness: 50.0,
+    }
+}
+
+#[test]
+fn flat_pocket_removes_its_area_times_depth() {
+    // A 10 mm flat end mill zig-zags its centre over [50, 250] x [50, 150]
+    // at 4 mm stepover, 6 mm deep: it clears the rectangle grown by the
+    // radius with round corners, area (200 + 10)(100 + 10) − (4 − π)·5²
+    // (elementary geometry), times the depth.
+    let (d, r) = (6.0, 5.0);
+    let mut p = String::from(HEAD);
+    p.push_str("G0 X50 Y50\nG1 Z-6 F1000\n");
+    let mut y = 50.0;
+    let mut forward = true;
+    while y <= 150.0 + 1e-9 {
+        p.push_str(&format!(
+            "G1 X{} Y{y} F3000\n",
+            if forward { 250 } else { 50 }
+        ));
+        forward = !forward;
+        if y + 4.0 <= 150.0 + 1e-9 {
+            p.push_str(&format!("G1 Y{}\n", y + 4.0));
+        }
+        y += 4.0;
+    }
+    p.push_str(TAIL);
+    let v = run(&[&p], block(), Cutter::flat(10.0), None, 0.25);
+    let area = 210.0 * 110.0 - (4.0 - PI) * r * r;
+    let want = area * d / 1e6;
+    // Grid error: at most half a cell of the boundary strip, perimeter 640 mm.
+    let bound = 640.0 * 0.125 * d / 1e6;
+    assert!(
+        (v.removed_volume_litres - want).abs() <= bound,
+        "{} vs {want} ± {bound}",
+        v.removed_volume_litres
+    );
+    assert!(
+        v.collisions.is_empty() && v.spindle_off_cuts.is_empty() && v.out_of_envelope.is_empty()
+    );
+}
+
+#[test]
+fn ball_slot_removes_half_cylinder_and_hemisphere() {
+    // Ball radius R plunged to depth R and moved L: πR²L/2 + (2/3)πR³
+    // (a half-cylinder and a quarter-sphere at each end; geometry).
+    let (r, l) = (6.35, 150.0);
+    let p = format!(
+        "{HEAD}G0 X75 Y100\nG1 Z-{r} F500\nG1 X{} F2000\n{TAIL}",
+        75.0 + l
+    );
+    let v = run(&[&p], block(), Cutter::ball(2.0 * r), None, 0.25);
+    let want = (PI * r * r * l / 2.0 + 2.0 / 3.0 * PI * r.powi(3)) / 1e6;
+    assert!(
+        (v.removed_volume_litres - want).abs() / want < 0.01,
+        "{} vs {want}",
+        v.removed_volume_litres
+    );
+}
+
+#[test]
+fn g2_semicircle_cuts_a_half_annulus_with_end_caps() {
+    // Flat radius r along a semicircle of radius ρ: a half-annulus
+    // π((ρ+r)² − (ρ−r)²)/2 plus a half-disc cap at each end, πr² in all.
+    let (rho, r, d) = (50.0, 5.0, 4.0);
+    let p = format!("{HEAD}G0 X200 Y100\nG1 Z-{d} F500\nG2 X100 Y100 I-50 J0 F2000\n{TAIL}");
+    let v = run(&[&p], block(), Cutter::flat(2.0 * r), None, 0.25);
+    let area = PI * ((rho + r).powi(2) - (rho - r).powi(2)) / 2.0 + PI * r * r;
+    let want = area * d / 1e6;
+    assert!(
+        (v.removed_volume_litres - want).abs() / want < 0.01,
+        "{} vs {want}",
+        v.removed_volume_litres
+    );
+}
+
+#[test]
+fn a_rapid_through_stock_is_a_collision_on_its_line() {
+    let p = format!("{HEAD}G0 X50 Y50\nG0 Z-3\nG0 X150\n{TAIL}");
+    let v = run(&[&p], block(), Cutter::flat(10.0), None, 0.5);
+    assert!(v.has_findings());
+    assert_eq!(v.collisions[0].line, 6, "{:?}", v.collisions);
+}
+
+#[test]
+fn cutting_with_the_spindle_off_is_caught_on_its_line() {
+    let p = "G21 G90\nG0 Z10\nG0 X50 Y50\nG1 Z-2 F500\nG1 X100\nM30\n";
+    let v = run(&[p], block(), Cutter::flat(10.0), None, 0.5);
+    assert_eq!(v.spindle_off_cuts[0].line, 4);
+}
+
+#[test]
+fn leaving_the_envelope_is_caught_on_its_line() {
+    let p = format!("{HEAD}G0 X3500 Y50\n{TAIL}");
+    let v = run(&[&p], block(), Cutter::flat(10.0), None, 0.5);
+    assert_eq!(v.out_of_envelope[0].line, 5);
+    // Below the table top (block 50 mm, spoilboard allowance 4 mm).
+    let p = format!("{HEAD}G0 X10 Y10\nG1 Z-60 F500\n{TAIL}");
+    let v = run(&[&p], block(), Cutter::flat(10.0), None, 0.5);
+    assert!(
+        v.out_of_envelope
+            .iter()
+            .any(|f| f.line == 6 && f.what.contains("table")),
+        "{:?}",
+        v.out_of_envelope
+    );
+}
+
+#[test]
+fn a_gouge_into_the_design_is_measured_where_it_is() {
+    // The design: a 100 x 100 x 20 mm block whose top is 10 mm under the
+    // stock top. A flat tool cuts 2 mm into it over X 100..150: a gouge of 2 mm.
+    let design = Mesh::cuboid([100.0, 50.0, -30.0], [100.0, 100.0, 20.0]);
+    let p = format!("{HEAD}G0 X0 Y100\nG1 Z-12 F500\nG1 X150 F2000\n{TAIL}");
+    let v = run(&[&p], block(), Cutter::flat(10.0), Some(&design), 0.5);
+    let g = v.gouge_max_mm.unwrap();
+    assert!((g - 2.0).abs() < 1e-4, "{g}");
+    let at = v.gouge_at.unwrap();
+    assert!(
+        at[0] >= 100.0 && at[0] <= 155.0 && (at[1] - 100.0).abs() <= 5.0,
+        "{at:?}"
+    );
+    assert!(v.has_findings());
+    // Leftover: elsewhere 10 mm of stock over the design top.
+    assert!((v.leftover_max_mm.unwrap() - 10.0).abs() < 1e-4);
+}
+
+#[test]
+fn the_flip_turns_the_block_over_about_x() {
+    // Setup 1 cuts a 5 mm slot near the front edge; after the flip, setup 2
+    // cuts through at the same X near the back edge (Y' = W − Y). Between
+    // them they remove both slots and nothing is cut twice.
+    let p1 = format!("{HEAD}G0 X50 Y20\nG1 Z-5 F500\nG1 X250 F2000\n{TAIL}");
+    let p2 = format!("{HEAD}G0 X50 Y20\nG1 Z-5 F500\nG1 X250 F2000\n{TAIL}");
+    let v = run(&[&p1, &p2], block(), Cutter::flat(10.0), None, 0.25);
+    let one = (200.0 * 10.0 + PI * 25.0) * 5.0 / 1e6;
+    assert!(
+        (v.removed_volume_litres - 2.0 * one).abs() / one < 0.01,
+        "{} vs {}",
+        v.removed_volume_litres,
+        2.0 * one
+    );
+    assert_eq!(v.programs[1].setup, 2);
+}
+
+fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn blanksmith(args: &[&str], cwd: &Path) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_blanksmith"))
+        .args(args)
+        .current_dir(cwd)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn verify_command_exit_codes_and_json_keys() {
+    let dir = tempfile::tempdir().unwrap();
+    let machine = root().join("fixtures/machine-gantry-3000.yaml");
+    let ok = dir.path().join("ok.nc");
+    std::fs::write(
+        &ok,
+        format!("{HEAD}G0 X50 Y50\nG1 Z-3 F500\nG1 X100 F2000\n{TAIL}"),
+    )
+    .unwrap();
+    let bad = dir.path().join("bad.nc");
+    std::fs::write(&bad, format!("{HEAD}G0 X50 Y50\nG0 Z-3\nG0 X150\n{TAIL}")).unwrap();
+    let broken = dir.path().join("broken.nc");
+    std::fs::write(&broken, "G21\nG1 X10\n").unwrap();
+    let m = machine.to_str().unwrap();
+    let o = blanksmith(
+        &[
+            "verify",
+            "ok.nc",
+            "--machine",
+            m,
+            "--stock",
+            "300x200x50mm",
+            "--tool",
+            "flat:10mm",
+            "--json",
+        ],
+        dir.path(),
+    );
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    for k in [
+        "collisions",
+        "out_of_envelope",
+        "spindle_off_cuts",
+        "gouge_max_mm",
+        "leftover_max_mm",
+        "leftover_p95_mm",
+        "removed_volume_litres",
+        "time_estimate_s",
+        "programs",
+    ] {
+        assert!(j.get(k).is_some(), "{k}");
+    }
+    let o = blanksmith(
+        &[
+            "verify",
+            "bad.nc",
+            "--machine",
+            m,
+            "--stock",
+            "300x200x50mm",
+            "--tool",
+            "flat:10mm",
+        ],
+        dir.path(),
+    );
+    assert_eq!(o.status.code(), Some(1));
+    assert!(
+        String::from_utf8_lossy(&o.stdout).contains("bad.nc:6: rapid"),
+        "{}",
+        String::from_utf8_lossy(&o.stdout)
+    );
+    let o = blanksmith(
+        &[
+            "verify",
+            "broken.nc",
+            "--machine",
+            m,
+            "--stock",
+            "300x200x50mm",
+            "--tool",
+            "flat:10mm",
+        ],
+        dir.path(),
+    );
+    assert_eq!(o.status.code(), Some(2));
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        e.contains("broken.nc:2:") && e.contains("feed") && !e.contains("panicked"),
+        "{e}"
+    );
+    let o = blanksmith(
+        &["verify", "ok.nc", "--machine", m, "--stock", "300x200x50mm"],
+        dir.path(),
+    );
+    assert_eq!(o.status.code(), Some(2), "no tool known");
+}
