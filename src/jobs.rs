@@ -242,7 +242,14 @@ pub fn make(
         &job,
         &dir,
         progress,
-    )?;
+    )
+    .map_err(|e| {
+        let name = match input {
+            Input::File(p) => p.clone(),
+            Input::Demo => PathBuf::from(demo::DEMO_NAME),
+        };
+        with_profiles(e, &name, cut)
+    })?;
     files.extend(cut_files);
     let written = write_all(&files)?;
     Ok(Meshed {
@@ -334,9 +341,33 @@ pub fn cut(
     let (machine, job) = cut_profiles(args)?;
     let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
     let litres = crate::volume::volume(&mesh) / 1e6;
-    let (plan, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)?;
+    let (plan, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
+        .map_err(|e| with_profiles(e, path, args))?;
     let written = write_all(&files)?;
     Ok((plan, written))
+}
+
+/// Names the files a fit or gate error came from.
+fn with_profiles(e: JobError, design: &Path, args: &CutArgs) -> JobError {
+    match e {
+        JobError::Cam(c) => {
+            let job = args
+                .job
+                .as_ref()
+                .map_or("the default job".to_string(), |p| p.display().to_string());
+            let machine = args
+                .machine
+                .as_ref()
+                .map_or("the shipped machine".to_string(), |p| {
+                    p.display().to_string()
+                });
+            JobError::Option(format!(
+                "{}: with {job} on {machine}: {c}",
+                design.display()
+            ))
+        }
+        other => other,
+    }
 }
 
 /// Something to cut or draw: a board description or a mesh from elsewhere.

@@ -502,3 +502,162 @@ fn resize_writes_a_description_the_other_commands_accept() {
         assert!(files_under(fresh.path()).is_empty());
     }
 }
+
+/// Bad machine and job profiles and bad programs: the file, the place or
+/// field, the rule; exit 2; no panic; nothing written.
+const BAD_PROFILES: &[(&str, &str, &str)] = &[
+    (
+        "machine/bull-without-corner.yaml",
+        ":23:11: tools[1].corner_radius",
+        "is missing",
+    ),
+    (
+        "machine/duplicate-tool.yaml",
+        ":22:9: tools[1].id",
+        "listed twice",
+    ),
+    (
+        "machine/feed-not-a-feed.yaml",
+        ":9:16:",
+        "`fast` is not a feed",
+    ),
+    (
+        "machine/flutes-longer-than-reach.yaml",
+        ":19:26: tools[0].length_below_holder",
+        "shorter than the flutes",
+    ),
+    (
+        "machine/negative-travel.yaml",
+        ":6:13: travel.x",
+        "must be more than 0.00 mm",
+    ),
+    (
+        "machine/unknown-field.yaml",
+        ":13:1:",
+        "unknown field `spindel`",
+    ),
+    (
+        "job/block-beyond-travel.yaml",
+        "block-beyond-travel.yaml on",
+        "X travel is 3000.0 mm",
+    ),
+    (
+        "job/block-too-thin.yaml",
+        "block-too-thin.yaml on",
+        "46.1 mm (1 13/16\") short",
+    ),
+    (
+        "job/feed-beyond-machine.yaml",
+        ":2:9: outline.feed",
+        "at most 15000 mm/min",
+    ),
+    (
+        "job/finishing-flat-tool.yaml",
+        ":2:9: finishing.tool",
+        "needs a ball-end tool",
+    ),
+    (
+        "job/pitch-word.yaml",
+        ":2:10: placement.pitch",
+        "must be `auto`",
+    ),
+    (
+        "job/spindle-beyond-machine.yaml",
+        ":3:12: roughing.spindle",
+        "between 6000 and 24000",
+    ),
+    (
+        "job/stepdown-too-deep.yaml",
+        ":2:13: roughing.stepdown",
+        "allows at most 50.00 mm",
+    ),
+    (
+        "job/stepover-too-wide.yaml",
+        ":2:13: roughing.stepover",
+        "at most half the tool diameter",
+    ),
+    (
+        "job/unknown-tool.yaml",
+        ":2:9: roughing.tool",
+        "T7 is not in the machine's tool list",
+    ),
+    ("gcode/absurd-number.nc", ":3:4:", "no exponent"),
+    (
+        "gcode/arc-endpoints.nc",
+        ":7:1:",
+        "the radius does not fit the end points",
+    ),
+    ("gcode/arc-radius.nc", ":7:12:", "too small for a chord"),
+    ("gcode/binary.nc", ":1:1:", "binary data"),
+    ("gcode/huge-number.nc", ":3:4:", "out of range"),
+    ("gcode/long-line.nc", ":2:1:", "longer than 4096 characters"),
+    ("gcode/no-feed.nc", ":6:1:", "before any feed"),
+    ("gcode/no-units.nc", ":2:1:", "before the units are stated"),
+    ("gcode/unclosed-comment.nc", ":1:9:", "not closed"),
+    (
+        "gcode/unknown-word.nc",
+        ":2:1:",
+        "`G54` is outside the supported subset",
+    ),
+];
+
+#[test]
+fn every_bad_profile_and_program_is_refused_clearly_and_writes_nothing() {
+    let mut listed = vec![];
+    for sub in ["machine", "job", "gcode"] {
+        for e in std::fs::read_dir(root().join("fixtures/bad").join(sub)).unwrap() {
+            listed.push(format!(
+                "{sub}/{}",
+                e.unwrap().file_name().to_string_lossy()
+            ));
+        }
+    }
+    listed.sort();
+    let mut known: Vec<String> = BAD_PROFILES.iter().map(|b| b.0.to_string()).collect();
+    known.sort();
+    assert_eq!(listed, known, "every bad fixture has its expected message");
+    let machine = root().join("fixtures/machine-gantry-3000.yaml");
+    let board = root().join("fixtures/shortboard.yaml");
+    for (file, place, words) in BAD_PROFILES {
+        let dir = tempfile::tempdir().unwrap();
+        let path = root().join("fixtures/bad").join(file);
+        let (b, m, p) = (
+            board.to_str().unwrap(),
+            machine.to_str().unwrap(),
+            path.to_str().unwrap(),
+        );
+        let args: Vec<&str> = if file.starts_with("machine/") {
+            vec!["cut", b, "--machine", p, "-o", "out", "--quiet"]
+        } else if file.starts_with("job/") {
+            vec!["cut", b, "--machine", m, "--job", p, "-o", "out", "--quiet"]
+        } else {
+            vec![
+                "verify",
+                p,
+                "--machine",
+                m,
+                "--stock",
+                "300x200x50mm",
+                "--tool",
+                "flat:10mm",
+                "-o",
+                "out",
+                "--quiet",
+            ]
+        };
+        let o = run(&args, dir.path());
+        let err = text(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{file}: {err}");
+        assert!(err.starts_with("blanksmith: error: "), "{file}: {err}");
+        let name = file.rsplit('/').next().unwrap();
+        assert!(err.contains(name), "{file}: names the file: {err}");
+        assert!(err.contains(place), "{file}: says where ({place}): {err}");
+        assert!(err.contains(words), "{file}: says {words:?}: {err}");
+        assert!(!err.contains("panicked"), "{file}: {err}");
+        assert!(
+            files_under(dir.path()).is_empty(),
+            "{file}: wrote {:?}",
+            files_under(dir.path())
+        );
+    }
+}

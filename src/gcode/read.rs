@@ -331,6 +331,22 @@ fn strip_comments(text: &str, file: &str, line: usize) -> Result<Vec<Word>, Gcod
                     i += 1;
                 }
                 let s: String = chars[num_start..i].iter().map(|c| c.1).collect();
+                if i + 1 < chars.len()
+                    && matches!(chars[i].1, 'e' | 'E')
+                    && (chars[i + 1].1.is_ascii_digit() || matches!(chars[i + 1].1, '-' | '+'))
+                    && !s.is_empty()
+                {
+                    return Err(err(
+                        file,
+                        line,
+                        column,
+                        format!(
+                            "`{letter}{s}{}…`: G-code numbers have no exponent",
+                            chars[i].1
+                        ),
+                        "write the number out in full, e.g. X1250.5",
+                    ));
+                }
                 let _ = start;
                 let value: f64 = match s.parse() {
                     Ok(v) => v,
