@@ -102,8 +102,9 @@ fn the_same_input_gives_byte_identical_files() {
         assert!(o.status.success(), "{}", text(&o.stderr));
     }
     let (fa, fb) = (files_under(a.path()), files_under(b.path()));
-    // STL, JSON and text reports, the templates' PDF and three SVGs.
-    assert_eq!(fa.len(), 7, "{fa:?}");
+    // STL, JSON and text reports, the templates' PDF and three SVGs; four
+    // programs, the setup sheet, the verification's JSON, text and two pictures.
+    assert_eq!(fa.len(), 16, "{fa:?}");
     for (x, y) in fa.iter().zip(&fb) {
         assert_eq!(
             std::fs::read(x).unwrap(),
