@@ -1,0 +1,23 @@
+//! Any bytes as a G-code program: read it, and simulate what reads on a
+//! small block. Errors are fine; panics are bugs.
+#![no_main]
+
+use blanksmith::cam::job::Block;
+use blanksmith::cam::profile::{self, Cutter};
+use blanksmith::cam::setup::Side;
+use blanksmith::sim::verify::{self, ProgramSource, Setting, VerifyOptions};
+use libfuzzer_sys::fuzz_target;
+
+fuzz_target!(|data: &[u8]| {
+    let machine = profile::generic_machine();
+    let setting = Setting {
+        machine: &machine,
+        block: Block { length: 60.0, width: 40.0, thickness: 20.0 },
+        table_position: [0.0, 0.0],
+        default_tool: Some(Cutter::ball(6.0)),
+        design: None,
+        keep: vec![],
+    };
+    let sources = vec![ProgramSource { name: "fuzz.nc".into(), side: Side::Deck, reader: Box::new(data) }];
+    let _ = verify::verify(sources, &setting, VerifyOptions { cell: 1.0, ..Default::default() }, &|_| {});
+});
