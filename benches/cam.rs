@@ -62,7 +62,16 @@ fn both_setups_demo_default_job() -> usize {
     let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
     let m = profile::generic_machine();
     let j = job::default_job(&m).unwrap();
-    let plan = program::plan(&board.name, 28.0, &c.mesh, Some(&program::apex_line(&board)), &m, &j, &|_| {}).unwrap();
+    let plan = program::plan(
+        &board.name,
+        28.0,
+        &c.mesh,
+        Some(&program::apex_line(&board)),
+        &m,
+        &j,
+        &|_| {},
+    )
+    .unwrap();
     plan.programs.iter().map(|p| p.text.len()).sum()
 }
 
@@ -72,6 +81,19 @@ fn simulate_both_setups_demo(b: divan::Bencher) {
     let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
     let m = profile::generic_machine();
     let j = job::default_job(&m).unwrap();
-    let plan = program::plan(&board.name, 28.0, &c.mesh, Some(&program::apex_line(&board)), &m, &j, &|_| {}).unwrap();
-    b.bench(|| jobs::verify_plan(&plan, &m, &j, &|_| {}).unwrap().removed_volume_litres);
+    let plan = program::plan(
+        &board.name,
+        28.0,
+        &c.mesh,
+        Some(&program::apex_line(&board)),
+        &m,
+        &j,
+        &|_| {},
+    )
+    .unwrap();
+    b.bench(|| {
+        jobs::verify_plan(&plan, &m, &j, &|_| {})
+            .unwrap()
+            .removed_volume_litres
+    });
 }

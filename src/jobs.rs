@@ -113,6 +113,8 @@ pub struct Meshed {
     pub report: Report,
     /// Files written, in order.
     pub written: Vec<PathBuf>,
+    /// Estimated run time of setup 1 and setup 2, s (when programs were made).
+    pub setup_times: Option<[f64; 2]>,
 }
 
 /// STL flavour.
@@ -153,6 +155,7 @@ pub fn mesh_to(
         certified,
         report,
         written,
+        setup_times: None,
     })
 }
 
@@ -205,6 +208,7 @@ pub fn certify_only(board: Board, tolerance: f64) -> Result<Meshed, JobError> {
         certified,
         report,
         written: vec![],
+        setup_times: None,
     })
 }
 
@@ -234,7 +238,7 @@ pub fn make(
         &dir,
     )?;
     files.extend(template_files);
-    let (_, cut_files) = cut_files(
+    let (plan, verification, cut_files) = cut_files(
         &design,
         &certified.mesh,
         certified.certificate.mesh_litres,
@@ -251,13 +255,121 @@ pub fn make(
         with_profiles(e, &name, cut)
     })?;
     files.extend(cut_files);
+    let page = board_page(&report, &plan, &verification, &files, &dir);
+    files.push((dir.join("index.html"), page.into_bytes()));
     let written = write_all(&files)?;
+    let times = setup_times(&plan);
     Ok(Meshed {
         board,
         certified,
         report,
         written,
+        setup_times: Some(times),
     })
+}
+
+fn setup_times(plan: &CutPlan) -> [f64; 2] {
+    let mut t = [0.0; 2];
+    for p in &plan.programs {
+        t[(p.side.number() - 1) as usize] += p.time_s;
+    }
+    t
+}
+
+/// The board's report page from the files about to be written.
+fn board_page(
+    report: &Report,
+    plan: &CutPlan,
+    verification: &Verification,
+    files: &Files,
+    dir: &Path,
+) -> String {
+    let text = |suffix: &str| -> Option<&str> {
+        files
+            .iter()
+            .find(|(p, _)| p.to_string_lossy().ends_with(suffix))
+            .and_then(|(_, b)| std::str::from_utf8(b).ok())
+    };
+    let mut templates = vec![];
+    for (title, suffix) in [
+        ("Plan view: outline", ".outline.svg"),
+        ("Side view: rocker and foil", ".rocker.svg"),
+        ("Sections", ".sections.svg"),
+    ] {
+        if let Some(t) = text(suffix) {
+            templates.push((title, t));
+        }
+    }
+    let deviations = files
+        .iter()
+        .filter(|(p, _)| p.to_string_lossy().ends_with(".deviation.svg"))
+        .filter_map(|(_, b)| std::str::from_utf8(b).ok())
+        .collect();
+    let mut names: Vec<String> = files
+        .iter()
+        .filter_map(|(p, _)| p.strip_prefix(dir).ok().map(|q| q.display().to_string()))
+        .collect();
+    names.sort();
+    crate::page::board_page(&crate::page::BoardPage {
+        report,
+        templates,
+        plan,
+        verification,
+        deviations,
+        files: names,
+    })
+}
+
+/// `make` for many boards at once, in parallel: each board in its own
+/// folder, a failure not stopping the others; then `out/index.html`
+/// listing them all. `progress(k, stage)` reports board `k`'s stage.
+pub fn make_many(
+    inputs: &[Input],
+    tolerance: f64,
+    out: &Path,
+    cut: &CutArgs,
+    progress: &(dyn Fn(usize, &str) + Sync),
+) -> (Vec<Result<Meshed, JobError>>, Result<PathBuf, JobError>) {
+    use rayon::prelude::*;
+    let results: Vec<Result<Meshed, JobError>> = inputs
+        .par_iter()
+        .enumerate()
+        .map(|(k, input)| make(input, tolerance, out, cut, &|s| progress(k, s)))
+        .collect();
+    let rows: Vec<crate::page::Row> = inputs
+        .iter()
+        .zip(&results)
+        .map(|(input, r)| match r {
+            Ok(m) => crate::page::Row {
+                name: m.board.name.clone(),
+                litres: Some(m.report.volume_litres),
+                times: m.setup_times,
+                verdict: if m.report.certified {
+                    "done".into()
+                } else {
+                    "volume not certified".into()
+                },
+            },
+            Err(e) => crate::page::Row {
+                name: match input {
+                    Input::File(p) => p.display().to_string(),
+                    Input::Demo => demo::DEMO_NAME.to_string(),
+                },
+                litres: None,
+                times: None,
+                verdict: format!("failed: {}", e.to_string().lines().next().unwrap_or("")),
+            },
+        })
+        .collect();
+    let index = out.join("index.html");
+    let page = crate::page::run_page(&rows, out);
+    let written = output::write_atomic(&index, page.as_bytes())
+        .map(|_| index.clone())
+        .map_err(|source| JobError::Write {
+            path: index.display().to_string(),
+            source,
+        });
+    (results, written)
 }
 
 /// Machine and job for the cutting stage: files, or the shipped machine
@@ -292,7 +404,7 @@ pub fn cut_files(
     job: &Job,
     dir: &Path,
     progress: &dyn Fn(&str),
-) -> Result<(CutPlan, Files), JobError> {
+) -> Result<(CutPlan, Verification, Files), JobError> {
     let apex = match design {
         Design::Board(b) => Some(program::apex_line(b)),
         Design::Mesh { .. } => None,
@@ -326,7 +438,7 @@ pub fn cut_files(
         plan.sheet.clone().into_bytes(),
     ));
     files.extend(verification_files(&verification, design.name(), dir));
-    Ok((plan, files))
+    Ok((plan, verification, files))
 }
 
 /// `cut`: reads a design (description or STL), writes its programs and
@@ -341,7 +453,7 @@ pub fn cut(
     let (machine, job) = cut_profiles(args)?;
     let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
     let litres = crate::volume::volume(&mesh) / 1e6;
-    let (plan, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
+    let (plan, _, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
         .map_err(|e| with_profiles(e, path, args))?;
     let written = write_all(&files)?;
     Ok((plan, written))

@@ -35,6 +35,7 @@ pub mod mesher;
 pub mod nearest;
 pub mod output;
 pub mod overlay;
+pub mod page;
 pub mod quadrature;
 pub mod report;
 pub mod resize;

@@ -180,8 +180,9 @@ enum Command {
     /// The main job: every output for a board into DIR/<name>/. With no
     /// board, the built-in demo.
     Make {
-        /// Board description (YAML); the built-in demo when left out.
-        board: Option<PathBuf>,
+        /// Board descriptions (YAML), e.g. `orders/*.yaml`, made in parallel; the
+        /// built-in demo when none is given.
+        boards: Vec<PathBuf>,
         /// Output folder.
         #[arg(short, long, default_value = "out")]
         out: PathBuf,
@@ -676,24 +677,28 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             Ok(ExitCode::SUCCESS)
         }
         Command::Make {
-            board,
+            boards,
             out,
             tolerance,
             machine,
             job,
             quiet,
         } => {
-            let input = board.map(Input::File).unwrap_or(Input::Demo);
-            let bar = progress(quiet);
-            let m = jobs::make(
-                &input,
-                tolerance,
-                &out,
-                &jobs::CutArgs { machine, job },
-                &|s| bar.set_message(s.to_string()),
-            )?;
-            bar.finish_and_clear();
-            Ok(finish(&m, false))
+            let cut = jobs::CutArgs { machine, job };
+            if boards.len() <= 1 {
+                let input = boards
+                    .into_iter()
+                    .next()
+                    .map(Input::File)
+                    .unwrap_or(Input::Demo);
+                let bar = progress(quiet);
+                let m = jobs::make(&input, tolerance, &out, &cut, &|s| {
+                    bar.set_message(s.to_string())
+                });
+                bar.finish_and_clear();
+                return Ok(finish(&m?, false));
+            }
+            make_many(boards, tolerance, &out, &cut, quiet)
         }
         Command::Verify {
             programs,
@@ -773,6 +778,96 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             Ok(ExitCode::SUCCESS)
         }
     }
+}
+
+/// `make` for a day's orders: one spinner per board, a summary table at
+/// the end, exit 2 if any board failed (1 if one is not certified).
+fn make_many(
+    boards: Vec<PathBuf>,
+    tolerance: f64,
+    out: &std::path::Path,
+    cut: &jobs::CutArgs,
+    quiet: bool,
+) -> Result<ExitCode, JobError> {
+    let multi = indicatif::MultiProgress::new();
+    if quiet {
+        multi.set_draw_target(indicatif::ProgressDrawTarget::hidden());
+    }
+    let bars: Vec<indicatif::ProgressBar> = boards
+        .iter()
+        .map(|b| {
+            let bar = multi.add(indicatif::ProgressBar::new_spinner());
+            bar.set_prefix(b.display().to_string());
+            bar.set_style(
+                indicatif::ProgressStyle::with_template("{spinner} {prefix}: {msg}")
+                    .expect("a valid template"),
+            );
+            bar.enable_steady_tick(std::time::Duration::from_millis(150));
+            bar
+        })
+        .collect();
+    let inputs: Vec<Input> = boards.iter().cloned().map(Input::File).collect();
+    let (results, index) = jobs::make_many(&inputs, tolerance, out, cut, &|k, s| {
+        bars[k].set_message(s.to_string())
+    });
+    for b in &bars {
+        b.finish_and_clear();
+    }
+    println!(
+        "{:<40} {:>9} {:>6} {:>16} {:>16}  verdict",
+        "board", "litres", "fits", "setup 1", "setup 2"
+    );
+    let mut code = ExitCode::SUCCESS;
+    let mut failed = 0;
+    for (path, r) in boards.iter().zip(&results) {
+        match r {
+            Ok(m) => {
+                let [t1, t2] = m.setup_times.unwrap_or([0.0; 2]);
+                let verdict = if m.report.certified {
+                    "done"
+                } else {
+                    "volume NOT certified"
+                };
+                if !m.report.certified && failed == 0 {
+                    code = ExitCode::from(1);
+                }
+                println!(
+                    "{:<40} {:>7.2} L {:>6} {:>16} {:>16}  {verdict}",
+                    m.board.name,
+                    m.report.volume_litres,
+                    "yes",
+                    blanksmith::cam::program::duration(t1),
+                    blanksmith::cam::program::duration(t2)
+                );
+            }
+            Err(e) => {
+                failed += 1;
+                let fits = if e.to_string().contains("does not fit") {
+                    "no"
+                } else {
+                    "—"
+                };
+                println!(
+                    "{:<40} {:>9} {:>6} {:>16} {:>16}  failed",
+                    path.display(),
+                    "—",
+                    fits,
+                    "—",
+                    "—"
+                );
+                eprintln!("blanksmith: error: {e}");
+            }
+        }
+    }
+    match index {
+        Ok(p) => println!("wrote {}", p.display()),
+        Err(e) => eprintln!("blanksmith: error: {e}"),
+    }
+    if failed > 0 {
+        eprintln!("blanksmith: {failed} of {} boards failed", boards.len());
+        code = ExitCode::from(2);
+    }
+    Ok(code)
 }
 
 /// A spinner with the stage being worked on, on standard error; hidden

@@ -1,0 +1,277 @@
+//! The report page: one self-contained `index.html` per board (no network,
+//! no scripts, no external fonts), and one listing every board of a run.
+
+use std::fmt::Write as _;
+use std::path::Path;
+
+use crate::cam::paths::Step;
+use crate::cam::program::{self, CutPlan};
+use crate::cam::setup::flip;
+use crate::report::Report;
+use crate::sim::verify::Verification;
+use crate::units::Both;
+
+const STYLE: &str = "body{font-family:sans-serif;margin:2em;max-width:1200px;color:#222}\
+h1{margin-bottom:0}h2{border-bottom:1px solid #ccc;margin-top:2em}\
+table{border-collapse:collapse}td,th{border:1px solid #ccc;padding:3px 8px;text-align:right}\
+th{background:#f4f4f4}td.l,th.l{text-align:left}.fig{max-width:100%;height:auto;border:1px solid #ddd;margin:4px 0}\
+.ok{color:#060}.bad{color:#a00;font-weight:bold}pre{background:#f8f8f8;padding:1em;white-space:pre-wrap}\
+.caution{background:#fff3cd;border:1px solid #e0c060;padding:0.5em 1em}";
+
+fn esc(t: &str) -> String {
+    t.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+}
+
+/// An SVG file's text made fit to inline: its XML prolog dropped, scaled
+/// to the page width.
+fn inline_svg(svg: &str) -> String {
+    let body = match svg.find("<svg") {
+        Some(i) => &svg[i..],
+        None => svg,
+    };
+    body.replacen(
+        "<svg ",
+        "<svg class=\"fig\" style=\"width:100%;height:auto\" ",
+        1,
+    )
+}
+
+/// Litres per foot as a small bar chart.
+fn litres_chart(r: &Report) -> String {
+    let n = r.litres_per_foot.len().max(1);
+    let top = r
+        .litres_per_foot
+        .iter()
+        .map(|p| p.litres)
+        .fold(0.0, f64::max)
+        .max(1e-9);
+    let (w, h) = (60.0 * n as f64 + 40.0, 180.0);
+    let mut s = format!(
+        "<svg class=\"fig\" id=\"litres-chart\" xmlns=\"http://www.w3.org/2000/svg\" width=\"{w:.0}\" height=\"{h:.0}\" viewBox=\"0 0 {w:.0} {h:.0}\">"
+    );
+    for (k, p) in r.litres_per_foot.iter().enumerate() {
+        let bh = 120.0 * p.litres / top;
+        let x = 30.0 + 60.0 * k as f64;
+        let _ = write!(
+            s,
+            "<rect x=\"{x:.1}\" y=\"{:.1}\" width=\"44\" height=\"{bh:.1}\" fill=\"#4a78b0\"/><text x=\"{:.1}\" y=\"{:.1}\" font-size=\"11\" text-anchor=\"middle\">{:.2} L</text><text x=\"{:.1}\" y=\"170\" font-size=\"10\" text-anchor=\"middle\">{}–{} ft</text>",
+            145.0 - bh,
+            x + 22.0,
+            140.0 - bh,
+            p.litres,
+            x + 22.0,
+            k,
+            k + 1
+        );
+    }
+    s.push_str("</svg>");
+    s
+}
+
+/// Each setup's cutting moves drawn in plan (every roughing and outline
+/// move, every 4th finishing move), in setup-1 coordinates.
+fn toolpath_svg(plan: &CutPlan, side: usize) -> String {
+    let b = &plan.placement.block;
+    let (w, h) = (b.length, b.width);
+    let mut s = format!(
+        "<svg class=\"fig\" xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"-10 -10 {:.0} {:.0}\" width=\"{:.0}\" height=\"{:.0}\"><rect x=\"0\" y=\"0\" width=\"{w:.1}\" height=\"{h:.1}\" fill=\"#f6f0e0\" stroke=\"#999\"/>",
+        w + 20.0,
+        h + 20.0,
+        (w + 20.0) / 2.0,
+        (h + 20.0) / 2.0
+    );
+    let colours = [
+        ("registration holes", "#000"),
+        ("roughing", "#c07020"),
+        ("outline", "#a00"),
+        ("finishing", "#2060c0"),
+    ];
+    let sp = &plan.setups[side];
+    for p in &sp.paths {
+        let colour = colours
+            .iter()
+            .find(|c| c.0 == p.label)
+            .map_or("#444", |c| c.1);
+        let every = if p.label == "finishing" { 4 } else { 1 };
+        let mut d = String::new();
+        let mut pen = false;
+        for (k, st) in p.steps.iter().enumerate() {
+            let (q, cut) = match *st {
+                Step::Rapid(q) => (q, false),
+                Step::Plunge(q) | Step::Cut(q) => (q, true),
+                Step::Arc { to, .. } => (to, true),
+            };
+            let q = if sp.side == crate::cam::setup::Side::Bottom {
+                flip(q, b)
+            } else {
+                q
+            };
+            if !cut {
+                pen = false;
+                continue;
+            }
+            if !pen {
+                let _ = write!(d, "M{:.1} {:.1}", q[0], h - q[1]);
+                pen = true;
+            } else if k % every == 0 {
+                let _ = write!(d, "L{:.1} {:.1}", q[0], h - q[1]);
+            }
+        }
+        let _ = write!(
+            s,
+            "<path d=\"{d}\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"0.6\" opacity=\"0.7\"/>"
+        );
+    }
+    s.push_str("</svg>");
+    s
+}
+
+/// What a board's page shows.
+pub struct BoardPage<'a> {
+    /// The report.
+    pub report: &'a Report,
+    /// Template SVGs (title, text).
+    pub templates: Vec<(&'a str, &'a str)>,
+    /// The cutting plan.
+    pub plan: &'a CutPlan,
+    /// Its verification.
+    pub verification: &'a Verification,
+    /// Deviation SVGs per setup.
+    pub deviations: Vec<&'a str>,
+    /// Every file of the board's folder (names relative to it).
+    pub files: Vec<String>,
+}
+
+/// The board's `index.html`.
+pub fn board_page(p: &BoardPage) -> String {
+    let r = p.report;
+    let mut s = String::new();
+    let _ = write!(
+        s,
+        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>{} — blanksmith</title><style>{STYLE}</style></head><body>\n",
+        esc(&r.name)
+    );
+    let _ = write!(
+        s,
+        "<h1>{}</h1><p>{} long, {} wide ({} from the nose), {} thick, {} tail.</p>\n",
+        esc(&r.name),
+        Both(r.length_mm),
+        Both(r.width_mm),
+        Both(r.wide_point_from_nose_mm),
+        Both(r.thickness_mm),
+        esc(&r.tail)
+    );
+    let c = &r.certificate;
+    let _ = write!(
+        s,
+        "<h2>Volume</h2><p id=\"volume\" style=\"font-size:1.6em\"><strong>{:.2} L</strong> <span class=\"{}\">{}</span></p>\n",
+        r.volume_litres,
+        if r.certified { "ok" } else { "bad" },
+        if r.certified {
+            "certified"
+        } else {
+            "NOT certified"
+        }
+    );
+    let _ = write!(
+        s,
+        "<table><tr><th class=\"l\">certificate</th><th>litres</th></tr><tr><td class=\"l\">(a) divergence theorem on the mesh ({} triangles)</td><td>{:.4}</td></tr><tr><td class=\"l\">(b) integral of the continuous shape's section areas</td><td>{:.4}</td></tr><tr><td class=\"l\">(c) error estimate of (a)</td><td>{:.4}</td></tr><tr><td class=\"l\">|a − b|</td><td>{:.4}</td></tr></table>\n",
+        r.triangles,
+        c.mesh_litres,
+        c.surface_litres,
+        c.error_estimate_litres,
+        (c.mesh_litres - c.surface_litres).abs()
+    );
+    s.push_str("<h3>Litres per foot from the nose</h3>");
+    s.push_str(&litres_chart(r));
+    for (title, svg) in &p.templates {
+        let _ = write!(s, "<h2>{}</h2>{}", esc(title), inline_svg(svg));
+    }
+    s.push_str("<h2>Fit in the stock</h2><ul>");
+    for l in p.plan.placement.fit_lines() {
+        let _ = write!(s, "<li>{}</li>", esc(&l));
+    }
+    s.push_str("</ul><h2>Toolpaths</h2>");
+    for (k, name) in [
+        "Setup 1: deck up",
+        "Setup 2: bottom up (drawn as seen in setup 1)",
+    ]
+    .iter()
+    .enumerate()
+    {
+        let _ = write!(s, "<h3>{name}</h3>{}", toolpath_svg(p.plan, k));
+    }
+    s.push_str("<p>Black: registration holes; orange: roughing; red: outline; blue: finishing (every 4th move).</p><table><tr><th class=\"l\">program</th><th class=\"l\">tool</th><th class=\"l\">cuts</th><th>time</th></tr>");
+    for pr in &p.plan.programs {
+        let _ = write!(
+            s,
+            "<tr><td class=\"l\"><a href=\"{0}\">{0}</a></td><td class=\"l\">{1}</td><td class=\"l\">{2}</td><td>{3}</td></tr>",
+            esc(&pr.file_name),
+            esc(&pr.tool.describe()),
+            pr.labels.join(", "),
+            program::duration(pr.time_s)
+        );
+    }
+    s.push_str("</table><h2>Simulation</h2>");
+    let _ = write!(
+        s,
+        "<pre id=\"verification\">{}</pre>",
+        esc(&p.verification.text())
+    );
+    for d in &p.deviations {
+        s.push_str(&inline_svg(d));
+    }
+    let _ = write!(
+        s,
+        "<h2>Setup sheet</h2><div class=\"caution\">The machine maker's manual, your shop rules and local codes come first.</div><pre>{}</pre>",
+        esc(&p.plan.sheet)
+    );
+    s.push_str("<h2>Files</h2><ul>");
+    for f in &p.files {
+        let _ = write!(s, "<li><a href=\"{0}\">{0}</a></li>", esc(f));
+    }
+    s.push_str("</ul></body></html>\n");
+    s
+}
+
+/// One row of the run's summary.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Row {
+    /// Board name (its folder).
+    pub name: String,
+    /// Litres, when meshed.
+    pub litres: Option<f64>,
+    /// Setup 1 and setup 2 run times, s.
+    pub times: Option<[f64; 2]>,
+    /// `done`, or what went wrong.
+    pub verdict: String,
+}
+
+/// The run's `index.html`: every board, linked to its page.
+pub fn run_page(rows: &[Row], dir: &Path) -> String {
+    let _ = dir;
+    let mut s = format!(
+        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>blanksmith run</title><style>{STYLE}</style></head><body><h1>Boards</h1><table><tr><th class=\"l\">board</th><th>litres</th><th>setup 1</th><th>setup 2</th><th class=\"l\">verdict</th></tr>\n"
+    );
+    for r in rows {
+        let link = if r.litres.is_some() {
+            format!("<a href=\"{0}/index.html\">{0}</a>", esc(&r.name))
+        } else {
+            esc(&r.name)
+        };
+        let l = r.litres.map_or("—".to_string(), |l| format!("{l:.2} L"));
+        let (t1, t2) = r.times.map_or(("—".into(), "—".into()), |t| {
+            (program::duration(t[0]), program::duration(t[1]))
+        });
+        let _ = write!(
+            s,
+            "<tr><td class=\"l\">{link}</td><td>{l}</td><td>{t1}</td><td>{t2}</td><td class=\"l\">{}</td></tr>\n",
+            esc(&r.verdict)
+        );
+    }
+    s.push_str("</table></body></html>\n");
+    s
+}
