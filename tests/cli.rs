@@ -95,23 +95,64 @@ fn make_runs_the_demo_into_out() {
 
 #[test]
 fn the_same_input_gives_byte_identical_files() {
+    // One run makes the fish alone; the other makes it among a day's
+    // orders with a board that fails: the fish's files must not differ,
+    // the failure must not stop it, and the run must say so.
     let (a, b) = (tempfile::tempdir().unwrap(), tempfile::tempdir().unwrap());
     let board = root().join("fixtures/fish.yaml");
-    for d in [&a, &b] {
-        let o = run(&["make", board.to_str().unwrap()], d.path());
-        assert!(o.status.success(), "{}", text(&o.stderr));
-    }
-    let (fa, fb) = (files_under(a.path()), files_under(b.path()));
+    let bad = root().join("fixtures/bad/zero-thickness.yaml");
+    let o = run(&["make", board.to_str().unwrap()], a.path());
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let o = run(
+        &[
+            "make",
+            board.to_str().unwrap(),
+            bad.to_str().unwrap(),
+            "--quiet",
+        ],
+        b.path(),
+    );
+    assert_eq!(o.status.code(), Some(2), "{}", text(&o.stderr));
+    let summary = text(&o.stdout);
+    assert!(
+        summary.contains("saltgrass-fish-5-6") && summary.contains("done"),
+        "{summary}"
+    );
+    assert!(
+        summary.contains("zero-thickness.yaml") && summary.contains("failed"),
+        "{summary}"
+    );
+    assert!(
+        text(&o.stderr).contains("thickness.max"),
+        "{}",
+        text(&o.stderr)
+    );
+    let run_index = std::fs::read_to_string(b.path().join("out/index.html")).unwrap();
+    assert!(run_index.contains("saltgrass-fish-5-6/index.html") && run_index.contains("failed"));
+    let (fa, fb) = (
+        files_under(a.path()),
+        files_under(&b.path().join("out/saltgrass-fish-5-6")),
+    );
     // STL, JSON and text reports, the templates' PDF and three SVGs; four
-    // programs, the setup sheet, the verification's JSON, text and two pictures.
-    assert_eq!(fa.len(), 16, "{fa:?}");
+    // programs, the setup sheet, the verification's JSON, text and two
+    // pictures; the report page.
+    assert_eq!(fa.len(), 17, "{fa:?}");
+    assert_eq!(fb.len(), 17, "{fb:?}");
     for (x, y) in fa.iter().zip(&fb) {
+        assert_eq!(x.file_name(), y.file_name());
         assert_eq!(
             std::fs::read(x).unwrap(),
             std::fs::read(y).unwrap(),
             "{} differs",
             x.display()
         );
+    }
+    // The page is self-contained: no scripts, nothing fetched from elsewhere.
+    let page = std::fs::read_to_string(a.path().join("out/saltgrass-fish-5-6/index.html")).unwrap();
+    assert!(page.contains("<p id=\"volume\""));
+    assert!(!page.contains("<script"));
+    for attr in ["src=\"http", "href=\"http", "url(http"] {
+        assert!(!page.contains(attr), "{attr}");
     }
 }
 
