@@ -26,7 +26,7 @@ fn demo_board() -> Board {
 
 /// The demo at a tolerance that gives about 20,000 triangles.
 static SMALL: LazyLock<Mesh> = LazyLock::new(|| {
-    let m = mesher::mesh_board(&demo_board(), 0.6).unwrap();
+    let m = mesher::mesh_board(&demo_board(), 0.1).unwrap();
     eprintln!("small mesh: {} triangles", m.triangles.len());
     m
 });
@@ -96,4 +96,45 @@ fn simulate_both_setups_demo(b: divan::Bencher) {
             .unwrap()
             .removed_volume_litres
     });
+}
+
+/// The points opencamlib dropped (`benches/opencamlib_side_by_side.sh`
+/// writes them, with its heights); skipped when the script has not run.
+#[divan::bench(sample_count = 5, sample_size = 1)]
+fn same_points_as_opencamlib(b: divan::Bencher) {
+    let (Ok(stl), Ok(csv)) = (
+        std::env::var("BLANKSMITH_OCL_STL"),
+        std::env::var("BLANKSMITH_OCL_CSV"),
+    ) else {
+        return;
+    };
+    let soup = blanksmith::stl::read_file(std::path::Path::new(&stl)).unwrap();
+    let mesh = blanksmith::inspect::inspect_soup(&soup, Some(0.0)).0.mesh;
+    let rows: Vec<[f64; 3]> = std::fs::read_to_string(csv)
+        .unwrap()
+        .lines()
+        .map(|l| {
+            let v: Vec<f64> = l.split(',').map(|s| s.parse().unwrap()).collect();
+            [v[0], v[1], v[2]]
+        })
+        .collect();
+    let pts: Vec<[f64; 2]> = rows.iter().map(|r| [r[0], r[1]]).collect();
+    let dc = DropCutter::new(&[&mesh], Cutter::ball(12.7));
+    let ours = dc.drop_many(&pts);
+    let mut worst: f64 = 0.0;
+    let mut both = 0;
+    for (r, z) in rows.iter().zip(&ours) {
+        if let Some(z) = z
+            && r[2] > -999.0
+        {
+            worst = worst.max((r[2] - z).abs());
+            both += 1;
+        }
+    }
+    eprintln!(
+        "blanksmith: {} positions, {both} on the mesh in both; largest height difference {worst:.2e} mm",
+        pts.len()
+    );
+    b.counter(divan::counter::ItemsCount::new(pts.len()))
+        .bench(|| dc.drop_many(black_box(&pts)).len());
 }

@@ -20,6 +20,8 @@ use crate::mesh::Mesh;
 
 #[derive(Debug, Clone, Copy)]
 struct Tri {
+    /// Plan bounding box: min x, min y, max x, max y.
+    bb: [f64; 4],
     p: [[f64; 3]; 3],
     /// Unit normal, made to point up (nz >= 0).
     n: [f64; 3],
@@ -70,7 +72,13 @@ impl DropCutter {
                     n = [-n[0], -n[1], -n[2]];
                 }
                 let zmax = p[0][2].max(p[1][2]).max(p[2][2]);
-                tris.push(Tri { p, n, zmax });
+                let bb = [
+                    p[0][0].min(p[1][0]).min(p[2][0]),
+                    p[0][1].min(p[1][1]).min(p[2][1]),
+                    p[0][0].max(p[1][0]).max(p[2][0]),
+                    p[0][1].max(p[1][1]).max(p[2][1]),
+                ];
+                tris.push(Tri { bb, p, n, zmax });
             }
         }
         let mut lo = [f64::INFINITY; 2];
@@ -174,6 +182,16 @@ impl DropCutter {
             if t.zmax <= best {
                 break;
             }
+            if !may_lift(
+                t,
+                x,
+                y,
+                self.cutter.radius,
+                self.cutter.kind == ToolKind::Ball,
+                best,
+            ) {
+                continue;
+            }
             let z = match self.cutter.kind {
                 ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius),
                 _ => flat_touch(t, x, y, self.cutter.radius),
@@ -200,6 +218,16 @@ impl DropCutter {
             if t.zmax <= best.0 {
                 break;
             }
+            if !may_lift(
+                t,
+                x,
+                y,
+                self.cutter.radius,
+                self.cutter.kind == ToolKind::Ball,
+                best.0,
+            ) {
+                continue;
+            }
             let z = match self.cutter.kind {
                 ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius),
                 _ => flat_touch(t, x, y, self.cutter.radius),
@@ -218,6 +246,21 @@ impl DropCutter {
             .flat_map_iter(|c| c.iter().map(|p| self.drop(p[0], p[1])))
             .collect()
     }
+}
+
+/// Whether triangle `t` can lift a cutter of radius `r` at (x, y) above
+/// `best`: its plan box within reach, and (for a ball) its top corner,
+/// lowered by how far the ball's surface rises at the box's distance, above
+/// `best`.
+#[inline]
+fn may_lift(t: &Tri, x: f64, y: f64, r: f64, ball: bool, best: f64) -> bool {
+    let dx = (t.bb[0] - x).max(x - t.bb[2]).max(0.0);
+    let dy = (t.bb[1] - y).max(y - t.bb[3]).max(0.0);
+    let d2 = dx * dx + dy * dy;
+    if d2 > r * r {
+        return false;
+    }
+    !ball || t.zmax - (r - (r * r - d2).sqrt()) > best
 }
 
 fn sub(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
