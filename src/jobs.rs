@@ -220,7 +220,7 @@ pub fn make(
     tolerance: f64,
     out: &Path,
     cut: &CutArgs,
-    progress: &dyn Fn(&str),
+    progress: &(dyn Fn(&str) + Sync),
 ) -> Result<Meshed, JobError> {
     let (machine, job) = cut_profiles(cut)?;
     let board = load(input)?;
@@ -403,7 +403,7 @@ pub fn cut_files(
     machine: &Machine,
     job: &Job,
     dir: &Path,
-    progress: &dyn Fn(&str),
+    progress: &(dyn Fn(&str) + Sync),
 ) -> Result<(CutPlan, Verification, Files), JobError> {
     let apex = match design {
         Design::Board(b) => Some(program::apex_line(b)),
@@ -447,7 +447,7 @@ pub fn cut(
     path: &Path,
     args: &CutArgs,
     dir: &Path,
-    progress: &dyn Fn(&str),
+    progress: &(dyn Fn(&str) + Sync),
 ) -> Result<(CutPlan, Vec<PathBuf>), JobError> {
     let design = load_design(path)?;
     let (machine, job) = cut_profiles(args)?;

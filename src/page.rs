@@ -154,9 +154,9 @@ pub fn board_page(p: &BoardPage) -> String {
         "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>{} — blanksmith</title><style>{STYLE}</style></head><body>\n",
         esc(&r.name)
     );
-    let _ = write!(
+    let _ = writeln!(
         s,
-        "<h1>{}</h1><p>{} long, {} wide ({} from the nose), {} thick, {} tail.</p>\n",
+        "<h1>{}</h1><p>{} long, {} wide ({} from the nose), {} thick, {} tail.</p>",
         esc(&r.name),
         Both(r.length_mm),
         Both(r.width_mm),
@@ -165,9 +165,9 @@ pub fn board_page(p: &BoardPage) -> String {
         esc(&r.tail)
     );
     let c = &r.certificate;
-    let _ = write!(
+    let _ = writeln!(
         s,
-        "<h2>Volume</h2><p id=\"volume\" style=\"font-size:1.6em\"><strong>{:.2} L</strong> <span class=\"{}\">{}</span></p>\n",
+        "<h2>Volume</h2><p id=\"volume\" style=\"font-size:1.6em\"><strong>{:.2} L</strong> <span class=\"{}\">{}</span></p>",
         r.volume_litres,
         if r.certified { "ok" } else { "bad" },
         if r.certified {
@@ -176,9 +176,9 @@ pub fn board_page(p: &BoardPage) -> String {
             "NOT certified"
         }
     );
-    let _ = write!(
+    let _ = writeln!(
         s,
-        "<table><tr><th class=\"l\">certificate</th><th>litres</th></tr><tr><td class=\"l\">(a) divergence theorem on the mesh ({} triangles)</td><td>{:.4}</td></tr><tr><td class=\"l\">(b) integral of the continuous shape's section areas</td><td>{:.4}</td></tr><tr><td class=\"l\">(c) error estimate of (a)</td><td>{:.4}</td></tr><tr><td class=\"l\">|a − b|</td><td>{:.4}</td></tr></table>\n",
+        "<table><tr><th class=\"l\">certificate</th><th>litres</th></tr><tr><td class=\"l\">(a) divergence theorem on the mesh ({} triangles)</td><td>{:.4}</td></tr><tr><td class=\"l\">(b) integral of the continuous shape's section areas</td><td>{:.4}</td></tr><tr><td class=\"l\">(c) error estimate of (a)</td><td>{:.4}</td></tr><tr><td class=\"l\">|a − b|</td><td>{:.4}</td></tr></table>",
         r.triangles,
         c.mesh_litres,
         c.surface_litres,
@@ -266,9 +266,9 @@ pub fn run_page(rows: &[Row], dir: &Path) -> String {
         let (t1, t2) = r.times.map_or(("—".into(), "—".into()), |t| {
             (program::duration(t[0]), program::duration(t[1]))
         });
-        let _ = write!(
+        let _ = writeln!(
             s,
-            "<tr><td class=\"l\">{link}</td><td>{l}</td><td>{t1}</td><td>{t2}</td><td class=\"l\">{}</td></tr>\n",
+            "<tr><td class=\"l\">{link}</td><td>{l}</td><td>{t1}</td><td>{t2}</td><td class=\"l\">{}</td></tr>",
             esc(&r.verdict)
         );
     }

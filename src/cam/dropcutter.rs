@@ -64,7 +64,7 @@ impl DropCutter {
                 let e2 = sub(p[2], p[0]);
                 let mut n = cross(e1, e2);
                 let len = norm(n);
-                if !(len > 0.0) {
+                if len.is_nan() || len <= 0.0 {
                     continue;
                 }
                 n = [n[0] / len, n[1] / len, n[2] / len];
@@ -193,7 +193,7 @@ impl DropCutter {
                 continue;
             }
             let z = match self.cutter.kind {
-                ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius),
+                ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius, best),
                 _ => flat_touch(t, x, y, self.cutter.radius),
             };
             if z > best {
@@ -229,7 +229,7 @@ impl DropCutter {
                 continue;
             }
             let z = match self.cutter.kind {
-                ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius),
+                ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius, best.0),
                 _ => flat_touch(t, x, y, self.cutter.radius),
             };
             if z > best.0 {
@@ -294,31 +294,37 @@ fn plane_z(t: &Tri, x: f64, y: f64) -> f64 {
 /// Faces steeper than this are left to their edges (no face contact from above).
 const MIN_NZ: f64 = 1e-9;
 
-/// Highest tip height of a ball of radius `r` centred over (x, y) touching `t`.
-fn ball_touch(t: &Tri, x: f64, y: f64, r: f64) -> f64 {
-    let mut best = f64::NEG_INFINITY;
+/// Highest tip height of a ball of radius `r` centred over (x, y) touching
+/// `t`, if above `floor` (else at most `floor`). Each contact's tip is no
+/// higher than its contact point, so an edge or vertex that does not rise
+/// above `floor` is skipped.
+fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
+    let mut best = floor;
     // Face: the centre sits r along the normal from the contact point.
     if t.n[2] > MIN_NZ {
         let qx = x - r * t.n[0];
         let qy = y - r * t.n[1];
         if inside_plan(t, qx, qy) {
-            best = plane_z(t, qx, qy) + r * t.n[2] - r;
+            best = best.max(plane_z(t, qx, qy) + r * t.n[2] - r);
         }
     }
     let r2 = r * r;
     for k in 0..3 {
         let p0 = t.p[k];
         let p1 = t.p[(k + 1) % 3];
+        if p0[2].max(p1[2]) <= best {
+            continue;
+        }
         // Vertex.
         let d2 = (x - p0[0]).powi(2) + (y - p0[1]).powi(2);
-        if d2 <= r2 {
+        if d2 <= r2 && p0[2] > best {
             best = best.max(p0[2] + (r2 - d2).sqrt() - r);
         }
         // Edge: the centre line x = (x, y, s) at distance r from the line
         // through p0, p1; keep the contact only within the segment.
         let u = sub(p1, p0);
         let len = norm(u);
-        if !(len > 0.0) {
+        if len.is_nan() || len <= 0.0 {
             continue;
         }
         let u = [u[0] / len, u[1] / len, u[2] / len];

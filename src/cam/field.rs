@@ -195,7 +195,11 @@ pub fn contours(field: &Field, level: f64) -> Vec<Line> {
     let point = |e: usize| -> [f64; 2] {
         let k = e / 2;
         let (i, j) = (k % nx, k / nx);
-        let (i2, j2) = if e % 2 == 0 { (i + 1, j) } else { (i, j + 1) };
+        let (i2, j2) = if e.is_multiple_of(2) {
+            (i + 1, j)
+        } else {
+            (i, j + 1)
+        };
         let (a, b) = (v(i, j), v(i2, j2));
         let t = if (b - a).abs() > 0.0 {
             ((level - a) / (b - a)).clamp(0.0, 1.0)

@@ -526,7 +526,8 @@ fn resolve(
         1.0,
         "the chord tolerance along a pass",
     )?;
-    for (name, spec) in [("outline", &outline_spec)] {
+    {
+        let (name, spec) = ("outline", &outline_spec);
         jr.forbid(
             &spec.scallop,
             &format!("{name}.scallop"),

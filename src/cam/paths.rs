@@ -136,7 +136,7 @@ pub fn setup_paths(
     job: &Job,
     side: Side,
     clearance: f64,
-    progress: &dyn Fn(&str),
+    progress: &(dyn Fn(&str) + Sync),
 ) -> SetupPaths {
     let guard = place.guard(side);
     let (lo, hi) = ([0.0, 0.0], [place.block.length, place.block.width]);
@@ -345,10 +345,11 @@ fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
     let p = steps
         .iter()
         .rev()
-        .find_map(|s| match s {
-            Step::Rapid(p) | Step::Plunge(p) | Step::Cut(p) => Some(*p),
-            Step::Arc { to, .. } => Some(*to),
+        .map(|s| match s {
+            Step::Rapid(p) | Step::Plunge(p) | Step::Cut(p) => *p,
+            Step::Arc { to, .. } => *to,
         })
+        .next()
         .unwrap_or([0.0; 3]);
     [p[0], p[1], z]
 }
@@ -814,7 +815,7 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
             }
         }
     }
-    if !(top > bottom) {
+    if top.is_nan() || bottom.is_nan() || top <= bottom {
         return (vec![], count);
     }
     // NaN nodes count as below every level so contours close round the band.

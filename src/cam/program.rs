@@ -64,27 +64,23 @@ pub fn plan(
     apex: Option<&[[f64; 3]]>,
     machine: &Machine,
     job: &Job,
-    progress: &dyn Fn(&str),
+    progress: &(dyn Fn(&str) + Sync),
 ) -> Result<CutPlan, CamError> {
     progress("placing the board");
     let placement = setup::place(board, apex, job)?;
     fits_machine(&placement, machine, job)?;
-    let mut setups = Vec::new();
-    for side in [Side::Deck, Side::Bottom] {
-        setups.push(paths::setup_paths(
-            &placement,
-            job,
-            side,
-            machine.clearance,
-            &|s| {
-                progress(&format!(
-                    "setup {} ({} up): {s}",
-                    side.number(),
-                    side.name()
-                ))
-            },
-        ));
-    }
+    // The two setups are independent: plan them side by side.
+    let one = |side: Side| {
+        paths::setup_paths(&placement, job, side, machine.clearance, &|s| {
+            progress(&format!(
+                "setup {} ({} up): {s}",
+                side.number(),
+                side.name()
+            ))
+        })
+    };
+    let (deck, bottom) = rayon::join(|| one(Side::Deck), || one(Side::Bottom));
+    let setups = vec![deck, bottom];
     let mut programs = Vec::new();
     for sp in &setups {
         // Group the paths by tool, in cutting order.

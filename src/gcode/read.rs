@@ -568,13 +568,12 @@ fn block(
             spindle: speed_word,
         });
     }
-    if tool_change || (st.next_tool.is_some() && st.tool.is_none()) {
-        if let Some(t) = st.next_tool {
-            if st.tool != Some(t) {
-                st.tool = Some(t);
-                sink(Event::ToolChange { line, tool: t });
-            }
-        }
+    if (tool_change || (st.next_tool.is_some() && st.tool.is_none()))
+        && let Some(t) = st.next_tool
+        && st.tool != Some(t)
+    {
+        st.tool = Some(t);
+        sink(Event::ToolChange { line, tool: t });
     }
     if dwell {
         let Some(p) = p_word else {

@@ -63,7 +63,7 @@ impl ZMap {
     ) -> Result<ZMap, String> {
         let nx = (size[0] / cell).round().max(1.0);
         let ny = (size[1] / cell).round().max(1.0);
-        if !(nx * ny <= MAX_CELLS as f64) {
+        if (nx * ny).is_nan() || nx * ny > MAX_CELLS as f64 {
             return Err(format!(
                 "a {:.0} x {:.0} mm block at {cell} mm cells needs {:.0} cells; the limit is {MAX_CELLS}",
                 size[0],
