@@ -67,6 +67,8 @@ struct Ctx<'a> {
     clear: f64,
     /// Distance from the part's plan silhouette (0 inside), 1 mm grid.
     outside: Field,
+    /// Distance inside the silhouette from its edge (0 outside), 1 mm grid.
+    inside: Field,
     /// The stock as the paths so far have left it (1 mm cells).
     stock: std::sync::RwLock<ZMap>,
 }
@@ -148,6 +150,8 @@ pub fn setup_paths(
         .map(|p| ray.drop(p[0], p[1]).is_some())
         .collect();
     let outside = field::distance_to(&grid, &inside);
+    let beyond: Vec<bool> = inside.iter().map(|b| !b).collect();
+    let inside = field::distance_to(&grid, &beyond);
     // Setup 1 never cuts through the block (it stops at the parting
     // surface), so each setup starts from a whole block.
     let b = &place.block;
@@ -160,6 +164,7 @@ pub fn setup_paths(
         guard,
         clear: safe_z(clearance),
         outside,
+        inside,
         stock: std::sync::RwLock::new(stock),
     };
     let mut paths = Vec::new();
@@ -763,6 +768,11 @@ fn link(
     *at = Some(run[run.len() - 1]);
 }
 
+/// How far in from the outline the Z-level passes look for steep rail
+/// (the rail band of a surfboard is well within it; common practice, no
+/// source).
+const RAIL_BAND: f64 = 60.0;
+
 /// Z-level passes where the surface is steeper than `theta`: contours of
 /// the drop-cutter height every `dz`, each point then dropped exactly.
 fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64; 3]>>, usize) {
@@ -772,10 +782,10 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
     let hi = [p.x_range[1] + r + 2.0, p.centre_y + p.half_width + r + 2.0];
     let grid = Field::new(lo, hi, 1.0, 0.0);
     let nodes = grid.nodes();
-    // Only near the rail: within 40 mm inside the outline and r + 1 outside.
+    // Only near the rail: within RAIL_BAND inside the outline and r + 1 outside.
     let inside_band: Vec<bool> = nodes
         .par_iter()
-        .map(|q| ctx.outside.at(*q) <= r + 1.0)
+        .map(|q| ctx.outside.at(*q) <= r + 1.0 && ctx.inside.at(*q) <= RAIL_BAND)
         .collect();
     let heights: Vec<f64> = nodes
         .par_iter()

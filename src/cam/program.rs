@@ -69,6 +69,7 @@ pub fn plan(
     progress("placing the board");
     let placement = setup::place(board, apex, job)?;
     fits_machine(&placement, machine, job)?;
+    within_limits(&placement, job)?;
     // The two setups are independent: plan them side by side.
     let one = |side: Side| {
         paths::setup_paths(&placement, job, side, machine.clearance, &|s| {
@@ -182,6 +183,41 @@ pub fn duration(s: f64) -> String {
     } else {
         format!("{m} min {sec:02} s")
     }
+}
+
+/// Most finishing cutter positions a side, and most square millimetres of
+/// block (the planner keeps a 1 mm height map of it): beyond these the run
+/// would take minutes and gigabytes.
+pub const MAX_POSITIONS: f64 = 40.0e6;
+/// See [`MAX_POSITIONS`].
+pub const MAX_BLOCK_AREA: f64 = 40.0e6;
+
+fn within_limits(p: &Placement, job: &Job) -> Result<(), CamError> {
+    let b = &p.block;
+    let area = b.length * b.width;
+    if area > MAX_BLOCK_AREA {
+        return Err(CamError::Limit(format!(
+            "the block is {:.1} m² in plan; the planner's limit is {:.0} m²",
+            area / 1e6,
+            MAX_BLOCK_AREA / 1e6
+        )));
+    }
+    let fin = &job.finishing;
+    let s = paths::scallop_stepover(fin.pass.tool.cutter.radius, fin.scallop)
+        * fin.steep_angle.to_radians().cos();
+    let along = 0.5f64.min(s / 2.0);
+    let r = fin.pass.tool.cutter.radius + 1.0;
+    let positions =
+        ((p.x_range[1] - p.x_range[0] + 2.0 * r) / along) * ((2.0 * (p.half_width + r)) / s);
+    if positions > MAX_POSITIONS {
+        return Err(CamError::Limit(format!(
+            "finishing at a {:.3} mm scallop needs about {:.0} million cutter positions a side; the limit is {:.0} million: raise finishing.scallop",
+            fin.scallop,
+            positions / 1e6,
+            MAX_POSITIONS / 1e6
+        )));
+    }
+    Ok(())
 }
 
 fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {

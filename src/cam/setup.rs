@@ -17,6 +17,9 @@ pub enum CamError {
     /// The board does not fit the stock or the machine.
     #[error("the board does not fit: {0}")]
     Fit(String),
+    /// The work would take unbounded time or memory.
+    #[error("over a limit: {0}")]
+    Limit(String),
     /// A safety gate refused the program.
     #[error("refused: {0}")]
     Refused(String),
