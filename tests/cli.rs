@@ -604,6 +604,11 @@ const BAD_PROFILES: &[(&str, &str, &str)] = &[
         "must be `auto`",
     ),
     (
+        "job/scallop-too-fine.yaml",
+        "scallop-too-fine.yaml on",
+        "about 76 million cutter positions a side; the limit is 40 million",
+    ),
+    (
         "job/spindle-beyond-machine.yaml",
         ":3:12: roughing.spindle",
         "between 6000 and 24000",
