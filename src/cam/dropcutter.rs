@@ -23,6 +23,9 @@ struct Tri {
     /// Plan bounding box: min x, min y, max x, max y.
     bb: [f64; 4],
     p: [[f64; 3]; 3],
+    /// Each edge k (corner k to k + 1): unit direction, length, and
+    /// 1 − u_z², precomputed for the ball's edge test.
+    edges: [([f64; 3], f64, f64); 3],
     /// Unit normal, made to point up (nz >= 0).
     n: [f64; 3],
     zmax: f64,
@@ -78,7 +81,23 @@ impl DropCutter {
                     p[0][0].max(p[1][0]).max(p[2][0]),
                     p[0][1].max(p[1][1]).max(p[2][1]),
                 ];
-                tris.push(Tri { bb, p, n, zmax });
+                let edge = |k: usize| {
+                    let u = sub(p[(k + 1) % 3], p[k]);
+                    let len = norm(u);
+                    if len.is_nan() || len <= 0.0 {
+                        return ([0.0; 3], 0.0, 0.0);
+                    }
+                    let u = [u[0] / len, u[1] / len, u[2] / len];
+                    (u, len, 1.0 - u[2] * u[2])
+                };
+                let edges = [edge(0), edge(1), edge(2)];
+                tris.push(Tri {
+                    bb,
+                    p,
+                    edges,
+                    n,
+                    zmax,
+                });
             }
         }
         let mut lo = [f64::INFINITY; 2];
@@ -144,7 +163,8 @@ impl DropCutter {
         }
         for b in 0..nb {
             let s = &mut items[starts[b] as usize..starts[b + 1] as usize];
-            s.sort_by(|&a, &c| {
+            // A total order (height, then index): the unstable sort is deterministic.
+            s.sort_unstable_by(|&a, &c| {
                 tris[c as usize]
                     .zmax
                     .total_cmp(&tris[a as usize].zmax)
@@ -322,14 +342,8 @@ fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
         }
         // Edge: the centre line x = (x, y, s) at distance r from the line
         // through p0, p1; keep the contact only within the segment.
-        let u = sub(p1, p0);
-        let len = norm(u);
-        if len.is_nan() || len <= 0.0 {
-            continue;
-        }
-        let u = [u[0] / len, u[1] / len, u[2] / len];
-        let a = 1.0 - u[2] * u[2];
-        if a < 1e-12 {
+        let (u, len, a) = t.edges[k];
+        if len <= 0.0 || a < 1e-12 {
             continue;
         }
         let wx = x - p0[0];
@@ -352,6 +366,15 @@ fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
 
 /// Highest tip height of a flat end of radius `r` centred over (x, y) touching `t`.
 fn flat_touch(t: &Tri, x: f64, y: f64, r: f64) -> f64 {
+    if r == 0.0 {
+        // A vertical ray: only a face can be hit (edges and corners are
+        // hit only where a face is too).
+        return if t.n[2] > MIN_NZ && inside_plan(t, x, y) {
+            plane_z(t, x, y)
+        } else {
+            f64::NEG_INFINITY
+        };
+    }
     let mut best = f64::NEG_INFINITY;
     // Face: a plane is highest over the disc at the rim point up the slope.
     if t.n[2] > MIN_NZ {
