@@ -362,7 +362,7 @@ pub fn make_many(
         })
         .collect();
     let index = out.join("index.html");
-    let page = crate::page::run_page(&rows, out);
+    let page = crate::page::run_page(&rows);
     let written = output::write_atomic(&index, page.as_bytes())
         .map(|_| index.clone())
         .map_err(|source| JobError::Write {

@@ -2,7 +2,6 @@
 //! no scripts, no external fonts), and one listing every board of a run.
 
 use std::fmt::Write as _;
-use std::path::Path;
 
 use crate::cam::paths::Step;
 use crate::cam::program::{self, CutPlan};
@@ -251,8 +250,7 @@ pub struct Row {
 }
 
 /// The run's `index.html`: every board, linked to its page.
-pub fn run_page(rows: &[Row], dir: &Path) -> String {
-    let _ = dir;
+pub fn run_page(rows: &[Row]) -> String {
     let mut s = format!(
         "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>blanksmith run</title><style>{STYLE}</style></head><body><h1>Boards</h1><table><tr><th class=\"l\">board</th><th>litres</th><th>setup 1</th><th>setup 2</th><th class=\"l\">verdict</th></tr>\n"
     );

@@ -4,6 +4,7 @@
 pub mod dropcutter;
 pub mod field;
 pub mod job;
+pub mod limits;
 pub mod paths;
 pub mod profile;
 pub mod program;

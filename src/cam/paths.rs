@@ -54,11 +54,6 @@ pub struct SetupPaths {
     pub positions: usize,
 }
 
-/// Height of rapids: the clearance above the block's top face.
-pub fn safe_z(clearance: f64) -> f64 {
-    clearance
-}
-
 struct Ctx<'a> {
     place: &'a Placement,
     job: &'a Job,
@@ -162,7 +157,7 @@ pub fn setup_paths(
         job,
         side,
         guard,
-        clear: safe_z(clearance),
+        clear: clearance,
         outside,
         inside,
         stock: std::sync::RwLock::new(stock),
@@ -305,9 +300,7 @@ fn roughing(ctx: &Ctx) -> Toolpath {
             .zip(&in_band)
             .map(|(h, b)| *h > level + 1e-9 || !b)
             .collect();
-        let part_blocked: Vec<bool> = high.iter().map(|h| *h > level + 1e-9).collect();
         let dist = field::distance_to(&grid, &blocked);
-        let dpart = field::distance_to(&grid, &part_blocked);
         let first = 1.5 * cell;
         let mut rings = Vec::new();
         let max_d = dist
@@ -328,13 +321,12 @@ fn roughing(ctx: &Ctx) -> Toolpath {
                 rings.push(orient(l, pass.climb));
             }
         }
-        let _ = &dpart;
         for ring in rings {
             if ring.points.len() < 2 {
                 continue;
             }
             let pts: Vec<[f64; 3]> = ring.points.iter().map(|p| [p[0], p[1], level]).collect();
-            entry(&mut steps, ctx, &pts, ring.closed, prev_z, level, &pass);
+            entry(&mut steps, ctx, &pts, ring.closed, prev_z, level);
         }
         prev_z = level;
     }
@@ -363,15 +355,7 @@ fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
 /// to 2 mm above the level cleared before, then a zig-zag ramp at 3° down
 /// to this level along the ring's first stretch (common practice for
 /// foam, no source), then the ring.
-fn entry(
-    steps: &mut Vec<Step>,
-    ctx: &Ctx,
-    pts: &[[f64; 3]],
-    closed: bool,
-    above: f64,
-    level: f64,
-    _pass: &Pass,
-) {
+fn entry(steps: &mut Vec<Step>, ctx: &Ctx, pts: &[[f64; 3]], closed: bool, above: f64, level: f64) {
     let start = pts[0];
     steps.push(Step::Rapid(last_xy(steps, ctx.clear)));
     steps.push(Step::Rapid([start[0], start[1], ctx.clear]));

@@ -5,6 +5,7 @@
 use std::io::BufReader;
 
 use super::job::Job;
+use super::limits::Bed;
 use super::paths::{self, SetupPaths, Step, Toolpath};
 use super::profile::{Machine, Tool, mm_text};
 use super::setup::{self, CamError, Placement, Side};
@@ -301,7 +302,6 @@ fn estimate(paths: &[&Toolpath], m: &Machine) -> (f64, f64) {
 /// the project's reader and checks every move and setting.
 pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec<String> {
     let b = &place.block;
-    let [tx, ty] = job.table_position;
     let mut problems: Vec<String> = Vec::new();
     let mut note = |s: String| {
         if problems.len() < 8 {
@@ -310,7 +310,11 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
     };
     let mut first_move = true;
     let mut spindle_started = false;
-    let lowest_ok = -b.thickness - m.spoilboard_allowance.min(job.pin_depth) - 1e-6;
+    let bed = Bed {
+        machine: m,
+        thickness: b.thickness,
+        table_position: job.table_position,
+    };
     let result = read::read(
         BufReader::new(p.text.as_bytes()),
         &p.file_name,
@@ -339,22 +343,8 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                     }
                 }
                 for q in [to] {
-                    let mach = [q[0] + tx, q[1] + ty, q[2] + b.thickness + m.table_top];
-                    for a in 0..3 {
-                        if mach[a] < -1e-6 || mach[a] > m.travel[a] + 1e-6 {
-                            note(format!(
-                                "line {line}: move to machine {} {:.3} mm is outside the travel 0..{:.1} mm",
-                                ["X", "Y", "Z"][a],
-                                mach[a],
-                                m.travel[a]
-                            ));
-                        }
-                    }
-                    if q[2] < lowest_ok {
-                        note(format!(
-                            "line {line}: Z {:.3} mm is below the table top (block bottom at Z {:.3} mm, spoilboard allowance {:.1} mm)",
-                            q[2], -b.thickness, m.spoilboard_allowance
-                        ));
+                    for why in bed.position(q) {
+                        note(format!("line {line}: {why}"));
                     }
                     if -q[2] > p.tool.reach + 1e-6 {
                         note(format!(
@@ -374,27 +364,12 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                             "line {line}: a feed move before the spindle start and dwell"
                         ));
                     }
-                    let d = [to[0] - from[0], to[1] - from[1], to[2] - from[2]];
-                    let len = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
-                    if feed > m.max_feed_xy + 1e-6 {
-                        note(format!(
-                            "line {line}: feed {feed:.0} mm/min is beyond the machine's {:.0} mm/min",
-                            m.max_feed_xy
-                        ));
-                    }
-                    if len > 0.0 && feed * d[2].abs() / len > m.max_feed_z + 1e-3 {
-                        note(format!(
-                            "line {line}: Z feed {:.0} mm/min is beyond the machine's {:.0} mm/min",
-                            feed * d[2].abs() / len,
-                            m.max_feed_z
-                        ));
+                    for why in bed.feed(from, to, feed) {
+                        note(format!("line {line}: {why}"));
                     }
                 }
-                if spindle > 0.0 && (spindle < m.spindle_min || spindle > m.spindle_max) {
-                    note(format!(
-                        "line {line}: spindle {spindle:.0} rpm is outside the machine's {:.0}..{:.0} rpm",
-                        m.spindle_min, m.spindle_max
-                    ));
+                if let Some(why) = bed.spindle(spindle) {
+                    note(format!("line {line}: {why}"));
                 }
             }
             Event::Dwell { .. } => spindle_started = true,
@@ -402,10 +377,11 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                 line,
                 spindle: Some(s),
                 ..
-            } if s > m.spindle_max || (s > 0.0 && s < m.spindle_min) => note(format!(
-                "line {line}: spindle {s:.0} rpm is outside the machine's {:.0}..{:.0} rpm",
-                m.spindle_min, m.spindle_max
-            )),
+            } => {
+                if let Some(why) = bed.spindle(s) {
+                    note(format!("line {line}: {why}"));
+                }
+            }
             _ => {}
         },
     );

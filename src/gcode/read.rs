@@ -320,7 +320,6 @@ fn strip_comments(text: &str, file: &str, line: usize) -> Result<Vec<Word>, Gcod
                 let column = col(i);
                 let letter = c.to_ascii_uppercase();
                 i += 1;
-                let start = i;
                 while i < chars.len() && (chars[i].1 == ' ' || chars[i].1 == '\t') {
                     i += 1;
                 }
@@ -347,7 +346,6 @@ fn strip_comments(text: &str, file: &str, line: usize) -> Result<Vec<Word>, Gcod
                         "write the number out in full, e.g. X1250.5",
                     ));
                 }
-                let _ = start;
                 let value: f64 = match s.parse() {
                     Ok(v) => v,
                     Err(_) => {
@@ -475,8 +473,7 @@ fn block(
             },
             'G' => match (code(w), (w.value * 10.0).round() as i64) {
                 (Some(c @ (0..=3)), _) => {
-                    if let Some((_, col)) = motion_here {
-                        let _ = col;
+                    if motion_here.is_some() {
                         return Err(err(
                             file,
                             line,
@@ -659,8 +656,7 @@ fn block(
             _ => {
                 let cw = kind == 2;
                 let centre = match (ij, r_word) {
-                    (_, Some(r)) if ij.iter().any(Option::is_some) => {
-                        let _ = r;
+                    (_, Some(_)) if ij.iter().any(Option::is_some) => {
                         return Err(err(
                             file,
                             line,

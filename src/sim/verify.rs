@@ -9,6 +9,7 @@ use std::io::BufRead;
 
 use crate::cam::dropcutter::DropCutter;
 use crate::cam::job::Block;
+use crate::cam::limits::Bed;
 use crate::cam::profile::{Cutter, Machine};
 use crate::cam::setup::{Side, flip_mesh};
 use crate::gcode::read::{self, Event, GcodeError, Motion, ReadOptions};
@@ -275,6 +276,11 @@ pub fn verify(
 ) -> Result<Verification, GcodeError> {
     let b = setting.block;
     let m = setting.machine;
+    let bed = Bed {
+        machine: m,
+        thickness: b.thickness,
+        table_position: setting.table_position,
+    };
     let mut map = ZMap::block(
         [0.0, 0.0],
         [b.length, b.width],
@@ -404,37 +410,10 @@ pub fn verify(
                 Event::Skipped { word, line } => {
                     report.skipped.push(format!("line {line}: {word}"))
                 }
-                Event::Setting {
-                    line,
-                    feed,
-                    spindle,
-                } => {
-                    if let Some(f) = feed
-                        && f > m.max_feed_xy + 1e-6
-                    {
-                        findings.push(
-                            Kind::Limit,
-                            line,
-                            format!(
-                                "feed {f:.0} mm/min is beyond the machine's {:.0} mm/min",
-                                m.max_feed_xy
-                            ),
-                            [at[0], at[1]],
-                        );
-                    }
-                    if let Some(s) = spindle
-                        && s > 0.0
-                        && (s < m.spindle_min || s > m.spindle_max)
-                    {
-                        findings.push(
-                            Kind::Limit,
-                            line,
-                            format!(
-                                "spindle {s:.0} rpm is outside the machine's {:.0}..{:.0} rpm",
-                                m.spindle_min, m.spindle_max
-                            ),
-                            [at[0], at[1]],
-                        );
+                // Feeds are checked on each move, with their Z part.
+                Event::Setting { line, spindle, .. } => {
+                    if let Some(why) = spindle.and_then(|s| bed.spindle(s)) {
+                        findings.push(Kind::Limit, line, why, [at[0], at[1]]);
                     }
                 }
                 Event::Move {
@@ -454,43 +433,13 @@ pub fn verify(
                         Motion::Rapid => (dxy / m.rapid_xy).max(d[2].abs() / m.rapid_z) * 60.0,
                         _ => len / feed.min(m.max_feed_xy).max(1e-9) * 60.0,
                     };
-                    if motion != Motion::Rapid
-                        && len > 0.0
-                        && feed * d[2].abs() / len > m.max_feed_z * 1.001
-                    {
-                        findings.push(
-                            Kind::Limit,
-                            line,
-                            format!(
-                                "Z feed {:.0} mm/min is beyond the machine's {:.0} mm/min",
-                                feed * d[2].abs() / len,
-                                m.max_feed_z
-                            ),
-                            [to[0], to[1]],
-                        );
-                    }
-                    let mach = [
-                        to[0] + setting.table_position[0],
-                        to[1] + setting.table_position[1],
-                        to[2] + b.thickness + m.table_top,
-                    ];
-                    for a in 0..3 {
-                        if mach[a] < -1e-6 || mach[a] > m.travel[a] + 1e-6 {
-                            findings.push(
-                                Kind::Envelope,
-                                line,
-                                format!(
-                                    "machine {} {:.3} mm is outside the travel 0..{:.1} mm",
-                                    ["X", "Y", "Z"][a],
-                                    mach[a],
-                                    m.travel[a]
-                                ),
-                                [to[0], to[1]],
-                            );
+                    if motion != Motion::Rapid {
+                        for why in bed.feed(from, to, feed) {
+                            findings.push(Kind::Limit, line, why, [to[0], to[1]]);
                         }
                     }
-                    if to[2] < -b.thickness - m.spoilboard_allowance - 1e-6 {
-                        findings.push(Kind::Envelope, line, format!("Z {:.3} mm is below the table top (the block's bottom is Z {:.3} mm)", to[2], -b.thickness), [to[0], to[1]]);
+                    for why in bed.position(to) {
+                        findings.push(Kind::Envelope, line, why, [to[0], to[1]]);
                     }
                     at = to;
                     let Some(c) = cutter else {
