@@ -231,6 +231,20 @@ impl SweptShape {
     fn lowest(&self, x: f64, y: f64) -> Option<f64> {
         let r = self.cutter.radius;
         let (px, py) = (x - self.a[0], y - self.a[1]);
+        if self.cutter.kind == ToolKind::Ball && self.d[2] != 0.0 {
+            // The capsule needs no parameter interval: reject by the plan
+            // distance to the move, then take its lower side.
+            let t = if self.dxy2 > 0.0 {
+                ((px * self.d[0] + py * self.d[1]) / self.dxy2).clamp(0.0, 1.0)
+            } else {
+                0.0
+            };
+            let (ex, ey) = (px - t * self.d[0], py - t * self.d[1]);
+            if ex * ex + ey * ey > r * r {
+                return None;
+            }
+            return Some(self.ball_lowest(x, y));
+        }
         // Parameter interval over which the axis is within r of (x, y).
         let (t0, t1) = if self.dxy2 > 0.0 {
             let b = -(px * self.d[0] + py * self.d[1]);
