@@ -115,7 +115,9 @@ impl DropCutter {
         let origin = [lo[0] - r, lo[1] - r];
         let span = [hi[0] - lo[0] + 2.0 * r, hi[1] - lo[1] + 2.0 * r];
         // About 4 buckets per tool diameter, at most ~4 M buckets.
-        let mut cell = (r / 2.0).max(0.25);
+        // (at least 1.5 mm, about a board mesh's triangle: finer buckets only
+        // repeat each triangle in more of them).
+        let mut cell = (r / 2.0).max(1.5);
         while (span[0] / cell) * (span[1] / cell) > 4.0e6 {
             cell *= 1.5;
         }
