@@ -17,6 +17,10 @@ struct Case {
 }
 
 fn case(file: &str) -> Case {
+    case_on(file, profile::generic_machine())
+}
+
+fn case_on(file: &str, machine: Machine) -> Case {
     let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
         .join("fixtures")
         .join(file);
@@ -25,7 +29,6 @@ fn case(file: &str) -> Case {
         panic!("a description")
     };
     let cert = blanksmith::certificate::certify(board, 0.01).unwrap();
-    let machine = profile::generic_machine();
     let job = job::default_job(&machine).unwrap();
     let plan = program::plan(
         &board.name,
@@ -304,27 +307,42 @@ fn same_input_same_programs() {
     assert_eq!(a.plan.sheet, b.plan.sheet);
 }
 
-/// The project's own programs, simulated: no collision, no move outside
-/// the machine, no cut with the spindle off, no gouge beyond 0.05 mm, and
-/// the stock left mostly within the scallop target.
+/// The project's own programs for every fixture board, simulated: no
+/// collision, no move outside the machine, no cut with the spindle off, no
+/// gouge beyond 0.05 mm, and the stock left within the scallop target on
+/// 95 % of the surface. The rest is where a 12.7 mm ball cannot reach: the
+/// fish's notch apex (a concave corner in plan, about 1 mm left) and the
+/// squash corners (about 0.3 mm); the box, with no such corner, holds the
+/// target everywhere. The longboard is longer than the shipped machine, so
+/// it runs on the same machine with 4 m of X travel.
 #[test]
-fn own_programs_verify_clean() {
-    for c in [shortboard(), &case("fish.yaml")] {
+fn own_programs_verify_clean_for_every_fixture() {
+    let long_machine = profile::machine_from_str(
+        &profile::GENERIC_MACHINE.replace("travel: {x: 3000,", "travel: {x: 4000,"),
+        "long.yaml",
+    )
+    .unwrap();
+    let longboard = case_on("longboard.yaml", long_machine);
+    for (c, everywhere) in [
+        (shortboard(), false),
+        (&case("fish.yaml"), false),
+        (&case("check-box.yaml"), true),
+        (&longboard, false),
+    ] {
         let v = jobs::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
         assert!(!v.has_findings(), "{}", v.text());
         let g = v.gouge_max_mm.unwrap();
         assert!(g <= 0.05, "gouge {g}");
-        // 95 % of the surface within the scallop target (0.1 mm) plus the
-        // chord tolerance (0.02 mm): the cusps are sampled exactly at cell centres.
+        // Scallop target (0.1 mm) plus the chord tolerance (0.02 mm): the
+        // cusps are sampled exactly at cell centres, so no grid term.
+        let target = c.job.finishing.scallop + c.job.finishing.tolerance;
         let p95 = v.leftover_p95_mm.unwrap();
-        assert!(
-            p95 <= c.job.finishing.scallop + c.job.finishing.tolerance,
-            "p95 {p95}"
-        );
-        let litres = c.plan.placement.block.length
-            * c.plan.placement.block.width
-            * c.plan.placement.block.thickness
-            / 1e6;
+        assert!(p95 <= target, "p95 {p95}");
+        if everywhere {
+            assert!(v.leftover_max_mm.unwrap() <= target, "{}", v.text());
+        }
+        let b = &c.plan.placement.block;
+        let litres = b.length * b.width * b.thickness / 1e6;
         assert!(v.removed_volume_litres > 0.0 && v.removed_volume_litres < litres);
     }
 }

@@ -320,7 +320,7 @@ pub fn verify(
         if src.side == Side::Bottom && side == Side::Deck {
             side = Side::Bottom;
             top1 = Some(map.top.clone());
-            map = flipped(&map);
+            map = flipped(&map, b.thickness);
         }
         progress(&format!("simulating {}", src.name));
         let before = map.volume();
@@ -591,20 +591,20 @@ impl Findings<'_, '_> {
     }
 }
 
-/// The block after setup 1, turned over about X: each column's material
-/// now runs from -T - (its old top) up to the old bottom face at Z 0.
-fn flipped(map: &ZMap) -> ZMap {
+/// The block after setup 1, turned over about X through its middle
+/// ((x, y, z) → (x, W − y, −T − z)): each column's material [b, t] becomes
+/// [−T − t, −T − b]; a column cut away stays empty.
+fn flipped(map: &ZMap, thickness: f64) -> ZMap {
     let [nx, ny] = map.dims;
-    let thickness = -(map.bottom[0] as f64);
     let mut out = map.clone();
     for j in 0..ny {
         for i in 0..nx {
             let src = (ny - 1 - j) * nx + i;
             let k = j * nx + i;
-            let (t, b) = (map.top[src], map.bottom[src]);
+            let (t, b) = (map.top[src] as f64, map.bottom[src] as f64);
             if t > b {
-                out.bottom[k] = (-thickness - t as f64) as f32;
-                out.top[k] = 0.0;
+                out.bottom[k] = (-thickness - t) as f32;
+                out.top[k] = (-thickness - b) as f32;
             } else {
                 out.bottom[k] = 0.0;
                 out.top[k] = 0.0;
