@@ -138,3 +138,52 @@ fn same_points_as_opencamlib(b: divan::Bencher) {
     b.counter(divan::counter::ItemsCount::new(pts.len()))
         .bench(|| dc.drop_many(black_box(&pts)).len());
 }
+
+/// The templates of the demo on A4: outline, rocker and sections drawn,
+/// tiled and written as one PDF, in memory.
+#[divan::bench(sample_count = 10)]
+fn templates_demo_a4() -> usize {
+    use blanksmith::{template, tiling};
+    let board = demo_board();
+    let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
+    let side = template::side_of(&board);
+    let stations = [
+        board.tip_station,
+        board.length / 2.0,
+        board.length - board.tip_station,
+    ];
+    let drawings = [
+        template::outline(&side),
+        template::rocker(&side),
+        template::sections(&board.name, &c.mesh, &stations),
+    ];
+    let mut pages = vec![];
+    for d in &drawings {
+        pages.extend(tiling::tile(d, tiling::A4, &board.name));
+    }
+    tiling::to_pdf(&pages).len()
+        + drawings
+            .iter()
+            .map(|d| template::to_svg(d).len())
+            .sum::<usize>()
+}
+
+/// Both setups at a fine finish (0.05 mm scallop): about twice the positions.
+#[divan::bench(sample_count = 2, sample_size = 1)]
+fn both_setups_demo_fine_scallop() -> usize {
+    let board = demo_board();
+    let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
+    let m = profile::generic_machine();
+    let j = job::job_from_str("finishing:\n  scallop: 0.05\n", "fine.yaml", &m).unwrap();
+    let plan = program::plan(
+        &board.name,
+        28.0,
+        &c.mesh,
+        Some(&program::apex_line(&board)),
+        &m,
+        &j,
+        &|_| {},
+    )
+    .unwrap();
+    plan.programs.iter().map(|p| p.text.len()).sum()
+}

@@ -80,6 +80,16 @@ impl Writer {
         s
     }
 
+    /// A position as a reader of the text will see it: rounded as written,
+    /// back in mm.
+    fn as_read(&self, p: [f64; 3]) -> [f64; 3] {
+        let k = match self.unit {
+            Unit::Mm => 1.0,
+            Unit::In => 25.4,
+        };
+        p.map(|v| self.fmt(v).parse::<f64>().unwrap_or(v / k) * k)
+    }
+
     fn motion(
         &mut self,
         word: &'static str,
@@ -126,8 +136,10 @@ impl Writer {
         }
         line.push_str(&words.join(" "));
         if let Some(f) = feed {
-            // A steep move is slowed so its Z component stays within the machine's Z rate.
-            let d = [to[0] - self.at[0], to[1] - self.at[1], to[2] - self.at[2]];
+            // A steep move is slowed so its Z component stays within the
+            // machine's Z rate, measured on the rounded positions written.
+            let (a, b) = (self.as_read(self.at), self.as_read(to));
+            let d = [b[0] - a[0], b[1] - a[1], b[2] - a[2]];
             let len = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
             let f = if centre.is_none() && d[2].abs() > 0.0 {
                 f.min(0.99 * self.max_feed_z * len / d[2].abs())
@@ -233,4 +245,89 @@ pub fn program(
     w.raw("M5");
     w.raw("M30");
     w.out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::cam::job::Pass;
+    use crate::cam::profile::{Cutter, Tool};
+    use crate::gcode::read::{self, Event, Motion, ReadOptions};
+
+    /// Tiny steep moves (as refinement makes near an edge) keep their Z feed
+    /// within the machine's rate as the program is read back: the cap is
+    /// taken on the positions as rounded in the text.
+    #[test]
+    fn steep_tiny_moves_stay_within_the_z_rate_as_written() {
+        let tool = Tool {
+            id: 2,
+            cutter: Cutter::ball(12.7),
+            flute_length: 60.0,
+            reach: 160.0,
+            max_stepdown: 60.0,
+            label: String::new(),
+        };
+        let pass = Pass {
+            tool,
+            stepdown: 10.0,
+            stepover: 2.0,
+            leave: 0.0,
+            feed: 10_000.0,
+            plunge_feed: 2000.0,
+            spindle: 18_000.0,
+            climb: true,
+        };
+        let mut steps = vec![
+            Step::Rapid([10.0, 10.0, 25.0]),
+            Step::Plunge([10.0, 10.0, 0.0]),
+        ];
+        let mut p = [10.0, 10.0, 0.0];
+        for k in 0..400 {
+            // Steps of 0.0013 to 0.0041 mm across, 0.0007 to 0.03 mm down.
+            p = [
+                p[0] + 0.0013 + 0.0028 * ((k * 7) % 11) as f64 / 10.0,
+                p[1],
+                p[2] - 0.0007 - 0.03 * ((k * 3) % 5) as f64 / 4.0,
+            ];
+            steps.push(Step::Cut(p));
+        }
+        let path = Toolpath {
+            label: "finishing",
+            pass,
+            steps,
+        };
+        for unit in [Unit::Mm, Unit::In] {
+            let text = program(
+                &Header {
+                    lines: vec![],
+                    cautions: vec![],
+                },
+                &[&path],
+                unit,
+                25.0,
+                5.0,
+                false,
+                5000.0,
+            );
+            let mut worst: f64 = 0.0;
+            read::read(text.as_bytes(), "t.nc", ReadOptions::default(), |e| {
+                if let Event::Move {
+                    motion: Motion::Linear,
+                    from,
+                    to,
+                    feed,
+                    ..
+                } = e
+                {
+                    let d = [to[0] - from[0], to[1] - from[1], to[2] - from[2]];
+                    let len = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
+                    if len > 0.0 {
+                        worst = worst.max(feed * d[2].abs() / len);
+                    }
+                }
+            })
+            .unwrap();
+            assert!(worst <= 5000.0, "{unit:?}: Z feed {worst}");
+        }
+    }
 }
