@@ -56,12 +56,12 @@ fn drop_cutter_ball_12_7_on_20k_triangles(b: divan::Bencher) {
         .bench(|| dc.drop_many(black_box(grid)).len());
 }
 
-#[divan::bench(sample_count = 3, sample_size = 1)]
-fn both_setups_demo_default_job() -> usize {
+/// The demo's programs for a job given as YAML text, with its machine and job.
+fn demo_plan(job_text: &str) -> (program::CutPlan, profile::Machine, job::Job) {
     let board = demo_board();
     let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
     let m = profile::generic_machine();
-    let j = job::default_job(&m).unwrap();
+    let j = job::job_from_str(job_text, "bench.yaml", &m).unwrap();
     let plan = program::plan(
         &board.name,
         28.0,
@@ -72,25 +72,18 @@ fn both_setups_demo_default_job() -> usize {
         &|_| {},
     )
     .unwrap();
+    (plan, m, j)
+}
+
+#[divan::bench(sample_count = 3, sample_size = 1)]
+fn both_setups_demo_default_job() -> usize {
+    let (plan, _, _) = demo_plan("{}");
     plan.programs.iter().map(|p| p.text.len()).sum()
 }
 
 #[divan::bench(sample_count = 3, sample_size = 1)]
 fn simulate_both_setups_demo(b: divan::Bencher) {
-    let board = demo_board();
-    let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
-    let m = profile::generic_machine();
-    let j = job::default_job(&m).unwrap();
-    let plan = program::plan(
-        &board.name,
-        28.0,
-        &c.mesh,
-        Some(&program::apex_line(&board)),
-        &m,
-        &j,
-        &|_| {},
-    )
-    .unwrap();
+    let (plan, m, j) = demo_plan("{}");
     b.bench(|| {
         jobs::verify_plan(&plan, &m, &j, &|_| {})
             .unwrap()
@@ -171,19 +164,6 @@ fn templates_demo_a4() -> usize {
 /// Both setups at a fine finish (0.05 mm scallop): about twice the positions.
 #[divan::bench(sample_count = 2, sample_size = 1)]
 fn both_setups_demo_fine_scallop() -> usize {
-    let board = demo_board();
-    let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
-    let m = profile::generic_machine();
-    let j = job::job_from_str("finishing:\n  scallop: 0.05\n", "fine.yaml", &m).unwrap();
-    let plan = program::plan(
-        &board.name,
-        28.0,
-        &c.mesh,
-        Some(&program::apex_line(&board)),
-        &m,
-        &j,
-        &|_| {},
-    )
-    .unwrap();
+    let (plan, _, _) = demo_plan("finishing:\n  scallop: 0.05\n");
     plan.programs.iter().map(|p| p.text.len()).sum()
 }

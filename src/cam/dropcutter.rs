@@ -270,6 +270,39 @@ impl DropCutter {
     }
 }
 
+/// Where the vertical line through a point, (wx, wy) in plan from a
+/// segment's start, crosses the cylinder of squared radius `r2` about the
+/// segment (unit direction `u`, length `len`, `a` = 1 − u_z²): the height
+/// above the start of the upper (`upper`) or lower crossing, if that
+/// crossing is beside the segment rather than beyond its ends. Shared by
+/// the drop-cutter (a ball on an edge) and the height map (the capsule a
+/// ball sweeps).
+pub fn cylinder_crossing(
+    wx: f64,
+    wy: f64,
+    u: [f64; 3],
+    len: f64,
+    a: f64,
+    r2: f64,
+    upper: bool,
+) -> Option<f64> {
+    let k0 = wx * u[0] + wy * u[1];
+    let bq = -2.0 * k0 * u[2];
+    let cq = wx * wx + wy * wy - k0 * k0 - r2;
+    let disc = bq * bq - 4.0 * a * cq;
+    if disc < 0.0 {
+        return None;
+    }
+    let root = disc.sqrt();
+    let s = if upper {
+        (-bq + root) / (2.0 * a)
+    } else {
+        (-bq - root) / (2.0 * a)
+    };
+    let along = k0 + s * u[2];
+    (0.0..=len).contains(&along).then_some(s)
+}
+
 /// Whether triangle `t` can lift a cutter of radius `r` at (x, y) above
 /// `best`: its plan box within reach, and (for a ball) its top corner,
 /// lowered by how far the ball's surface rises at the box's distance, above
@@ -348,18 +381,7 @@ fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
         if len <= 0.0 || a < 1e-12 {
             continue;
         }
-        let wx = x - p0[0];
-        let wy = y - p0[1];
-        let k0 = wx * u[0] + wy * u[1];
-        let bq = -2.0 * k0 * u[2];
-        let cq = wx * wx + wy * wy - k0 * k0 - r2;
-        let disc = bq * bq - 4.0 * a * cq;
-        if disc < 0.0 {
-            continue;
-        }
-        let s = (-bq + disc.sqrt()) / (2.0 * a);
-        let along = k0 + s * u[2];
-        if (0.0..=len).contains(&along) {
+        if let Some(s) = cylinder_crossing(x - p0[0], y - p0[1], u, len, a, r2, true) {
             best = best.max(p0[2] + s - r);
         }
     }

@@ -11,6 +11,7 @@
 
 use rayon::prelude::*;
 
+use crate::cam::dropcutter::cylinder_crossing;
 use crate::cam::profile::{Cutter, ToolKind};
 
 /// A straight move of one cutter, tip positions in mm.
@@ -330,20 +331,11 @@ impl SweptShape {
         }
         let u = self.u;
         let a = 1.0 - u[2] * u[2];
-        if self.len > 0.0 && a > 1e-12 {
-            let wx = x - c0[0];
-            let wy = y - c0[1];
-            let k0 = wx * u[0] + wy * u[1];
-            let bq = -2.0 * k0 * u[2];
-            let cq = wx * wx + wy * wy - k0 * k0 - r2;
-            let disc = bq * bq - 4.0 * a * cq;
-            if disc >= 0.0 {
-                let s = (-bq - disc.sqrt()) / (2.0 * a);
-                let along = k0 + s * u[2];
-                if (0.0..=self.len).contains(&along) {
-                    best = best.min(c0[2] + s);
-                }
-            }
+        if self.len > 0.0
+            && a > 1e-12
+            && let Some(s) = cylinder_crossing(x - c0[0], y - c0[1], u, self.len, a, r2, false)
+        {
+            best = best.min(c0[2] + s);
         }
         best
     }
