@@ -1101,7 +1101,7 @@ pub fn verify_plan(
         .collect();
     let setting = Setting {
         machine,
-        block: plan.placement.block,
+        block: plan.placement.block.clone(),
         table_position: job.table_position,
         default_tool: None,
         design: Some(&plan.placement.part),
@@ -1208,11 +1208,7 @@ pub fn parse_block(text: &str) -> Result<Block, JobError> {
             )));
         }
     }
-    Ok(Block {
-        length: v[0],
-        width: v[1],
-        thickness: v[2],
-    })
+    Ok(Block::flat(v[0], v[1], v[2]))
 }
 
 /// `verify`: simulates programs from anywhere; writes the report and
@@ -1265,8 +1261,8 @@ pub fn verify_programs(
                 let keep = tab_rectangles(&place, j);
                 (place.block, j.table_position, Some(place.part), keep)
             }
-            None => match j.stock {
-                Some(b) => (b, j.table_position, None, vec![]),
+            None => match &j.stock {
+                Some(b) => (b.clone(), j.table_position, None, vec![]),
                 None => {
                     return Err(JobError::Option(
                         "the job sizes its block from the board: give --design, or --stock LxWxT"

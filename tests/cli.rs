@@ -584,6 +584,31 @@ const BAD_PROFILES: &[(&str, &str, &str)] = &[
         "X travel is 3000.0 mm",
     ),
     (
+        "job/rocker-with-thickness.yaml",
+        ":6:14: stock.thickness",
+        "set by the rocker stations",
+    ),
+    (
+        "job/rocker-stations-backwards.yaml",
+        ":9:12: stock.rocker[2].at",
+        "stations must increase along the blank",
+    ),
+    (
+        "job/rocker-deck-below-bottom.yaml",
+        ":8:36: stock.rocker[1].deck",
+        "at least 10 mm thick",
+    ),
+    (
+        "job/rocker-short-of-the-ends.yaml",
+        ":7:5: stock.rocker",
+        "it must run from 0 to the blank's length",
+    ),
+    (
+        "job/rocker-too-little-room.yaml",
+        "rocker-too-little-room.yaml on",
+        "stands 4.1 mm (3/16\") out of the blank's curves",
+    ),
+    (
         "job/block-too-thin.yaml",
         "block-too-thin.yaml on",
         "46.1 mm (1 13/16\") short",

@@ -21,6 +21,11 @@ fn case(file: &str) -> Case {
 }
 
 fn case_on(file: &str, machine: Machine) -> Case {
+    let job = job::default_job(&machine).unwrap();
+    case_with(file, machine, job)
+}
+
+fn case_with(file: &str, machine: Machine, job: Job) -> Case {
     let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
         .join("fixtures")
         .join(file);
@@ -29,7 +34,6 @@ fn case_on(file: &str, machine: Machine) -> Case {
         panic!("a description")
     };
     let cert = blanksmith::certificate::certify(board, 0.01).unwrap();
-    let job = job::default_job(&machine).unwrap();
     let plan = program::plan(
         &board.name,
         cert.certificate.mesh_litres,
@@ -41,6 +45,21 @@ fn case_on(file: &str, machine: Machine) -> Case {
     )
     .unwrap();
     Case { plan, machine, job }
+}
+
+fn rockered() -> &'static Case {
+    static C: OnceLock<Case> = OnceLock::new();
+    C.get_or_init(|| {
+        let m = profile::generic_machine();
+        let j = job::load_job(&fixture("job-rockered-blank.yaml"), &m).unwrap();
+        case_with("shortboard.yaml", m, j)
+    })
+}
+
+fn fixture(name: &str) -> std::path::PathBuf {
+    std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("fixtures")
+        .join(name)
 }
 
 fn shortboard() -> &'static Case {
@@ -437,4 +456,114 @@ fn a_block_too_thin_is_refused_saying_by_how_much() {
         .unwrap_err()
         .to_string();
     assert!(e.contains("thickness") && e.contains("short"), "{e}");
+}
+
+/// The rockered blank's stations, as measured in the fixture (heights
+/// above the table, lowest bottom point at 0): at each station the curves
+/// are the measurements, so the board's points near a station must lie
+/// between the measured bottom and deck, each at least the skin inside.
+#[test]
+fn a_rockered_blank_holds_the_board_between_its_measured_curves() {
+    let c = rockered();
+    let b = &c.plan.placement.block;
+    let r = b.rocker.as_ref().expect("a rockered blank");
+    assert_eq!(r.stations.len(), 11);
+    // Fixture: highest deck 236 mm at the nose end, lowest bottom 0.
+    assert!((b.thickness - 236.0).abs() < 1e-9);
+    let skin = c.job.skin;
+    let mut near = 0;
+    for st in &r.stations {
+        for v in &c.plan.placement.part.vertices {
+            if (v[0] - st[0]).abs() > 0.5 {
+                continue;
+            }
+            near += 1;
+            // Setup-1 Z: table height minus the box's height.
+            let (deck, bottom) = (st[2] - b.thickness, st[1] - b.thickness);
+            assert!(
+                v[2] <= deck - skin + 0.05,
+                "over the deck at X {}: {v:?}",
+                st[0]
+            );
+            assert!(
+                v[2] >= bottom + skin - 0.05,
+                "under the bottom at X {}: {v:?}",
+                st[0]
+            );
+        }
+    }
+    assert!(near > 100, "{near}");
+    // The reported least foam over and under is the same as found on
+    // every point with the curves.
+    let (mut over, mut under) = (f64::INFINITY, f64::INFINITY);
+    for v in &c.plan.placement.part.vertices {
+        let (d, u) = b.deck_bottom_z(v[0]);
+        over = over.min(d - v[2]);
+        under = under.min(v[2] - u);
+    }
+    let m = &c.plan.placement.margins;
+    assert!((m.top.0 - over).abs() < 1e-9 && (m.bottom.0 - under).abs() < 1e-9);
+    assert!(over >= skin && under >= skin);
+}
+
+/// Programs for a rockered blank simulate clean on that blank, and the
+/// roughing does not run its upper levels through the air over the
+/// blank's low middle.
+#[test]
+fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
+    let c = rockered();
+    let v = jobs::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
+    assert!(!v.has_findings(), "{}", v.text());
+    assert!(v.gouge_max_mm.unwrap() <= 0.05);
+    let target = c.job.finishing.scallop + c.job.finishing.tolerance;
+    assert!(v.leftover_p95_mm.unwrap() <= target, "{}", v.text());
+    let b = &c.plan.placement.block;
+    for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
+        let rough = c.plan.setups[k]
+            .paths
+            .iter()
+            .find(|p| p.label == "roughing")
+            .unwrap();
+        let r = rough.pass.tool.cutter.radius;
+        let top = |x: f64| {
+            [x - r, x, x + r]
+                .iter()
+                .map(|&x| b.top_under(side == Side::Deck, x).0 + b.allowance())
+                .fold(f64::NEG_INFINITY, f64::max)
+        };
+        let mut at = [0.0, 0.0, 25.0];
+        let (mut level_moves, mut in_air) = (0, 0);
+        for s in &rough.steps {
+            if let Step::Cut(p) = *s {
+                // A move along a level (not the ramps, not the zero-length
+                // step onto a piece's first point).
+                if p[2] == at[2] && p != at {
+                    level_moves += 1;
+                    if top(at[0]) < p[2] && top(p[0]) < p[2] {
+                        in_air += 1;
+                    }
+                }
+                at = p;
+            } else if let Step::Rapid(p) | Step::Plunge(p) = *s {
+                at = p;
+            }
+        }
+        assert!(level_moves > 1000, "{level_moves}");
+        assert_eq!(
+            in_air,
+            0,
+            "setup {}: level moves wholly above the blank",
+            k + 1
+        );
+    }
+}
+
+#[test]
+fn a_rockered_blank_too_thin_is_refused_saying_by_how_much() {
+    let m = profile::generic_machine();
+    let j = job::load_job(&fixture("bad/job/rocker-too-little-room.yaml"), &m).unwrap();
+    let e = setup::place(&shortboard().plan.placement.part, None, &j)
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("rocker:") && e.contains("short"), "{e}");
 }

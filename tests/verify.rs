@@ -52,11 +52,7 @@ const HEAD: &str = "G21 G90 G17 G94\nG0 Z10\nS18000 M3\nG4 P2\n";
 const TAIL: &str = "G0 Z10\nM5\nM30\n";
 
 fn block() -> Block {
-    Block {
-        length: 300.0,
-        width: 200.0,
-        thickness: 50.0,
-    }
+    Block::flat(300.0, 200.0, 50.0)
 }
 
 #[test]

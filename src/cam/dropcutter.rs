@@ -31,11 +31,32 @@ struct Tri {
     zmax: f64,
 }
 
+/// What the search reads of every candidate before it looks at the
+/// triangle itself: the plan box and top corner, rounded outwards to `f32`
+/// (20 bytes, so a side's worth stays in cache; the exact test uses `Tri`).
+#[derive(Debug, Clone, Copy)]
+struct Bound {
+    bb: [f32; 4],
+    zmax: f32,
+}
+
+/// `v` rounded to an `f32` no greater (`down`) or no less than it.
+fn f32_toward(v: f64, down: bool) -> f32 {
+    let f = v as f32;
+    match (down, (f as f64).partial_cmp(&v)) {
+        (true, Some(std::cmp::Ordering::Greater)) => f.next_down(),
+        (false, Some(std::cmp::Ordering::Less)) => f.next_up(),
+        _ => f,
+    }
+}
+
 /// A mesh prepared for dropping one cutter.
 #[derive(Debug, Clone)]
 pub struct DropCutter {
     cutter: Cutter,
+    /// In the mesh's order, which keeps neighbours near in memory.
     tris: Vec<Tri>,
+    bounds: Vec<Bound>,
     origin: [f64; 2],
     cell: f64,
     dims: [usize; 2],
@@ -100,6 +121,28 @@ impl DropCutter {
                 });
             }
         }
+        // Buckets filled highest first (a total order: height, then input
+        // order, so the unstable sort is deterministic) come out sorted by
+        // height without a sort of their own.
+        let mut order: Vec<u32> = (0..tris.len() as u32).collect();
+        order.sort_unstable_by(|&a, &c| {
+            tris[c as usize]
+                .zmax
+                .total_cmp(&tris[a as usize].zmax)
+                .then(a.cmp(&c))
+        });
+        let bounds: Vec<Bound> = tris
+            .iter()
+            .map(|t| Bound {
+                bb: [
+                    f32_toward(t.bb[0], true),
+                    f32_toward(t.bb[1], true),
+                    f32_toward(t.bb[2], false),
+                    f32_toward(t.bb[3], false),
+                ],
+                zmax: f32_toward(t.zmax, false),
+            })
+            .collect();
         let mut lo = [f64::INFINITY; 2];
         let mut hi = [f64::NEG_INFINITY; 2];
         for t in &tris {
@@ -153,29 +196,20 @@ impl DropCutter {
         let starts = counts.clone();
         let mut fill = counts;
         let mut items = vec![0u32; starts[nb] as usize];
-        for (ti, t) in tris.iter().enumerate() {
-            let (i0, i1, j0, j1) = bucket_range(t);
+        for &ti in &order {
+            let (i0, i1, j0, j1) = bucket_range(&tris[ti as usize]);
             for j in j0..=j1 {
                 for i in i0..=i1 {
                     let b = j * dims[0] + i;
-                    items[fill[b] as usize] = ti as u32;
+                    items[fill[b] as usize] = ti;
                     fill[b] += 1;
                 }
             }
         }
-        for b in 0..nb {
-            let s = &mut items[starts[b] as usize..starts[b + 1] as usize];
-            // A total order (height, then index): the unstable sort is deterministic.
-            s.sort_unstable_by(|&a, &c| {
-                tris[c as usize]
-                    .zmax
-                    .total_cmp(&tris[a as usize].zmax)
-                    .then(a.cmp(&c))
-            });
-        }
         DropCutter {
             cutter,
             tris,
+            bounds,
             origin,
             cell,
             dims,
@@ -192,70 +226,43 @@ impl DropCutter {
     /// Tip height where the cutter at (x, y) first touches the mesh from
     /// above; `None` where no triangle is within reach.
     pub fn drop(&self, x: f64, y: f64) -> Option<f64> {
-        let i = ((x - self.origin[0]) / self.cell).floor();
-        let j = ((y - self.origin[1]) / self.cell).floor();
-        if !(i >= 0.0 && j >= 0.0) || i as usize >= self.dims[0] || j as usize >= self.dims[1] {
-            return None;
-        }
-        let b = j as usize * self.dims[0] + i as usize;
-        let mut best = f64::NEG_INFINITY;
-        for &ti in &self.items[self.starts[b] as usize..self.starts[b + 1] as usize] {
-            let t = &self.tris[ti as usize];
-            if t.zmax <= best {
-                break;
-            }
-            if !may_lift(
-                t,
-                x,
-                y,
-                self.cutter.radius,
-                self.cutter.kind == ToolKind::Ball,
-                best,
-            ) {
-                continue;
-            }
-            let z = match self.cutter.kind {
-                ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius, best),
-                _ => flat_touch(t, x, y, self.cutter.radius),
-            };
-            if z > best {
-                best = z;
-            }
-        }
-        (best > f64::NEG_INFINITY).then_some(best)
+        self.touch(x, y).map(|(z, _)| z)
     }
 
     /// Like [`drop`](Self::drop), with the unit normal (up) of the
     /// triangle touched.
     pub fn drop_contact(&self, x: f64, y: f64) -> Option<(f64, [f64; 3])> {
+        self.touch(x, y).map(|(z, t)| (z, self.tris[t].n))
+    }
+
+    /// The highest touch at (x, y) and the triangle touched.
+    #[inline]
+    fn touch(&self, x: f64, y: f64) -> Option<(f64, usize)> {
         let i = ((x - self.origin[0]) / self.cell).floor();
         let j = ((y - self.origin[1]) / self.cell).floor();
         if !(i >= 0.0 && j >= 0.0) || i as usize >= self.dims[0] || j as usize >= self.dims[1] {
             return None;
         }
         let b = j as usize * self.dims[0] + i as usize;
-        let mut best = (f64::NEG_INFINITY, [0.0, 0.0, 1.0]);
+        let r = self.cutter.radius;
+        let ball = self.cutter.kind == ToolKind::Ball;
+        let mut best = (f64::NEG_INFINITY, 0);
         for &ti in &self.items[self.starts[b] as usize..self.starts[b + 1] as usize] {
-            let t = &self.tris[ti as usize];
-            if t.zmax <= best.0 {
+            let bound = &self.bounds[ti as usize];
+            if bound.zmax as f64 <= best.0 {
                 break;
             }
-            if !may_lift(
-                t,
-                x,
-                y,
-                self.cutter.radius,
-                self.cutter.kind == ToolKind::Ball,
-                best.0,
-            ) {
+            if !may_lift(bound, x, y, r, ball, best.0) {
                 continue;
             }
-            let z = match self.cutter.kind {
-                ToolKind::Ball => ball_touch(t, x, y, self.cutter.radius, best.0),
-                _ => flat_touch(t, x, y, self.cutter.radius),
+            let t = &self.tris[ti as usize];
+            let z = if ball {
+                ball_touch(t, x, y, r, best.0)
+            } else {
+                flat_touch(t, x, y, r)
             };
             if z > best.0 {
-                best = (z, t.n);
+                best = (z, ti as usize);
             }
         }
         (best.0 > f64::NEG_INFINITY).then_some(best)
@@ -308,14 +315,15 @@ pub fn cylinder_crossing(
 /// lowered by how far the ball's surface rises at the box's distance, above
 /// `best`.
 #[inline]
-fn may_lift(t: &Tri, x: f64, y: f64, r: f64, ball: bool, best: f64) -> bool {
-    let dx = (t.bb[0] - x).max(x - t.bb[2]).max(0.0);
-    let dy = (t.bb[1] - y).max(y - t.bb[3]).max(0.0);
+fn may_lift(t: &Bound, x: f64, y: f64, r: f64, ball: bool, best: f64) -> bool {
+    let bb = t.bb.map(f64::from);
+    let dx = (bb[0] - x).max(x - bb[2]).max(0.0);
+    let dy = (bb[1] - y).max(y - bb[3]).max(0.0);
     let d2 = dx * dx + dy * dy;
     if d2 > r * r {
         return false;
     }
-    !ball || t.zmax - (r - (r * r - d2).sqrt()) > best
+    !ball || t.zmax as f64 - (r - (r * r - d2).sqrt()) > best
 }
 
 fn sub(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {

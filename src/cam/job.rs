@@ -10,19 +10,101 @@ use serde_saphyr::{Location, Spanned};
 use super::profile::{
     Cutter, FeedValue, Machine, Reader, StepoverValue, Tool, ToolKind, mm_text, read_text,
 };
+use crate::curve::Curve;
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::units::Unit;
 
-/// A flat foam block.
-#[derive(Debug, Clone, Copy, PartialEq)]
+/// The stock: a flat foam block, or a pre-rockered blank.
+#[derive(Debug, Clone, PartialEq)]
 pub struct Block {
     /// Along X.
     pub length: f64,
     /// Along Y.
     pub width: f64,
-    /// Along Z.
+    /// Along Z: for a rockered blank, from its lowest bottom point to its
+    /// highest deck point (the box it fits in).
     pub thickness: f64,
+    /// The curves of a pre-rockered blank; `None` for a flat block.
+    pub rocker: Option<BlankRocker>,
+}
+
+/// A pre-rockered blank's bottom and deck along its length, as heights
+/// above the flat table it lies on bottom down (the lowest bottom point at
+/// 0), through the measured stations (monotone cubic, as the board's own
+/// curves; see [`crate::curve`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct BlankRocker {
+    /// The stations as given: X from the blank's nose end, bottom, deck.
+    pub stations: Vec<[f64; 3]>,
+    bottom: Curve,
+    deck: Curve,
+    /// How far the real blank may stand proud of its curves; the programs
+    /// treat the stock as that much bigger wherever a rapid could meet it.
+    pub allowance: f64,
+}
+
+impl Block {
+    /// A flat block.
+    pub fn flat(length: f64, width: f64, thickness: f64) -> Block {
+        Block {
+            length,
+            width,
+            thickness,
+            rocker: None,
+        }
+    }
+
+    /// Setup-1 height (Z 0 at the highest deck point) of the stock's top
+    /// and underside at X: the top face and −thickness for a flat block.
+    pub fn deck_bottom_z(&self, x: f64) -> (f64, f64) {
+        match &self.rocker {
+            None => (0.0, -self.thickness),
+            Some(r) => {
+                let x = x.clamp(0.0, self.length);
+                (
+                    r.deck.eval(x) - self.thickness,
+                    r.bottom.eval(x) - self.thickness,
+                )
+            }
+        }
+    }
+
+    /// The stock's top at X as a side's setup sees it, and its underside
+    /// (the flip turns the bottom curve up).
+    pub fn top_under(&self, deck_up: bool, x: f64) -> (f64, f64) {
+        let (d, b) = self.deck_bottom_z(x);
+        if deck_up {
+            (d, b)
+        } else {
+            (-self.thickness - b, -self.thickness - d)
+        }
+    }
+
+    /// Where a side's Z0 is touched off: the X of the stock's highest
+    /// point in that setup (the deck's highest point, or after the flip
+    /// the bottom's lowest), sampled every millimetre; 0 for a flat block.
+    pub fn zero_x(&self, deck_up: bool) -> f64 {
+        if self.rocker.is_none() {
+            return 0.0;
+        }
+        let n = self.length.ceil() as usize;
+        let mut best = (f64::NEG_INFINITY, 0.0);
+        for k in 0..=n {
+            let x = (k as f64).min(self.length);
+            let top = self.top_under(deck_up, x).0;
+            if top > best.0 + 1e-9 {
+                best = (top, x);
+            }
+        }
+        best.1
+    }
+
+    /// How much bigger than its curves the stock is treated where rapids
+    /// are planned (0 for a flat block, whose faces are cut flat).
+    pub fn allowance(&self) -> f64 {
+        self.rocker.as_ref().map_or(0.0, |r| r.allowance)
+    }
 }
 
 /// How the board is tilted about Y inside the block.
@@ -106,6 +188,16 @@ struct BlockSpec {
     length: Option<Spanned<LengthValue>>,
     width: Option<Spanned<LengthValue>>,
     thickness: Option<Spanned<LengthValue>>,
+    rocker: Option<Spanned<Vec<Spanned<BlankStationSpec>>>>,
+    allowance: Option<Spanned<LengthValue>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct BlankStationSpec {
+    at: Spanned<LengthValue>,
+    bottom: Spanned<LengthValue>,
+    deck: Spanned<LengthValue>,
 }
 
 #[derive(Debug, Default, Deserialize)]
@@ -401,6 +493,155 @@ impl JobReader<'_> {
     }
 }
 
+/// A pre-rockered blank from its stations.
+fn rockered_blank(
+    r: &Reader,
+    b: &BlockSpec,
+    st: &Spanned<Vec<Spanned<BlankStationSpec>>>,
+    length: f64,
+    width: f64,
+) -> Result<Block, DescriptionError> {
+    if let Some(t) = &b.thickness {
+        return r.fail(
+            &t.referenced,
+            "stock.thickness",
+            "is set by the rocker stations of a rockered blank",
+            "leave it out: the blank's thickness at each station is deck - bottom",
+        );
+    }
+    let list = &st.value;
+    if list.len() < 2 {
+        return r.fail(
+            &st.referenced,
+            "stock.rocker",
+            format!(
+                "has {} station(s); a blank's curves need at least 2",
+                list.len()
+            ),
+            "give {at, bottom, deck} at both ends of the blank and every 300 mm or so between",
+        );
+    }
+    let mut stations: Vec<[f64; 3]> = Vec::new();
+    for (k, sp) in list.iter().enumerate() {
+        let v = &sp.value;
+        let field = |f: &str| format!("stock.rocker[{k}].{f}");
+        let at = v.at.value.0.to_mm(r.unit);
+        let bottom = v.bottom.value.0.to_mm(r.unit);
+        let deck = v.deck.value.0.to_mm(r.unit);
+        for (val, f, loc) in [
+            (at, "at", &v.at.referenced),
+            (bottom, "bottom", &v.bottom.referenced),
+            (deck, "deck", &v.deck.referenced),
+        ] {
+            if !(0.0..=20_000.0).contains(&val) {
+                return r.fail(
+                    loc,
+                    &field(f),
+                    format!("is {}; it must be from 0 to 20 m", mm_text(val)),
+                    "heights are above the table the blank lies on, bottom down; `at` is from the blank's nose end",
+                );
+            }
+        }
+        if let Some(prev) = stations.last()
+            && at <= prev[0]
+        {
+            return r.fail(
+                &v.at.referenced,
+                &field("at"),
+                format!(
+                    "is {}; stations must increase along the blank (the one before is at {})",
+                    mm_text(at),
+                    mm_text(prev[0])
+                ),
+                "list the stations from the nose end",
+            );
+        }
+        if deck < bottom + 10.0 {
+            return r.fail(
+                &v.deck.referenced,
+                &field("deck"),
+                format!(
+                    "is {} over a bottom of {}; the blank must be at least 10 mm thick",
+                    mm_text(deck),
+                    mm_text(bottom)
+                ),
+                "heights of the deck and the bottom above the table, at the same station",
+            );
+        }
+        stations.push([at, bottom, deck]);
+    }
+    let (first, last) = (stations[0][0], stations[stations.len() - 1][0]);
+    if first > 0.5 || (last - length).abs() > 0.5 {
+        return r.fail(
+            &st.referenced,
+            "stock.rocker",
+            format!(
+                "runs from {} to {}; it must run from 0 to the blank's length, {}",
+                mm_text(first),
+                mm_text(last),
+                mm_text(length)
+            ),
+            "measure the blank at both its ends",
+        );
+    }
+    let curve = |k: usize| {
+        Curve::new(&stations.iter().map(|s| (s[0], s[k])).collect::<Vec<_>>())
+            .expect("stations checked: finite and increasing")
+    };
+    let (bottom, deck) = (curve(1), curve(2));
+    // The box: from the lowest bottom point to the highest deck point,
+    // sampled every millimetre (the curves do not overshoot their stations).
+    let (mut lo, mut hi, mut thin) = (f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY);
+    let n = length.ceil() as usize;
+    for k in 0..=n {
+        let x = (k as f64).min(length);
+        let (b, d) = (bottom.eval(x), deck.eval(x));
+        lo = lo.min(b);
+        hi = hi.max(d);
+        thin = thin.min(d - b);
+    }
+    if thin < 10.0 {
+        return r.fail(
+            &st.referenced,
+            "stock.rocker",
+            format!(
+                "makes the blank {} thick between stations; it must be at least 10 mm",
+                mm_text(thin)
+            ),
+            "add stations where the curves come close",
+        );
+    }
+    let allowance = match &b.allowance {
+        None => 5.0,
+        Some(a) => r.length_or_zero(
+            a,
+            "stock.allowance",
+            0.0,
+            50.0,
+            "how far the real blank may stand proud of its measured curves, e.g. 5 mm",
+        )?,
+    };
+    // Heights from the lowest bottom point.
+    let shift = |c: &Curve| {
+        Curve::new(&c.stations().map(|(x, y)| (x, y - lo)).collect::<Vec<_>>())
+            .expect("same stations")
+    };
+    Ok(Block {
+        length,
+        width,
+        thickness: hi - lo,
+        rocker: Some(BlankRocker {
+            stations: stations
+                .iter()
+                .map(|s| [s[0], s[1] - lo, s[2] - lo])
+                .collect(),
+            bottom: shift(&bottom),
+            deck: shift(&deck),
+            allowance,
+        }),
+    })
+}
+
 fn resolve(
     raw: JobFile,
     text: &str,
@@ -426,11 +667,26 @@ fn resolve(
                     None => r.fail(&Location::UNKNOWN, &format!("stock.{name}"), "is missing", "give length, width and thickness, or leave out `stock:` to size the block from the board"),
                 }
             };
-            Some(Block {
-                length: need(&b.length, "length", 20_000.0)?,
-                width: need(&b.width, "width", 20_000.0)?,
-                thickness: need(&b.thickness, "thickness", 2000.0)?,
-            })
+            let length = need(&b.length, "length", 20_000.0)?;
+            let width = need(&b.width, "width", 20_000.0)?;
+            match &b.rocker {
+                None => {
+                    if let Some(a) = &b.allowance {
+                        return r.fail(
+                            &a.referenced,
+                            "stock.allowance",
+                            "is only for a rockered blank",
+                            "a flat block's faces are flat; leave it out, or give `rocker:` stations",
+                        );
+                    }
+                    Some(Block::flat(
+                        length,
+                        width,
+                        need(&b.thickness, "thickness", 2000.0)?,
+                    ))
+                }
+                Some(st) => Some(rockered_blank(r, b, st, length, width)?),
+            }
         }
     };
     let tp = raw.table_position.unwrap_or_default();

@@ -121,6 +121,13 @@ impl Ctx<'_> {
         top
     }
 
+    /// Top of the uncut stock at X in this setup, raised by the blank's
+    /// allowance (0 all along for a flat block).
+    fn stock_top_at(&self, x: f64) -> f64 {
+        let b = &self.place.block;
+        b.top_under(self.side == Side::Deck, x).0 + b.allowance()
+    }
+
     fn region(&self) -> ([f64; 2], [f64; 2]) {
         let b = &self.place.block;
         ([0.0, 0.0], [b.length, b.width])
@@ -150,7 +157,7 @@ pub fn setup_paths(
     // Setup 1 never cuts through the block (it stops at the parting
     // surface), so each setup starts from a whole block.
     let b = &place.block;
-    let stock = ZMap::block([0.0, 0.0], [b.length, b.width], -b.thickness, 0.0, 1.0)
+    let stock = ZMap::of_stock(b, side == Side::Deck, 1.0, b.allowance())
         .expect("a block within the machine fits a 1 mm map");
     let ctx = Ctx {
         place,
@@ -192,28 +199,31 @@ fn holes(ctx: &Ctx) -> Toolpath {
     let pass = job.roughing.clone();
     let r = pass.tool.cutter.radius;
     let helix = (job.hole_diameter / 2.0 - r).max(0.0);
-    let bottom = -ctx.place.block.thickness - job.pin_depth;
     let pitch = (pass.stepdown / 4.0).clamp(1.0, 5.0);
     let mut steps = Vec::new();
     for h in ctx.place.holes {
+        // From the stock's top there (a rockered blank's, with its
+        // allowance) through its underside and into what it rests on.
+        let top = ctx.stock_top_at(h[0]);
+        let bottom = ctx.place.block.top_under(true, h[0]).1 - job.pin_depth;
         steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
-        steps.push(Step::Rapid([h[0], h[1], 2.0]));
+        steps.push(Step::Rapid([h[0], h[1], top + 2.0]));
         if helix < 0.05 {
             // The hole is the tool's size: peck straight down.
-            let mut z = 0.0;
+            let mut z = top;
             while z > bottom {
                 z = (z - pitch).max(bottom);
                 steps.push(Step::Plunge([h[0], h[1], z]));
-                steps.push(Step::Rapid([h[0], h[1], 2.0]));
+                steps.push(Step::Rapid([h[0], h[1], top + 2.0]));
                 steps.push(Step::Rapid([h[0], h[1], z + 0.5]));
             }
             steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
             continue;
         }
-        let start = [h[0] + helix, h[1], 0.0];
-        steps.push(Step::Plunge([h[0], h[1], 0.0]));
+        let start = [h[0] + helix, h[1], top];
+        steps.push(Step::Plunge([h[0], h[1], top]));
         steps.push(Step::Cut(start));
-        let mut z = 0.0;
+        let mut z = top;
         while z > bottom {
             z = (z - pitch).max(bottom);
             steps.push(Step::Arc {
@@ -293,7 +303,7 @@ fn roughing(ctx: &Ctx) -> Toolpath {
         levels.push(lowest);
     }
     let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
-    let mut prev_z = 0.0;
+    let mut prev_z: f64 = 0.0;
     for &level in &levels {
         let blocked: Vec<bool> = high
             .iter()
@@ -326,7 +336,13 @@ fn roughing(ctx: &Ctx) -> Toolpath {
                 continue;
             }
             let pts: Vec<[f64; 3]> = ring.points.iter().map(|p| [p[0], p[1], level]).collect();
-            entry(&mut steps, ctx, &pts, ring.closed, prev_z, level);
+            for (piece, closed) in with_stock_above(ctx, pts, ring.closed, level, r) {
+                // Enter from the level above, or from above the stock
+                // where a rockered blank's top is lower than that.
+                let x = piece[0][0];
+                let above = prev_z.min(ctx.stock_top_at(x).max(level));
+                entry(&mut steps, ctx, &piece, closed, above, level);
+            }
         }
         prev_z = level;
     }
@@ -336,6 +352,63 @@ fn roughing(ctx: &Ctx) -> Toolpath {
         pass,
         steps,
     }
+}
+
+/// The parts of a ring at `level` that have stock above them within the
+/// tool's reach (the whole ring, as given, in a flat block; a rockered
+/// blank's top dips below the upper levels along its middle). A closed ring
+/// that is broken comes out as open pieces, each starting where the stock begins.
+fn with_stock_above(
+    ctx: &Ctx,
+    pts: Vec<[f64; 3]>,
+    closed: bool,
+    level: f64,
+    r: f64,
+) -> Vec<(Vec<[f64; 3]>, bool)> {
+    if ctx.place.block.rocker.is_none() {
+        return vec![(pts, closed)];
+    }
+    // Stock under any part of the tool: the blank's top is highest at one
+    // of the tool's two ends along X or in between it is monotone enough
+    // (the curves turn only at stations; checking three X is conservative
+    // with the allowance on top).
+    let cuts = |p: &[f64; 3]| {
+        [p[0] - r, p[0], p[0] + r]
+            .iter()
+            .any(|&x| ctx.stock_top_at(x) > level)
+    };
+    let keep: Vec<bool> = pts.iter().map(cuts).collect();
+    if keep.iter().all(|k| *k) {
+        return vec![(pts, closed)];
+    }
+    // Start a closed ring just after a gap so no piece wraps round.
+    let n = pts.len();
+    let start = if closed {
+        (0..n).find(|&k| !keep[k]).map_or(0, |k| k + 1) % n
+    } else {
+        0
+    };
+    let mut pieces = Vec::new();
+    let mut run: Vec<[f64; 3]> = Vec::new();
+    // A closed ring starts right after a gap, so one lap ends in the gap.
+    for s in 0..n {
+        let k = (start + s) % n;
+        if keep[k] {
+            if run.is_empty() && (s > 0 || closed) {
+                // Start one point before the stock's edge.
+                run.push(pts[(k + n - 1) % n]);
+            }
+            run.push(pts[k]);
+        } else if !run.is_empty() {
+            // And carry the cut one point past it.
+            run.push(pts[k]);
+            pieces.push((std::mem::take(&mut run), false));
+        }
+    }
+    if run.len() > 1 {
+        pieces.push((run, false));
+    }
+    pieces
 }
 
 fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
@@ -637,7 +710,12 @@ fn finishing(ctx: &Ctx) -> (Toolpath, usize) {
     let stepover = s * theta.cos();
     let dz = s * theta.sin();
     let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), cutter);
-    let along = (0.5f64).min(s / 2.0);
+    // Samples 1 mm apart: the ball's height along a pass bends no tighter
+    // than the ball (radius R over a sharp edge), so a chord sags at most
+    // L²/8R = 0.02 mm below it there for R = 6.35 mm (geometry: the
+    // sagitta), and `refine` probes every chord and splits it where the
+    // sag is more than half the tolerance.
+    let along = (1.0f64).min(s / 2.0);
     let reach = r + 1.0;
     let p = ctx.place;
     let (y0, y1) = (
@@ -825,11 +903,12 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
         levels.push(z);
         z -= dz;
     }
+    let ranges = field::Ranges::of(&filled);
     let runs: Vec<Vec<Vec<[f64; 3]>>> = levels
         .par_iter()
         .map(|&level| {
             let mut out = Vec::new();
-            for l in field::contours(&filled, level) {
+            for l in field::contours_in(&filled, &ranges, level) {
                 let pts = resample(&l.points, 0.5, l.closed);
                 let mut run: Vec<[f64; 3]> = Vec::new();
                 for q in pts {

@@ -119,8 +119,14 @@ pub fn plan(
                     format!("setup {} of 2: {} up{}", sp.side.number(), sp.side.name(), if sp.side == Side::Bottom { ", after the flip about X onto the registration pins" } else { "" }),
                     format!("cuts: {}", g.iter().map(|p| p.label).collect::<Vec<_>>().join(", ")),
                     format!("tool: {}", tools.join("; ")),
-                    "zero: X0 Y0 at the front-left corner of the block's top face, Z0 on the top face (touch off the tool tip)".to_string(),
-                    format!("stock: {} x {} x {} mm block (L x W x T), front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), job.table_position[0], job.table_position[1]),
+                    match b.rocker {
+                        None => "zero: X0 Y0 at the front-left corner of the block's top face, Z0 on the top face (touch off the tool tip)".to_string(),
+                        Some(_) => format!("zero: X0 at the blank's nose end, Y0 on its front side, Z0 on its highest point in this setup, at X{:.1} (touch off the tool tip)", b.zero_x(sp.side == Side::Deck)),
+                    },
+                    match b.rocker {
+                        None => format!("stock: {} x {} x {} mm block (L x W x T), front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), job.table_position[0], job.table_position[1]),
+                        Some(_) => format!("stock: {} x {} mm rockered blank, {} mm high overall, in a cradle cut to its {} curve, front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), if sp.side == Side::Deck { "bottom" } else { "deck" }, job.table_position[0], job.table_position[1]),
+                    },
                     format!("units: {}; estimated run time {}", unit_name(machine.output), duration(time_s)),
                 ],
                 cautions: CAUTIONS.iter().map(|s| s.to_string()).collect(),
@@ -346,10 +352,15 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                     for why in bed.position(q) {
                         note(format!("line {line}: {why}"));
                     }
-                    if -q[2] > p.tool.reach + 1e-6 {
+                    // Depth below the stock's top there (a rockered
+                    // blank's top, with its allowance, is below Z 0 along
+                    // its middle).
+                    let top = b.top_under(p.side == Side::Deck, q[0]).0 + b.allowance();
+                    if top - q[2] > p.tool.reach + 1e-6 {
                         note(format!(
-                            "line {line}: Z {:.3} mm is deeper below the block top than T{} reaches below its holder ({})",
+                            "line {line}: Z {:.3} mm is {:.3} mm below the stock top there, deeper than T{} reaches below its holder ({})",
                             q[2],
+                            top - q[2],
                             p.tool.id,
                             mm_text(p.tool.reach)
                         ));
@@ -439,34 +450,73 @@ pub fn setup_sheet(
         s.push_str(&format!("{step:>2}. {text}\n"));
     };
     s.push_str("\nSTEPS\n");
-    next(
-        format!(
-            "Fix the blank: the {} x {} x {} block flat on the spoilboard, its front-left corner at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot lift or slide (clamps outside the cut band, or vacuum).",
-            both(b.length),
-            both(b.width),
-            both(b.thickness),
-            job.table_position[0],
-            job.table_position[1]
-        ),
-        &mut s,
-    );
-    next("Set zero: X0 Y0 on the block's front-left corner, Z0 on its top face with each tool's tip. Check the tool length after every tool change.".into(), &mut s);
+    let rockered = b.rocker.is_some();
+    if rockered {
+        next(
+            format!(
+                "Fix the blank: the {} x {} rockered blank ({} high overall) bottom down in a cradle cut to its bottom curve (the job's stations), its lowest point on the spoilboard, its nose end and front side at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot lift, rock or slide (clamps outside the cut band).",
+                both(b.length),
+                both(b.width),
+                both(b.thickness),
+                job.table_position[0],
+                job.table_position[1]
+            ),
+            &mut s,
+        );
+        next(
+            format!(
+                "Set zero: X0 at the blank's nose end, Y0 on its front side, Z0 on the deck's highest point, at X {}, with each tool's tip. Check the tool length after every tool change.",
+                both(b.zero_x(true))
+            ),
+            &mut s,
+        );
+    } else {
+        next(
+            format!(
+                "Fix the blank: the {} x {} x {} block flat on the spoilboard, its front-left corner at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot lift or slide (clamps outside the cut band, or vacuum).",
+                both(b.length),
+                both(b.width),
+                both(b.thickness),
+                job.table_position[0],
+                job.table_position[1]
+            ),
+            &mut s,
+        );
+        next("Set zero: X0 Y0 on the block's front-left corner, Z0 on its top face with each tool's tip. Check the tool length after every tool change.".into(), &mut s);
+    }
     let mut flipped = false;
     for p in programs {
         if p.side == Side::Bottom && !flipped {
             flipped = true;
-            next(
-                format!(
-                    "Flip: lift the block off, turn it over about its long (X) axis, and set it back on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), through the block and {:.1} mm into the spoilboard. The front-left corner is again at the same machine X, Y. Pins must not stand above the block's top face.",
-                    h1[0], h2[0], h1[1], job.pin_depth
-                ),
-                &mut s,
-            );
-            next(
-                "Set Z0 again on the new top face (it was the bottom face); X0 Y0 are unchanged."
-                    .into(),
-                &mut s,
-            );
+            if rockered {
+                next(
+                    format!(
+                        "Flip: lift the blank off, turn it over about its long (X) axis, and set it deck down in a second cradle cut to its deck curve, on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), drilled through the blank and {:.1} mm into the first cradle: the second cradle's pin holes stand at the same machine X, Y. Pins must not stand above the blank.",
+                        h1[0], h2[0], h1[1], job.pin_depth
+                    ),
+                    &mut s,
+                );
+                next(
+                    format!(
+                        "Set Z0 again on the new highest point (the bottom's lowest point), at X {}; X0 Y0 are unchanged.",
+                        both(b.zero_x(false))
+                    ),
+                    &mut s,
+                );
+            } else {
+                next(
+                    format!(
+                        "Flip: lift the block off, turn it over about its long (X) axis, and set it back on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), through the block and {:.1} mm into the spoilboard. The front-left corner is again at the same machine X, Y. Pins must not stand above the block's top face.",
+                        h1[0], h2[0], h1[1], job.pin_depth
+                    ),
+                    &mut s,
+                );
+                next(
+                    "Set Z0 again on the new top face (it was the bottom face); X0 Y0 are unchanged."
+                        .into(),
+                    &mut s,
+                );
+            }
         }
         next(
             format!(

@@ -132,8 +132,16 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     };
     // Pitch: the tilt within ±8° that needs the least thickness (sampled
     // every 0.1°, then refined), kept only if it saves more than 1 mm.
+    let rockered = job
+        .stock
+        .as_ref()
+        .and_then(|b| b.rocker.as_ref().map(|_| b));
     let pitch = match job.pitch {
         Pitch::Degrees(d) => d,
+        Pitch::Auto if rockered.is_some() => {
+            let b = rockered.expect("checked");
+            blank_pitch(board, lo, hi, b)
+        }
         Pitch::Auto => {
             let hull: Vec<[f64; 3]> = board.vertices.clone();
             let mut best = (z_extent(&hull, 0.0), 0.0);
@@ -177,15 +185,15 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     let r_rough = job.roughing.tool.cutter.radius;
     let end_need = job.hole_gap + job.hole_diameter + 10.0;
     let side_need = job.frame + 2.0 * r_rough + 5.0;
-    let block = match job.stock {
-        Some(b) => b,
+    let block = match &job.stock {
+        Some(b) => b.clone(),
         None => {
             let up = |v: f64, step: f64| (v / step).ceil() * step;
-            Block {
-                length: up(size[0] + 2.0 * end_need, 10.0),
-                width: up(size[1] + 2.0 * side_need, 10.0),
-                thickness: up(size[2] + 2.0 * job.skin, 5.0),
-            }
+            Block::flat(
+                up(size[0] + 2.0 * end_need, 10.0),
+                up(size[1] + 2.0 * side_need, 10.0),
+                up(size[2] + 2.0 * job.skin, 5.0),
+            )
         }
     };
     let mut short = Vec::new();
@@ -213,7 +221,30 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
         .iter()
         .max_by(|a, b| a[2].total_cmp(&b[2]))
         .map_or(0.0, |v| v[0] - tlo[0]);
-    if block.thickness < need_t {
+    // A rockered blank: the room between its curves at each X, with the
+    // board centred along it and raised to balance the room over and under.
+    let blank_fit = rockered.map(|b| {
+        let sx = b.length / 2.0 - (tlo[0] + thi[0]) / 2.0;
+        vertical_room(&turned, sx, b)
+    });
+    if let Some(f) = &blank_fit
+        && f.margin < job.skin
+    {
+        let room = if f.margin >= 0.0 {
+            format!(
+                "leaves at most {} of foam over the deck and under the bottom",
+                both(f.margin)
+            )
+        } else {
+            format!("stands {} out of the blank's curves", both(-f.margin))
+        };
+        short.push(format!(
+            "rocker: tilted {pitch:.1}°, the board {room} at the tightest, {} from the blank's nose end; it needs {} skin ({} short)",
+            both(if f.over.0 < f.under.0 { f.over.1 } else { f.under.1 }),
+            mm_text(job.skin),
+            both(job.skin - f.margin)
+        ));
+    } else if blank_fit.is_none() && block.thickness < need_t {
         short.push(format!(
             "thickness: the block is {} thick, the board tilted {pitch:.1}° needs {} with {} skin ({} short), tightest {} from the nose",
             both(block.thickness),
@@ -229,7 +260,10 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     let shift = [
         block.length / 2.0 - (tlo[0] + thi[0]) / 2.0,
         block.width / 2.0 - (tlo[1] + thi[1]) / 2.0,
-        -block.thickness / 2.0 - (tlo[2] + thi[2]) / 2.0,
+        match &blank_fit {
+            Some(f) => f.lift,
+            None => -block.thickness / 2.0 - (tlo[2] + thi[2]) / 2.0,
+        },
     ];
     let part = Mesh {
         vertices: turned
@@ -282,12 +316,25 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     if parting.is_empty() {
         parting.push([x_range[0], -block.thickness / 2.0]);
     }
-    let top_margin = -(thi[2] + shift[2]);
-    let bottom_margin = tlo[2] + shift[2] + block.thickness;
-    let at_bottom = turned
-        .iter()
-        .min_by(|a, b| a[2].total_cmp(&b[2]))
-        .map_or(0.0, |v| v[0] + shift[0]);
+    let (top, bottom) = match &blank_fit {
+        Some(f) => (
+            (f.over.0 - f.lift, f.over.1 - x_range[0]),
+            (f.under.0 + f.lift, f.under.1 - x_range[0]),
+        ),
+        None => {
+            let at_bottom = turned
+                .iter()
+                .min_by(|a, b| a[2].total_cmp(&b[2]))
+                .map_or(0.0, |v| v[0] + shift[0]);
+            (
+                (
+                    -(thi[2] + shift[2]),
+                    at_top + tlo[0] + shift[0] - x_range[0],
+                ),
+                (tlo[2] + shift[2] + block.thickness, at_bottom - x_range[0]),
+            )
+        }
+    };
     let hr = job.hole_diameter / 2.0;
     let holes = [
         [x_range[0] - job.hole_gap - hr, centre_y],
@@ -308,6 +355,7 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
         tab(x_range[0] - reach, x_range[0] + 5.0, z_nose),
         tab(x_range[1] - 5.0, x_range[1] + reach, z_tail),
     ];
+    let tail = block.length - x_range[1];
     Ok(Placement {
         block,
         pitch,
@@ -319,13 +367,102 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
         holes,
         tabs,
         margins: Margins {
-            top: (top_margin, at_top + tlo[0] + shift[0] - x_range[0]),
-            bottom: (bottom_margin, at_bottom - x_range[0]),
+            top,
+            bottom,
             nose: x_range[0],
-            tail: block.length - x_range[1],
+            tail,
             side: centre_y - half_width,
         },
     })
+}
+
+/// Room for a board in a rockered blank.
+struct Room {
+    /// Least of (deck − point) over the board before lifting, and its X.
+    over: (f64, f64),
+    /// Least of (point − bottom) before lifting, and its X.
+    under: (f64, f64),
+    /// The lift that balances the two.
+    lift: f64,
+    /// The foam left over and under after the lift.
+    margin: f64,
+}
+
+/// The room between the blank's curves for `points` (centred, turned)
+/// moved `sx` along X: exact on the curves.
+fn vertical_room(points: &[[f64; 3]], sx: f64, b: &Block) -> Room {
+    let (mut over, mut under) = ((f64::INFINITY, 0.0), (f64::INFINITY, 0.0));
+    for v in points {
+        let x = v[0] + sx;
+        let (d, bt) = b.deck_bottom_z(x);
+        if d - v[2] < over.0 {
+            over = (d - v[2], x);
+        }
+        if v[2] - bt < under.0 {
+            under = (v[2] - bt, x);
+        }
+    }
+    let lift = (over.0 - under.0) / 2.0;
+    Room {
+        over,
+        under,
+        lift,
+        margin: (over.0 + under.0) / 2.0,
+    }
+}
+
+/// The tilt within ±8° (every 0.1°) that leaves the most foam over and
+/// under the board in a rockered blank; level unless a tilt gains more
+/// than 1 mm. The search reads the curves off a 1 mm table and takes at
+/// most 20,000 of the board's points.
+fn blank_pitch(board: &Mesh, lo: [f64; 3], hi: [f64; 3], b: &Block) -> f64 {
+    let centre = [
+        (lo[0] + hi[0]) / 2.0,
+        (lo[1] + hi[1]) / 2.0,
+        (lo[2] + hi[2]) / 2.0,
+    ];
+    let step = board.vertices.len().div_ceil(20_000).max(1);
+    let pts: Vec<[f64; 3]> = board
+        .vertices
+        .iter()
+        .step_by(step)
+        .map(|v| [v[0] - centre[0], v[1] - centre[1], v[2] - centre[2]])
+        .collect();
+    let n = b.length.ceil() as usize;
+    let table: Vec<(f64, f64)> = (0..=n).map(|k| b.deck_bottom_z(k as f64)).collect();
+    let at = |x: f64| {
+        let x = x.clamp(0.0, n as f64);
+        let k = (x.floor() as usize).min(n.saturating_sub(1));
+        let t = x - k as f64;
+        let (a, c) = (table[k], table[(k + 1).min(n)]);
+        (a.0 + t * (c.0 - a.0), a.1 + t * (c.1 - a.1))
+    };
+    let margin = |deg: f64| {
+        let turned: Vec<[f64; 3]> = pts.iter().map(|&v| rotate_y(v, deg)).collect();
+        let (mut x0, mut x1) = (f64::INFINITY, f64::NEG_INFINITY);
+        for v in &turned {
+            x0 = x0.min(v[0]);
+            x1 = x1.max(v[0]);
+        }
+        let sx = b.length / 2.0 - (x0 + x1) / 2.0;
+        let (mut over, mut under) = (f64::INFINITY, f64::INFINITY);
+        for v in &turned {
+            let (d, bt) = at(v[0] + sx);
+            over = over.min(d - v[2]);
+            under = under.min(v[2] - bt);
+        }
+        (over + under) / 2.0
+    };
+    let level = margin(0.0);
+    let mut best = (level, 0.0);
+    for k in -80..=80 {
+        let d = k as f64 * 0.1;
+        let m = margin(d);
+        if m > best.0 + 1e-9 {
+            best = (m, d);
+        }
+    }
+    if best.0 - level > 1.0 { best.1 } else { 0.0 }
 }
 
 impl Placement {
@@ -366,13 +503,24 @@ impl Placement {
     /// Text lines on the fit, for reports and the setup sheet.
     pub fn fit_lines(&self) -> Vec<String> {
         let m = &self.margins;
+        let b = &self.block;
         vec![
-            format!(
-                "block {} x {} x {} (L x W x T)",
-                both(self.block.length),
-                both(self.block.width),
-                both(self.block.thickness)
-            ),
+            match &b.rocker {
+                None => format!(
+                    "block {} x {} x {} (L x W x T)",
+                    both(b.length),
+                    both(b.width),
+                    both(b.thickness)
+                ),
+                Some(r) => format!(
+                    "rockered blank {} x {}, {} high overall, {} stations (allowance {})",
+                    both(b.length),
+                    both(b.width),
+                    both(b.thickness),
+                    r.stations.len(),
+                    mm_text(r.allowance)
+                ),
+            },
             format!("board tilted {:.1}° about Y to fit the rocker", self.pitch),
             format!(
                 "foam over the deck: at least {} ({} from the nose)",
@@ -406,11 +554,7 @@ mod tests {
     fn the_flip_maps_the_registration_holes_onto_themselves() {
         // A half turn about the X axis through the block's middle keeps any
         // point on the centreline's vertical plane at the same X and Y.
-        let block = Block {
-            length: 2000.0,
-            width: 600.0,
-            thickness: 150.0,
-        };
+        let block = Block::flat(2000.0, 600.0, 150.0);
         for x in [40.0, 1960.0] {
             let p = [x, 300.0, -37.0];
             let q = flip(p, &block);

@@ -28,16 +28,36 @@ pub const CAUTIONS: &[&str] = &[
     "CAUTION: run dust extraction and wear a respirator suited to foam dust; wear eye and ear protection",
 ];
 
+/// The value in the program's unit and its number of decimals.
+fn in_unit(mm: f64, unit: Unit) -> (f64, usize) {
+    match unit {
+        Unit::Mm => (mm, 3),
+        Unit::In => (mm / 25.4, 4),
+    }
+}
+
+/// `v` rounded to `digits` decimals as an integer count of the last
+/// decimal, when the rounding is not a near tie (so it agrees with the
+/// exact decimal rounding `{:.N}` does); `None` for the formatter to settle.
+fn scaled(v: f64, digits: usize) -> Option<(i64, u64)> {
+    let unit = 10u64.pow(digits as u32);
+    let s = v * unit as f64;
+    let frac = (s - s.trunc()).abs();
+    (s.abs() < 1e15 && (frac - 0.5).abs() > 1e-6).then(|| (s.round() as i64, unit))
+}
+
 /// How numbers are written: 3 decimals in mm, 4 in inches.
 fn num(out: &mut String, mm: f64, unit: Unit) {
-    let v = match unit {
-        Unit::Mm => mm,
-        Unit::In => mm / 25.4,
-    };
-    let digits = match unit {
-        Unit::Mm => 3,
-        Unit::In => 4,
-    };
+    let (v, digits) = in_unit(mm, unit);
+    if let Some((n, unit)) = scaled(v, digits) {
+        // Integer arithmetic: fast, and no "-0.000".
+        if n < 0 {
+            out.push('-');
+        }
+        let a = n.unsigned_abs();
+        let _ = write!(out, "{}.{:0digits$}", a / unit, a % unit);
+        return;
+    }
     let mut s = format!("{v:.digits$}");
     if s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.') {
         s.remove(0);
@@ -87,7 +107,14 @@ impl Writer {
             Unit::Mm => 1.0,
             Unit::In => 25.4,
         };
-        p.map(|v| self.fmt(v).parse::<f64>().unwrap_or(v / k) * k)
+        p.map(|v| {
+            let (u, digits) = in_unit(v, self.unit);
+            match scaled(u, digits) {
+                // The nearest double to the decimal, as parsing it gives.
+                Some((n, unit)) => n as f64 / unit as f64 * k,
+                None => self.fmt(v).parse::<f64>().unwrap_or(v / k) * k,
+            }
+        })
     }
 
     fn motion(
@@ -253,6 +280,48 @@ mod tests {
     use crate::cam::job::Pass;
     use crate::cam::profile::{Cutter, Tool};
     use crate::gcode::read::{self, Event, Motion, ReadOptions};
+
+    /// The integer formatting writes what the standard library's exact
+    /// decimal rounding (`{:.3}`, `{:.4}`) writes, near ties included.
+    #[test]
+    fn numbers_match_exact_decimal_rounding() {
+        let mut seed = 7u64;
+        let mut rnd = || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let mut values = vec![
+            0.0,
+            -0.0,
+            -0.0004,
+            0.0005,
+            0.0015,
+            2.0625,
+            -1.00049999,
+            99999.9995,
+        ];
+        for _ in 0..200_000 {
+            let v = (rnd() - 0.5) * 2.0 * 10f64.powf(rnd() * 5.0);
+            values.push(v);
+            // Values on and next to a tie at 3 decimals.
+            let t = (v * 1000.0).trunc() / 1000.0 + 0.0005;
+            values.extend([t, t.next_up(), t.next_down()]);
+        }
+        for v in values {
+            for unit in [Unit::Mm, Unit::In] {
+                let mut got = String::new();
+                num(&mut got, v, unit);
+                let (u, d) = in_unit(v, unit);
+                let mut want = format!("{u:.d$}");
+                if want.starts_with('-') && want[1..].chars().all(|c| c == '0' || c == '.') {
+                    want.remove(0);
+                }
+                assert_eq!(got, want, "{v:e}");
+            }
+        }
+    }
 
     /// Tiny steep moves (as refinement makes near an edge) keep their Z feed
     /// within the machine's rate as the program is read back: the cap is

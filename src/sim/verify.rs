@@ -274,21 +274,14 @@ pub fn verify(
     options: VerifyOptions,
     progress: &dyn Fn(&str),
 ) -> Result<Verification, GcodeError> {
-    let b = setting.block;
+    let b = &setting.block;
     let m = setting.machine;
     let bed = Bed {
         machine: m,
         thickness: b.thickness,
         table_position: setting.table_position,
     };
-    let mut map = ZMap::block(
-        [0.0, 0.0],
-        [b.length, b.width],
-        -b.thickness,
-        0.0,
-        options.cell,
-    )
-    .map_err(|e| GcodeError {
+    let mut map = ZMap::of_stock(b, true, options.cell, 0.0).map_err(|e| GcodeError {
         file: "(stock)".into(),
         line: 0,
         column: 0,
@@ -495,19 +488,12 @@ pub fn verify(
     v.removed_volume_litres = (start_volume - final_volume) / 1e6;
     if let Some(design) = setting.design {
         progress("measuring against the design");
-        let base = ZMap::block(
-            [0.0, 0.0],
-            [b.length, b.width],
-            -b.thickness,
-            0.0,
-            options.cell,
-        )
-        .expect("sized above");
+        let base = ZMap::of_stock(b, true, options.cell, 0.0).expect("sized above");
         let mut m1 = base.clone();
         m1.top = top1;
         let mut maps = vec![deviation(&m1, design, Side::Deck)];
         if let Some(m2) = &top2 {
-            maps.push(deviation(m2, &flip_mesh(design, &b), Side::Bottom));
+            maps.push(deviation(m2, &flip_mesh(design, b), Side::Bottom));
         }
         let mut all: Vec<f32> = Vec::new();
         let (mut gouge, mut left) = ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));

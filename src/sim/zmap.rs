@@ -12,6 +12,7 @@
 use rayon::prelude::*;
 
 use crate::cam::dropcutter::cylinder_crossing;
+use crate::cam::job::Block;
 use crate::cam::profile::{Cutter, ToolKind};
 
 /// A straight move of one cutter, tip positions in mm.
@@ -81,6 +82,33 @@ impl ZMap {
             top: vec![z1 as f32; n],
             bottom: vec![z0 as f32; n],
         })
+    }
+
+    /// The stock as a side's setup sees it (program zero on the top of its
+    /// box, front-left), its top raised by `grow`: a flat block's box, or
+    /// a rockered blank's columns between its curves at each cell's X.
+    pub fn of_stock(block: &Block, deck_up: bool, cell: f64, grow: f64) -> Result<ZMap, String> {
+        let mut map = ZMap::block(
+            [0.0, 0.0],
+            [block.length, block.width],
+            -block.thickness,
+            0.0,
+            cell,
+        )?;
+        let nx = map.dims[0];
+        let columns: Vec<(f32, f32)> = (0..nx)
+            .map(|i| {
+                let (top, under) = block.top_under(deck_up, map.centre(i, 0)[0]);
+                ((top + grow) as f32, under as f32)
+            })
+            .collect();
+        for (top, bottom) in map.top.chunks_mut(nx).zip(map.bottom.chunks_mut(nx)) {
+            for (i, &(t, u)) in columns.iter().enumerate() {
+                top[i] = t;
+                bottom[i] = u;
+            }
+        }
+        Ok(map)
     }
 
     /// Centre of cell (i, j).
