@@ -199,9 +199,19 @@ fn apply(
         return touch;
     }
     let sweep = SweptShape::new(m);
+    // A ball is no lower over a cell than its tip's lowest height plus its
+    // rise at the cell's plan distance from the move's box (the distance to
+    // the axis is no less): cells already below that are passed over
+    // without the exact test, with 1e-4 mm to spare for the f32 heights.
+    let ball = m.cutter.kind == ToolKind::Ball;
+    let (bx, by) = (
+        [a[0].min(b[0]), a[0].max(b[0])],
+        [a[1].min(b[1]), a[1].max(b[1])],
+    );
     for j in jj0..=jj1 {
         let y = origin[1] + (j as f64 + 0.5) * cell[1];
         let row = (j - j0) * nx;
+        let dy = (by[0] - y).max(y - by[1]).max(0.0);
         for i in i0..=i1 {
             let k = row + i;
             let h = top[k];
@@ -209,6 +219,17 @@ fn apply(
                 continue;
             }
             let x = origin[0] + (i as f64 + 0.5) * cell[0];
+            if ball {
+                let dx = (bx[0] - x).max(x - bx[1]).max(0.0);
+                let d2 = dx * dx + dy * dy;
+                if d2 > r * r {
+                    continue;
+                }
+                let rise = r - (r * r - d2).sqrt();
+                if (h as f64) <= zlow as f64 + rise - 1e-4 {
+                    continue;
+                }
+            }
             if let Some(z) = sweep.lowest(x, y) {
                 let z = z as f32;
                 if z < h {
