@@ -1106,6 +1106,7 @@ pub fn verify_plan(
         default_tool: None,
         design: Some(&plan.placement.part),
         keep: tab_rectangles(&plan.placement, job),
+        floor: Some((&plan.placement, job.overlap)),
     };
     verify::verify(sources, &setting, VerifyOptions::default(), progress).map_err(JobError::Gcode)
 }
@@ -1240,7 +1241,7 @@ pub fn verify_programs(
         None => None,
     };
     // The block, and where the design sits in it.
-    let (block, table_position, part, keep) = match (&args.stock, &job) {
+    let (block, table_position, part, keep, placed) = match (&args.stock, &job) {
         (Some(s), _) => {
             let block = parse_block(s)?;
             let part = match &design {
@@ -1248,7 +1249,7 @@ pub fn verify_programs(
                 None => None,
             };
             let at = job.as_ref().map_or([0.0, 0.0], |j| j.table_position);
-            (block, at, part, vec![])
+            (block, at, part, vec![], None)
         }
         (None, Some(j)) => match &design {
             Some(d) => {
@@ -1259,10 +1260,11 @@ pub fn verify_programs(
                 };
                 let place = crate::cam::setup::place(&mesh, apex.as_deref(), j)?;
                 let keep = tab_rectangles(&place, j);
-                (place.block, j.table_position, Some(place.part), keep)
+                let (block, part) = (place.block.clone(), place.part.clone());
+                (block, j.table_position, Some(part), keep, Some(place))
             }
             None => match &j.stock {
-                Some(b) => (b.clone(), j.table_position, None, vec![]),
+                Some(b) => (b.clone(), j.table_position, None, vec![], None),
                 None => {
                     return Err(JobError::Option(
                         "the job sizes its block from the board: give --design, or --stock LxWxT"
@@ -1316,6 +1318,10 @@ pub fn verify_programs(
         default_tool,
         design: part.as_ref(),
         keep,
+        floor: placed
+            .as_ref()
+            .zip(job.as_ref())
+            .map(|(p, j)| (p, j.overlap)),
     };
     let options = VerifyOptions {
         cell: args.cell,

@@ -35,6 +35,7 @@ fn run(
         default_tool: Some(tool),
         design,
         keep: vec![],
+        floor: None,
     };
     verify::verify(
         sources,
@@ -300,4 +301,61 @@ fn verify_command_exit_codes_and_json_keys() {
         dir.path(),
     );
     assert_eq!(o.status.code(), Some(2), "no tool known");
+}
+
+/// Reach: a ball of radius R = 6.35 mm run in parallel passes 1 mm apart
+/// over a block with a groove 6 mm wide and 5 mm deep cannot reach the
+/// groove's floor. Resting on the groove's two edges, 3 mm either side of
+/// its centre, its tip stays R - √(R² - 3²) below the tops (Pythagoras),
+/// so 5 - (R - √(R² - 9)) = 4.25 mm is left on the floor, out of the
+/// ball's reach; on the tops the passes leave cusps of
+/// R - √(R² - 0.5²) = 0.020 mm (standard scallop geometry).
+#[test]
+fn a_groove_narrower_than_the_ball_is_reported_out_of_reach() {
+    let r: f64 = 6.35;
+    // Tops at the block's top face (Z 0), the groove's floor at Z -5.
+    let mut design = Mesh::cuboid([10.0, 15.0, -35.0], [80.0, 30.0, 30.0]);
+    for y0 in [15.0, 33.0] {
+        let c = Mesh::cuboid([10.0, y0, -5.5], [80.0, 12.0, 5.5]);
+        let base = design.vertices.len() as u32;
+        design.vertices.extend(c.vertices);
+        design
+            .triangles
+            .extend(c.triangles.iter().map(|t| t.map(|v| v + base)));
+    }
+    // The passes' heights from the drop-cutter (its own tests hold it to
+    // the geometry); the design is the same all along X.
+    let dc = blanksmith::cam::dropcutter::DropCutter::new(&[&design], Cutter::ball(2.0 * r));
+    let mut g = String::from(HEAD);
+    for k in 0..=30 {
+        let y = 15.0 + k as f64;
+        let z = dc.drop(50.0, y).unwrap();
+        g.push_str(&format!(
+            "G0 X10 Y{y:.3}\nG0 Z{:.3}\nG1 Z{z:.3} F1000\nG1 X90 F2000\nG0 Z10\n",
+            z + 2.0
+        ));
+    }
+    g.push_str(TAIL);
+    let block = Block::flat(100.0, 60.0, 40.0);
+    let v = run(&[&g], block, Cutter::ball(2.0 * r), Some(&design), 0.25);
+    assert!(!v.has_findings(), "{}", v.text());
+    // On the groove's centre line, under the pass that rests on both edges.
+    let want = 5.0 - (r - (r * r - 9.0).sqrt());
+    let m = &v.maps[0];
+    let k = ((30.0 / m.cell[1]) as usize) * m.dims[0] + (50.0 / m.cell[0]) as usize;
+    let got = m.deviation[k] as f64;
+    assert!((got - want).abs() < 0.01, "{got} vs {want}");
+    assert!(m.unreachable[k]);
+    // Towards the walls the ball's flank stays higher still, up to the
+    // groove's depth.
+    let worst = v.unreachable_max_mm.unwrap();
+    assert!(worst > want && worst <= 5.0, "{worst}");
+    let at = v.unreachable_at.unwrap();
+    assert!((at[1] - 30.0).abs() <= 3.0, "{at:?}");
+    // The groove's floor, 80 mm x 6 mm, within a cell at its walls.
+    let area = v.unreachable_mm2;
+    assert!((400.0..=530.0).contains(&area), "{area}");
+    let reach = v.leftover_reachable_max_mm.unwrap();
+    assert!(reach <= 0.021, "{}", v.text());
+    assert!(v.text().contains("cannot reach"), "{}", v.text());
 }

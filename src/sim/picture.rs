@@ -162,6 +162,7 @@ mod tests {
             dims: [nx, ny],
             deviation,
             stock: vec![false; nx * ny],
+            unreachable: vec![],
         };
         let bytes = png(&map, 0.5);
         let mut r = ::png::Decoder::new(std::io::Cursor::new(bytes))

@@ -10,8 +10,8 @@ use std::io::BufRead;
 use crate::cam::dropcutter::DropCutter;
 use crate::cam::job::Block;
 use crate::cam::limits::Bed;
-use crate::cam::profile::{Cutter, Machine};
-use crate::cam::setup::{Side, flip_mesh};
+use crate::cam::profile::{Cutter, Machine, ToolKind};
+use crate::cam::setup::{Placement, Side, flip_mesh};
 use crate::gcode::read::{self, Event, GcodeError, Motion, ReadOptions};
 use crate::mesh::Mesh;
 
@@ -42,6 +42,11 @@ pub struct Setting<'a> {
     /// Plan rectangles (min, max corners, setup-1 coordinates) left on
     /// purpose, e.g. the tabs: not counted as leftover.
     pub keep: Vec<[[f64; 2]; 2]>,
+    /// For programs planned here: the placement and the parting overlap,
+    /// whose floor (the parting surface less the overlap) no tool tip goes
+    /// below, so the rail just above the parting line is out of the ball's
+    /// reach.
+    pub floor: Option<(&'a Placement, f64)>,
 }
 
 /// Verification options.
@@ -118,6 +123,18 @@ pub struct Verification {
     pub leftover_at: Option<[f64; 3]>,
     /// 95th percentile of the leftover, mm.
     pub leftover_p95_mm: Option<f64>,
+    /// Most stock left where the side's finishing ball can touch the
+    /// design, mm: what the scallop target is about.
+    pub leftover_reachable_max_mm: Option<f64>,
+    /// Where (X, Y, setup).
+    pub leftover_reachable_at: Option<[f64; 3]>,
+    /// Plan area the finishing ball cannot reach (a notch, a corner
+    /// tighter than the ball) with stock left on it, mm².
+    pub unreachable_mm2: f64,
+    /// The most stock left there, mm, and where (X, Y, setup).
+    pub unreachable_max_mm: Option<f64>,
+    /// Where (X, Y, setup).
+    pub unreachable_at: Option<[f64; 3]>,
     /// Gouge tolerance used, mm.
     pub gouge_tolerance_mm: f64,
     /// All stock removed, L.
@@ -152,7 +169,13 @@ pub struct DeviationMap {
     pub deviation: Vec<f32>,
     /// Whether stock remains (for cells off the design).
     pub stock: Vec<bool>,
+    /// Cells with more than [`REACH_CHECKED_MM`] left that the side's
+    /// finishing ball cannot touch (empty when the side had no ball).
+    pub unreachable: Vec<bool>,
 }
+
+/// Leftover above which a cell is checked for reach by the ball.
+pub const REACH_CHECKED_MM: f64 = 0.05;
 
 impl Verification {
     /// Whether anything must stop the job.
@@ -217,6 +240,25 @@ impl Verification {
                 s,
                 "stock left on the board: 95 % of it under {p95:.3} mm, at most {l:.3} mm at X {:.1} Y {:.1} mm in setup {}: look there when sanding",
                 at[0], at[1], at[2]
+            );
+        }
+        if let (Some(l), Some(at)) = (self.leftover_reachable_max_mm, self.leftover_reachable_at)
+            && self.unreachable_mm2 > 0.0
+        {
+            let _ = writeln!(
+                s,
+                "where the finishing ball reaches: at most {l:.3} mm left, at X {:.1} Y {:.1} mm in setup {}",
+                at[0], at[1], at[2]
+            );
+        }
+        if let (Some(l), Some(at)) = (self.unreachable_max_mm, self.unreachable_at) {
+            let _ = writeln!(
+                s,
+                "the finishing ball cannot reach {:.1} cm² (a notch, a corner tighter than the ball, the rail just above the parting line): up to {l:.3} mm left there, the most at X {:.1} Y {:.1} mm in setup {}: finish it by hand or with a smaller tool",
+                self.unreachable_mm2 / 100.0,
+                at[0],
+                at[1],
+                at[2]
             );
         }
         let _ = writeln!(
@@ -299,6 +341,11 @@ pub fn verify(
         leftover_max_mm: None,
         leftover_at: None,
         leftover_p95_mm: None,
+        leftover_reachable_max_mm: None,
+        leftover_reachable_at: None,
+        unreachable_mm2: 0.0,
+        unreachable_max_mm: None,
+        unreachable_at: None,
         gouge_tolerance_mm: options.gouge_tolerance,
         removed_volume_litres: 0.0,
         time_estimate_s: 0.0,
@@ -309,6 +356,8 @@ pub fn verify(
     };
     let mut side = Side::Deck;
     let mut top1: Option<Vec<f32>> = None;
+    // The smallest ball that cut on each side: what finished it.
+    let mut balls: [Option<f64>; 2] = [None, None];
     for src in programs {
         if src.side == Side::Bottom && side == Side::Deck {
             side = Side::Bottom;
@@ -442,6 +491,10 @@ pub fn verify(
                         }
                         return;
                     };
+                    if motion != Motion::Rapid && c.kind == ToolKind::Ball {
+                        let b = &mut balls[side.number() as usize - 1];
+                        *b = Some(b.map_or(c.radius, |r: f64| r.min(c.radius)));
+                    }
                     sweeps.push(Sweep {
                         from,
                         to,
@@ -491,12 +544,26 @@ pub fn verify(
         let base = ZMap::of_stock(b, true, options.cell, 0.0).expect("sized above");
         let mut m1 = base.clone();
         m1.top = top1;
-        let mut maps = vec![deviation(&m1, design, Side::Deck)];
+        let reach = |side: Side| {
+            let floor = setting
+                .floor
+                .map(|(p, overlap)| move |x: f64| p.floor_at(side, x, overlap));
+            balls[side.number() as usize - 1].map(|r| Reach { r, floor })
+        };
+        let mut maps = vec![deviation(&m1, design, Side::Deck, reach(Side::Deck))];
         if let Some(m2) = &top2 {
-            maps.push(deviation(m2, &flip_mesh(design, b), Side::Bottom));
+            maps.push(deviation(
+                m2,
+                &flip_mesh(design, b),
+                Side::Bottom,
+                reach(Side::Bottom),
+            ));
         }
         let mut all: Vec<f32> = Vec::new();
         let (mut gouge, mut left) = ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
+        let (mut reach_left, mut out_of_reach) =
+            ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
+        let mut out_of_reach_cells = 0usize;
         for dm in &maps {
             for j in 0..dm.dims[1] {
                 for i in 0..dm.dims[0] {
@@ -528,6 +595,14 @@ pub fn verify(
                     if d > left.0 {
                         left = (d, p);
                     }
+                    if dm.unreachable.get(j * dm.dims[0] + i) == Some(&true) {
+                        out_of_reach_cells += 1;
+                        if d > out_of_reach.0 {
+                            out_of_reach = (d, p);
+                        }
+                    } else if d > reach_left.0 {
+                        reach_left = (d, p);
+                    }
                     all.push(d.max(0.0) as f32);
                 }
             }
@@ -540,6 +615,15 @@ pub fn verify(
             v.gouge_at = Some(gouge.1);
             v.leftover_max_mm = Some(left.0.max(0.0));
             v.leftover_at = Some(left.1);
+            if reach_left.0 > f64::NEG_INFINITY {
+                v.leftover_reachable_max_mm = Some(reach_left.0.max(0.0));
+                v.leftover_reachable_at = Some(reach_left.1);
+            }
+            if out_of_reach_cells > 0 {
+                v.unreachable_mm2 = out_of_reach_cells as f64 * options.cell * options.cell;
+                v.unreachable_max_mm = Some(out_of_reach.0);
+                v.unreachable_at = Some(out_of_reach.1);
+            }
         }
         v.maps = maps;
     }
@@ -603,7 +687,18 @@ fn flipped(map: &ZMap, thickness: f64) -> ZMap {
 /// Deviation of a side's simulated surface from the design seen from above,
 /// measured along the surface normal (the vertical difference times the
 /// normal's Z component).
-fn deviation(map: &ZMap, design: &Mesh, side: Side) -> DeviationMap {
+/// The ball that finished a side, and the floor its tip stayed above.
+struct Reach<F: Fn(f64) -> f64 + Sync> {
+    r: f64,
+    floor: Option<F>,
+}
+
+fn deviation<F: Fn(f64) -> f64 + Sync>(
+    map: &ZMap,
+    design: &Mesh,
+    side: Side,
+    ball: Option<Reach<F>>,
+) -> DeviationMap {
     use rayon::prelude::*;
     let ray = DropCutter::new(&[design], Cutter::flat(0.0));
     let [nx, ny] = map.dims;
@@ -634,6 +729,12 @@ fn deviation(map: &ZMap, design: &Mesh, side: Side) -> DeviationMap {
         deviation.extend(d);
         stock.extend(s);
     }
+    let unreachable = match ball {
+        Some(reach) if deviation.iter().any(|&d| d as f64 > REACH_CHECKED_MM) => {
+            out_of_reach(map, design, &ray, &deviation, &reach)
+        }
+        _ => vec![],
+    };
     DeviationMap {
         side,
         origin: map.origin,
@@ -641,5 +742,51 @@ fn deviation(map: &ZMap, design: &Mesh, side: Side) -> DeviationMap {
         dims: map.dims,
         deviation,
         stock,
+        unreachable,
     }
+}
+
+/// How far above its touch on a face a ball may be held by the rest of
+/// the design and still count as touching (the mesh's facets and the
+/// rounding of the drop).
+const REACH_SLACK_MM: f64 = 0.02;
+
+/// Which cells with more than [`REACH_CHECKED_MM`] left a ball of radius
+/// `r` cannot touch: the ball resting on the design at the cell's point,
+/// its centre `r` out along the face's normal, is held higher by the rest
+/// of the design (a drop-cutter at that centre), or would need its tip
+/// below the floor. A convex surface is reachable everywhere above the
+/// floor; a notch or a corner tighter than the ball is not.
+fn out_of_reach<F: Fn(f64) -> f64 + Sync>(
+    map: &ZMap,
+    design: &Mesh,
+    ray: &DropCutter,
+    dev: &[f32],
+    reach: &Reach<F>,
+) -> Vec<bool> {
+    use rayon::prelude::*;
+    let r = reach.r;
+    let ball = DropCutter::new(&[design], Cutter::ball(2.0 * r));
+    let nx = map.dims[0];
+    (0..dev.len())
+        .into_par_iter()
+        .map(|k| {
+            if (dev[k] as f64) <= REACH_CHECKED_MM {
+                return false;
+            }
+            let c = map.centre(k % nx, k / nx);
+            let Some((z, n)) = ray.drop_contact(c[0], c[1]) else {
+                return false;
+            };
+            let centre = [c[0] + r * n[0], c[1] + r * n[1], z + r * n[2]];
+            let tip = centre[2] - r;
+            reach
+                .floor
+                .as_ref()
+                .is_some_and(|f| tip < f(centre[0]) - REACH_SLACK_MM)
+                || ball
+                    .drop(centre[0], centre[1])
+                    .is_some_and(|t| t > tip + REACH_SLACK_MM)
+        })
+        .collect()
 }
