@@ -167,3 +167,10 @@ fn both_setups_demo_fine_scallop() -> usize {
     let (plan, _, _) = demo_plan("finishing:\n  scallop: 0.05\n");
     plan.programs.iter().map(|p| p.text.len()).sum()
 }
+
+/// Both setups from the pre-rockered blank of `fixtures/job-rockered-blank.yaml`.
+#[divan::bench(sample_count = 3, sample_size = 1)]
+fn both_setups_demo_rockered_blank() -> usize {
+    let (plan, _, _) = demo_plan(include_str!("../fixtures/job-rockered-blank.yaml"));
+    plan.programs.iter().map(|p| p.text.len()).sum()
+}

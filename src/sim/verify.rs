@@ -766,8 +766,54 @@ fn out_of_reach<F: Fn(f64) -> f64 + Sync>(
 ) -> Vec<bool> {
     use rayon::prelude::*;
     let r = reach.r;
-    let ball = DropCutter::new(&[design], Cutter::ball(2.0 * r));
     let nx = map.dims[0];
+    // Only the triangles within 2R of a cell to test can hold the ball up
+    // there: mark squares of side 2R round those cells, keep the triangles
+    // whose plan box meets a marked square.
+    let g = 2.0 * r;
+    let (ox, oy) = (map.origin[0] - g, map.origin[1] - g);
+    let gw = ((map.dims[0] as f64 * map.cell[0] + 2.0 * g) / g).ceil() as usize + 1;
+    let gh = ((map.dims[1] as f64 * map.cell[1] + 2.0 * g) / g).ceil() as usize + 1;
+    let mut marked = vec![false; gw * gh];
+    for (k, &d) in dev.iter().enumerate() {
+        if (d as f64) <= REACH_CHECKED_MM {
+            continue;
+        }
+        let c = map.centre(k % nx, k / nx);
+        let (i, j) = (((c[0] - ox) / g) as usize, ((c[1] - oy) / g) as usize);
+        for b in j.saturating_sub(1)..(j + 2).min(gh) {
+            for a in i.saturating_sub(1)..(i + 2).min(gw) {
+                marked[b * gw + a] = true;
+            }
+        }
+    }
+    let near = Mesh {
+        vertices: design.vertices.clone(),
+        triangles: design
+            .triangles
+            .iter()
+            .filter(|t| {
+                let p = t.map(|v| design.vertices[v as usize]);
+                let cell = |x: f64, y: f64| {
+                    (
+                        (((x - ox) / g).max(0.0) as usize).min(gw - 1),
+                        (((y - oy) / g).max(0.0) as usize).min(gh - 1),
+                    )
+                };
+                let lo = cell(
+                    p[0][0].min(p[1][0]).min(p[2][0]),
+                    p[0][1].min(p[1][1]).min(p[2][1]),
+                );
+                let hi = cell(
+                    p[0][0].max(p[1][0]).max(p[2][0]),
+                    p[0][1].max(p[1][1]).max(p[2][1]),
+                );
+                (lo.1..=hi.1).any(|b| (lo.0..=hi.0).any(|a| marked[b * gw + a]))
+            })
+            .copied()
+            .collect(),
+    };
+    let ball = DropCutter::new(&[&near], Cutter::ball(2.0 * r));
     (0..dev.len())
         .into_par_iter()
         .map(|k| {
