@@ -174,3 +174,38 @@ fn both_setups_demo_rockered_blank() -> usize {
     let (plan, _, _) = demo_plan(include_str!("../fixtures/job-rockered-blank.yaml"));
     plan.programs.iter().map(|p| p.text.len()).sum()
 }
+
+/// The simulation of the demo's programs at 0.25 mm cells (four times the
+/// cells of the default).
+#[divan::bench(sample_count = 2, sample_size = 1)]
+fn simulate_both_setups_demo_fine_cells(b: divan::Bencher) {
+    let (plan, m, j) = demo_plan("{}");
+    let options = blanksmith::sim::verify::VerifyOptions {
+        cell: 0.25,
+        ..Default::default()
+    };
+    b.bench(|| {
+        jobs::verify_plan_with(&plan, &m, &j, options, &|_| {})
+            .unwrap()
+            .removed_volume_litres
+    });
+}
+
+/// `make` on the demo, every stage, files written into a temporary folder.
+#[divan::bench(sample_count = 3, sample_size = 1)]
+fn make_demo_end_to_end() -> usize {
+    let dir = tempfile::tempdir().unwrap();
+    let cut = jobs::CutArgs {
+        machine: None,
+        job: None,
+    };
+    let m = jobs::make(
+        &jobs::Input::Demo,
+        mesher::DEFAULT_TOLERANCE,
+        dir.path(),
+        &cut,
+        &|_| {},
+    )
+    .unwrap();
+    m.written.len()
+}

@@ -1090,6 +1090,17 @@ pub fn verify_plan(
     job: &Job,
     progress: &dyn Fn(&str),
 ) -> Result<Verification, JobError> {
+    verify_plan_with(plan, machine, job, VerifyOptions::default(), progress)
+}
+
+/// [`verify_plan`] with other options (a finer height map, say).
+pub fn verify_plan_with(
+    plan: &CutPlan,
+    machine: &Machine,
+    job: &Job,
+    options: VerifyOptions,
+    progress: &dyn Fn(&str),
+) -> Result<Verification, JobError> {
     let sources = plan
         .programs
         .iter()
@@ -1108,7 +1119,7 @@ pub fn verify_plan(
         keep: tab_rectangles(&plan.placement, job),
         floor: Some((&plan.placement, job.overlap)),
     };
-    verify::verify(sources, &setting, VerifyOptions::default(), progress).map_err(JobError::Gcode)
+    verify::verify(sources, &setting, options, progress).map_err(JobError::Gcode)
 }
 
 /// The tabs' plan rectangles, grown by the finishing tool's radius plus
