@@ -62,6 +62,15 @@ fn fixture(name: &str) -> std::path::PathBuf {
         .join(name)
 }
 
+/// The roughing toolpath of setup `k` (0 or 1).
+fn roughing_of(c: &Case, k: usize) -> &blanksmith::cam::paths::Toolpath {
+    c.plan.setups[k]
+        .paths
+        .iter()
+        .find(|p| p.label == "roughing")
+        .unwrap()
+}
+
 fn shortboard() -> &'static Case {
     static C: OnceLock<Case> = OnceLock::new();
     C.get_or_init(|| case("shortboard.yaml"))
@@ -185,11 +194,7 @@ fn roughing_leaves_at_least_the_stock_to_leave() {
     let c = shortboard();
     for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
         let part = &c.plan.placement.guard(side)[0];
-        let rough = c.plan.setups[k]
-            .paths
-            .iter()
-            .find(|p| p.label == "roughing")
-            .unwrap();
+        let rough = roughing_of(c, k);
         let r = rough.pass.tool.cutter.radius;
         let leave = rough.pass.leave;
         // Bucket the vertices in 10 mm squares.
@@ -526,11 +531,7 @@ fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
     assert!(v.leftover_p95_mm.unwrap() <= target, "{}", v.text());
     let b = &c.plan.placement.block;
     for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
-        let rough = c.plan.setups[k]
-            .paths
-            .iter()
-            .find(|p| p.label == "roughing")
-            .unwrap();
+        let rough = roughing_of(c, k);
         let r = rough.pass.tool.cutter.radius;
         let top = |x: f64| {
             [x - r, x, x + r]

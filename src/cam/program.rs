@@ -451,18 +451,35 @@ pub fn setup_sheet(
     };
     s.push_str("\nSTEPS\n");
     let rockered = b.rocker.is_some();
-    if rockered {
-        next(
+    let (what, hold) = if rockered {
+        (
             format!(
-                "Fix the blank: the {} x {} rockered blank ({} high overall) bottom down in a cradle cut to its bottom curve (the job's stations), its lowest point on the spoilboard, its nose end and front side at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot lift, rock or slide (clamps outside the cut band).",
+                "the {} x {} rockered blank ({} high overall) bottom down in a cradle cut to its bottom curve (the job's stations), its lowest point on the spoilboard, its nose end and front side",
                 both(b.length),
                 both(b.width),
-                both(b.thickness),
-                job.table_position[0],
-                job.table_position[1]
+                both(b.thickness)
             ),
-            &mut s,
-        );
+            "lift, rock or slide (clamps outside the cut band)",
+        )
+    } else {
+        (
+            format!(
+                "the {} x {} x {} block flat on the spoilboard, its front-left corner",
+                both(b.length),
+                both(b.width),
+                both(b.thickness)
+            ),
+            "lift or slide (clamps outside the cut band, or vacuum)",
+        )
+    };
+    next(
+        format!(
+            "Fix the blank: {what} at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot {hold}.",
+            job.table_position[0], job.table_position[1]
+        ),
+        &mut s,
+    );
+    if rockered {
         next(
             format!(
                 "Set zero: X0 at the blank's nose end, Y0 on its front side, Z0 on the deck's highest point, at X {}, with each tool's tip. Check the tool length after every tool change.",
@@ -471,17 +488,6 @@ pub fn setup_sheet(
             &mut s,
         );
     } else {
-        next(
-            format!(
-                "Fix the blank: the {} x {} x {} block flat on the spoilboard, its front-left corner at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot lift or slide (clamps outside the cut band, or vacuum).",
-                both(b.length),
-                both(b.width),
-                both(b.thickness),
-                job.table_position[0],
-                job.table_position[1]
-            ),
-            &mut s,
-        );
         next("Set zero: X0 Y0 on the block's front-left corner, Z0 on its top face with each tool's tip. Check the tool length after every tool change.".into(), &mut s);
     }
     let mut flipped = false;
