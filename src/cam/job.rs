@@ -584,22 +584,31 @@ fn rockered_blank(
             "measure the blank at both its ends",
         );
     }
+    // Heights from the lowest bottom point. The curves do not overshoot
+    // their stations, so the box runs from the lowest bottom station to
+    // the highest deck station.
+    let lo = stations.iter().map(|s| s[1]).fold(f64::INFINITY, f64::min);
+    let hi = stations
+        .iter()
+        .map(|s| s[2])
+        .fold(f64::NEG_INFINITY, f64::max);
+    for s in &mut stations {
+        s[1] -= lo;
+        s[2] -= lo;
+    }
     let curve = |k: usize| {
         Curve::new(&stations.iter().map(|s| (s[0], s[k])).collect::<Vec<_>>())
             .expect("stations checked: finite and increasing")
     };
     let (bottom, deck) = (curve(1), curve(2));
-    // The box: from the lowest bottom point to the highest deck point,
-    // sampled every millimetre (the curves do not overshoot their stations).
-    let (mut lo, mut hi, mut thin) = (f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY);
+    // Between stations the two curves may come closer than at any station.
     let n = length.ceil() as usize;
-    for k in 0..=n {
-        let x = (k as f64).min(length);
-        let (b, d) = (bottom.eval(x), deck.eval(x));
-        lo = lo.min(b);
-        hi = hi.max(d);
-        thin = thin.min(d - b);
-    }
+    let thin = (0..=n)
+        .map(|k| {
+            let x = (k as f64).min(length);
+            deck.eval(x) - bottom.eval(x)
+        })
+        .fold(f64::INFINITY, f64::min);
     if thin < 10.0 {
         return r.fail(
             &st.referenced,
@@ -621,22 +630,14 @@ fn rockered_blank(
             "how far the real blank may stand proud of its measured curves, e.g. 5 mm",
         )?,
     };
-    // Heights from the lowest bottom point.
-    let shift = |c: &Curve| {
-        Curve::new(&c.stations().map(|(x, y)| (x, y - lo)).collect::<Vec<_>>())
-            .expect("same stations")
-    };
     Ok(Block {
         length,
         width,
         thickness: hi - lo,
         rocker: Some(BlankRocker {
-            stations: stations
-                .iter()
-                .map(|s| [s[0], s[1] - lo, s[2] - lo])
-                .collect(),
-            bottom: shift(&bottom),
-            deck: shift(&deck),
+            stations,
+            bottom,
+            deck,
             allowance,
         }),
     })
