@@ -68,3 +68,28 @@ fn plain_pass_two_million(b: Bencher) {
             s
         });
 }
+
+/// A resize to a target volume (33 L, length kept): the Illinois solve on
+/// the mesh volume, at the default tolerance and at 0.002 mm.
+#[divan::bench(args = [mesher::DEFAULT_TOLERANCE, 0.002], sample_count = 5, sample_size = 1)]
+fn demo_resize_to_33_litres(tolerance: f64) -> f64 {
+    use blanksmith::resize::{self, Keep, Request};
+    let board = demo_board();
+    let cert = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
+    let old = blanksmith::report::Report::new(&board, &cert, None);
+    let request = Request {
+        length: None,
+        width: None,
+        thickness: None,
+        volume: Some(33.0),
+        keep: Keep {
+            length: true,
+            ..Keep::default()
+        },
+        water: None,
+    };
+    resize::resize(&board, &request, old.width_mm, old.thickness_mm, tolerance)
+        .unwrap()
+        .board
+        .length
+}
