@@ -368,10 +368,10 @@ fn with_stock_above(
     if ctx.place.block.rocker.is_none() {
         return vec![(pts, closed)];
     }
-    // Stock under any part of the tool: the blank's top is highest at one
-    // of the tool's two ends along X or in between it is monotone enough
-    // (the curves turn only at stations; checking three X is conservative
-    // with the allowance on top).
+    // Foam under any part of the tool. The blank's top depends on X alone
+    // and is monotone between stations, so across the tool it is highest
+    // at one of its ends or at a station in between; the ends and the
+    // middle are checked, and the allowance covers a crest between them.
     let cuts = |p: &[f64; 3]| {
         [p[0] - r, p[0], p[0] + r]
             .iter()
