@@ -132,17 +132,11 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     };
     // Pitch: the tilt within ±8° that needs the least thickness (sampled
     // every 0.1°, then refined), kept only if it saves more than 1 mm.
-    let rockered = job
-        .stock
-        .as_ref()
-        .and_then(|b| b.rocker.as_ref().map(|_| b));
-    let pitch = match job.pitch {
-        Pitch::Degrees(d) => d,
-        Pitch::Auto if rockered.is_some() => {
-            let b = rockered.expect("checked");
-            blank_pitch(board, lo, hi, b)
-        }
-        Pitch::Auto => {
+    let rockered = job.stock.as_ref().filter(|b| b.rocker.is_some());
+    let pitch = match (job.pitch, rockered) {
+        (Pitch::Degrees(d), _) => d,
+        (Pitch::Auto, Some(b)) => blank_pitch(board, lo, hi, b),
+        (Pitch::Auto, None) => {
             let hull: Vec<[f64; 3]> = board.vertices.clone();
             let mut best = (z_extent(&hull, 0.0), 0.0);
             for k in -80..=80 {
