@@ -333,12 +333,13 @@ fn same_input_same_programs() {
 
 /// The project's own programs for every fixture board, simulated: no
 /// collision, no move outside the machine, no cut with the spindle off, no
-/// gouge beyond 0.05 mm, and the stock left within the scallop target on
-/// 95 % of the surface. The rest is where a 12.7 mm ball cannot reach: the
-/// fish's notch apex (a concave corner in plan, about 1 mm left) and the
-/// squash corners (about 0.3 mm); the box, with no such corner, holds the
-/// target everywhere. The longboard is longer than the shipped machine, so
-/// it runs on the same machine with 4 m of X travel.
+/// gouge beyond 0.05 mm, and the stock left within the scallop target
+/// wherever the finishing ball can touch the design, down to the floor at
+/// the foot of the rail. The rest is where a 12.7 mm ball cannot reach:
+/// the fish's notch apex (a concave corner in plan, about 1 mm left) and
+/// the squash corners (about 0.3 mm); the box, with no such corner, holds
+/// the target everywhere. The longboard is longer than the shipped
+/// machine, so it runs on the same machine with 4 m of X travel.
 #[test]
 fn own_programs_verify_clean_for_every_fixture() {
     let long_machine = profile::machine_from_str(
@@ -362,6 +363,8 @@ fn own_programs_verify_clean_for_every_fixture() {
         let target = c.job.finishing.scallop + c.job.finishing.tolerance;
         let p95 = v.leftover_p95_mm.unwrap();
         assert!(p95 <= target, "p95 {p95}");
+        let reach = v.leftover_reachable_max_mm.unwrap();
+        assert!(reach <= target, "{}", v.text());
         if everywhere {
             assert!(v.leftover_max_mm.unwrap() <= target, "{}", v.text());
         }
@@ -529,6 +532,11 @@ fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
     assert!(v.gouge_max_mm.unwrap() <= 0.05);
     let target = c.job.finishing.scallop + c.job.finishing.tolerance;
     assert!(v.leftover_p95_mm.unwrap() <= target, "{}", v.text());
+    assert!(
+        v.leftover_reachable_max_mm.unwrap() <= target,
+        "{}",
+        v.text()
+    );
     let b = &c.plan.placement.block;
     for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
         let rough = roughing_of(c, k);

@@ -240,6 +240,22 @@ impl Ranges {
 
 /// [`contours`] with the tile ranges of `field` computed once, for many levels.
 pub fn contours_in(field: &Field, ranges: &Ranges, level: f64) -> Vec<Line> {
+    contours_placed(field, ranges, level, &|p, q, t| {
+        [p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])]
+    })
+}
+
+/// [`contours_in`] with each crossing placed by `place(p, q, t)` on the
+/// cell edge from node `p` (at or above the level) to node `q` (below),
+/// where `t` is the linear estimate: for a field sampled from a function
+/// that can be evaluated anywhere, the crossing can be found on the edge
+/// itself rather than interpolated.
+pub fn contours_placed(
+    field: &Field,
+    ranges: &Ranges,
+    level: f64,
+    place: &(dyn Fn([f64; 2], [f64; 2], f64) -> [f64; 2] + Sync),
+) -> Vec<Line> {
     let [nx, ny] = field.dims;
     if nx < 2 || ny < 2 {
         return vec![];
@@ -265,7 +281,11 @@ pub fn contours_in(field: &Field, ranges: &Ranges, level: f64) -> Vec<Line> {
         };
         let p = field.node(i, j);
         let q = field.node(i2, j2);
-        [p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])]
+        if a >= level {
+            place(p, q, t)
+        } else {
+            place(q, p, 1.0 - t)
+        }
     };
     // Segments oriented with the "above" side on the left.
     let mut next: rustc_hash::FxHashMap<usize, usize> = Default::default();
@@ -417,6 +437,48 @@ mod tests {
             let area = signed_area(&lines[0].points).abs();
             assert!((area - std::f64::consts::PI * 6.25).abs() < 1.5, "{area}");
         }
+    }
+
+    #[test]
+    fn crossings_found_on_the_edge_land_on_a_step() {
+        // A plateau of height 10 inside a circle of radius 7.3, 0 outside:
+        // the 5 level is the circle (geometry), but linear interpolation
+        // on a 1 mm grid puts every crossing at the middle of its edge, up
+        // to 0.5 mm off. Bisecting the function itself on the edge puts it
+        // on the circle to 1/1024 of the edge.
+        let step = |p: [f64; 2]| {
+            if (p[0] * p[0] + p[1] * p[1]).sqrt() <= 7.3 {
+                10.0
+            } else {
+                0.0
+            }
+        };
+        let g = Field::new([-10.0, -10.0], [10.0, 10.0], 1.0, 0.0);
+        let f = g.with_values(g.nodes().into_iter().map(step).collect());
+        let off = |lines: &[Line]| {
+            lines
+                .iter()
+                .flat_map(|l| &l.points)
+                .map(|p| ((p[0] * p[0] + p[1] * p[1]).sqrt() - 7.3).abs())
+                .fold(0.0, f64::max)
+        };
+        let linear = contours(&f, 5.0);
+        assert!(off(&linear) > 0.2, "{}", off(&linear));
+        let place = |p: [f64; 2], q: [f64; 2], _t: f64| {
+            let at = |t: f64| [p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])];
+            let (mut a, mut b) = (0.0, 1.0);
+            for _ in 0..10 {
+                let m = 0.5 * (a + b);
+                if step(at(m)) >= 5.0 { a = m } else { b = m }
+            }
+            at(a)
+        };
+        let placed = contours_placed(&f, &Ranges::of(&f), 5.0, &place);
+        assert_eq!(placed.len(), 1);
+        assert!(placed[0].closed);
+        assert!(off(&placed) < 1.0 / 1024.0 + 1e-9, "{}", off(&placed));
+        // Same lines, point for point, only moved along their edges.
+        assert_eq!(placed[0].points.len(), linear[0].points.len());
     }
 
     #[test]

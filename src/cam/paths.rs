@@ -836,18 +836,23 @@ fn link(
 const RAIL_BAND: f64 = 60.0;
 
 /// Z-level passes where the surface is steeper than `theta`: contours of
-/// the drop-cutter height every `dz`, each point then dropped exactly.
+/// the drop-cutter height every `dz`, each crossing found on its grid
+/// edge by bisecting the drop-cutter, each point then dropped exactly.
 fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64; 3]>>, usize) {
     let r = dc.cutter().radius;
     let p = ctx.place;
-    let lo = [p.x_range[0] - r - 2.0, p.centre_y - p.half_width - r - 2.0];
-    let hi = [p.x_range[1] + r + 2.0, p.centre_y + p.half_width + r + 2.0];
+    let lo = [p.x_range[0] - r - 4.0, p.centre_y - p.half_width - r - 4.0];
+    let hi = [p.x_range[1] + r + 4.0, p.centre_y + p.half_width + r + 4.0];
     let grid = Field::new(lo, hi, 1.0, 0.0);
     let nodes = grid.nodes();
-    // Only near the rail: within RAIL_BAND inside the outline and r + 1 outside.
+    // Only near the rail: within RAIL_BAND inside the outline and r + 3
+    // outside. The silhouette is known to the node (1 mm), and the ball
+    // still touches the rail's foot with its centre r outside it, so the
+    // band reaches two nodes further: the last node on the rail then has
+    // a neighbour at the floor, and the levels down to the floor close.
     let inside_band: Vec<bool> = nodes
         .par_iter()
-        .map(|q| ctx.outside.at(*q) <= r + 1.0 && ctx.inside.at(*q) <= RAIL_BAND)
+        .map(|q| ctx.outside.at(*q) <= r + 3.0 && ctx.inside.at(*q) <= RAIL_BAND)
         .collect();
     let heights: Vec<f64> = nodes
         .par_iter()
@@ -904,18 +909,47 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
         z -= dz;
     }
     let ranges = field::Ranges::of(&filled);
+    let exact = |q: [f64; 2]| {
+        let f = ctx.floor(q[0]);
+        dc.drop(q[0], q[1]).map_or(f, |d| d.max(f))
+    };
     let runs: Vec<Vec<Vec<[f64; 3]>>> = levels
         .par_iter()
         .map(|&level| {
             let mut out = Vec::new();
-            for l in field::contours_in(&filled, &ranges, level) {
+            // Each crossing found on its cell edge to 1/1024 of the edge,
+            // on the side at or above the level: at the foot of the rail
+            // the height falls from the rail to the floor within one
+            // node, and a linear estimate there lands the pass millimetres
+            // away from where the ball touches.
+            let place = |p: [f64; 2], q: [f64; 2], t: f64| {
+                let at = |t: f64| [p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])];
+                if exact(q) >= level || exact(p) < level {
+                    return at(t);
+                }
+                let (mut a, mut b) = (0.0, 1.0);
+                for _ in 0..10 {
+                    let m = 0.5 * (a + b);
+                    if exact(at(m)) >= level {
+                        a = m;
+                    } else {
+                        b = m;
+                    }
+                }
+                at(a)
+            };
+            for l in field::contours_placed(&filled, &ranges, level, &place) {
                 let pts = resample(&l.points, 0.5, l.closed);
                 let mut run: Vec<[f64; 3]> = Vec::new();
                 for q in pts {
+                    // Steep if any corner of its cell is: where the height
+                    // flattens onto the floor the nearest node may not be.
                     let near_steep = {
-                        let i = ((q[0] - lo[0]) / 1.0).round() as usize;
-                        let j = ((q[1] - lo[1]) / 1.0).round() as usize;
-                        i < nx && j < ny && steep[j * nx + i]
+                        let i = ((q[0] - lo[0]) / 1.0).floor().max(0.0) as usize;
+                        let j = ((q[1] - lo[1]) / 1.0).floor().max(0.0) as usize;
+                        [(0, 0), (1, 0), (0, 1), (1, 1)]
+                            .iter()
+                            .any(|&(a, b)| i + a < nx && j + b < ny && steep[(j + b) * nx + i + a])
                     };
                     if !near_steep || h.at(q).is_nan() {
                         if run.len() > 1 {
@@ -940,10 +974,14 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
         let f = ctx.floor(x);
         dc.drop(x, y).map_or(f, |d| d.max(f))
     };
+    // Simplified, then refined again: a level's points all stand at its
+    // height, so the simplification keeps only the plan's bends, and on a
+    // steep wall a chord within `tol` of them in plan can still stand
+    // several times `tol` into the wall in height.
     let runs = runs
         .into_iter()
         .flatten()
-        .map(|r| simplify(&refine(&r, &h, tol / 2.0), tol))
+        .map(|r| refine(&simplify(&refine(&r, &h, tol / 2.0), tol), &h, tol / 2.0))
         .collect();
     (runs, count)
 }
