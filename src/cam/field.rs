@@ -240,22 +240,20 @@ impl Ranges {
 
 /// [`contours`] with the tile ranges of `field` computed once, for many levels.
 pub fn contours_in(field: &Field, ranges: &Ranges, level: f64) -> Vec<Line> {
-    contours_placed(field, ranges, level, &|p, q, t| {
+    contours_placed(field, ranges, level, &|p, q, t, _, _| {
         [p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])]
     })
 }
 
-/// [`contours_in`] with each crossing placed by `place(p, q, t)` on the
-/// cell edge from node `p` (at or above the level) to node `q` (below),
-/// where `t` is the linear estimate: for a field sampled from a function
-/// that can be evaluated anywhere, the crossing can be found on the edge
-/// itself rather than interpolated.
-pub fn contours_placed(
-    field: &Field,
-    ranges: &Ranges,
-    level: f64,
-    place: &(dyn Fn([f64; 2], [f64; 2], f64) -> [f64; 2] + Sync),
-) -> Vec<Line> {
+/// Where [`contours_placed`] puts a crossing on the cell edge from node
+/// `p` (value `vp`, at or above the level) to node `q` (value `vq`,
+/// below), given `t`, the linear estimate along the edge.
+pub type Place<'a> = dyn Fn([f64; 2], [f64; 2], f64, f64, f64) -> [f64; 2] + Sync + 'a;
+
+/// [`contours_in`] with each crossing placed by `place`: for a field
+/// sampled from a function that can be evaluated anywhere, the crossing
+/// can be found on the edge itself rather than interpolated.
+pub fn contours_placed(field: &Field, ranges: &Ranges, level: f64, place: &Place) -> Vec<Line> {
     let [nx, ny] = field.dims;
     if nx < 2 || ny < 2 {
         return vec![];
@@ -282,9 +280,9 @@ pub fn contours_placed(
         let p = field.node(i, j);
         let q = field.node(i2, j2);
         if a >= level {
-            place(p, q, t)
+            place(p, q, t, a, b)
         } else {
-            place(q, p, 1.0 - t)
+            place(q, p, 1.0 - t, b, a)
         }
     };
     // Segments oriented with the "above" side on the left.
@@ -464,7 +462,7 @@ mod tests {
         };
         let linear = contours(&f, 5.0);
         assert!(off(&linear) > 0.2, "{}", off(&linear));
-        let place = |p: [f64; 2], q: [f64; 2], _t: f64| {
+        let place = |p: [f64; 2], q: [f64; 2], _t: f64, _: f64, _: f64| {
             let at = |t: f64| [p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])];
             let (mut a, mut b) = (0.0, 1.0);
             for _ in 0..10 {
