@@ -521,6 +521,58 @@ fn a_rockered_blank_holds_the_board_between_its_measured_curves() {
     assert!(over >= skin && under >= skin);
 }
 
+/// Over a rockered blank the tool crosses between cuts at the clearance
+/// above the blank's own top beneath it, not above Z0: every rapid across
+/// stands at least the clearance over the blank's top (with its
+/// allowance), sampled here every millimetre under the tool's whole
+/// width; and crossings over the low middle stand well below Z0 plus the
+/// clearance, which is where the time goes.
+#[test]
+fn rockered_blank_rapids_clear_the_blank_beneath_them() {
+    let c = rockered();
+    let b = &c.plan.placement.block;
+    let clear = c.machine.clearance;
+    for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
+        let (mut across, mut low) = (0, 0);
+        for path in &c.plan.setups[k].paths {
+            let r = path.pass.tool.cutter.radius;
+            let mut at = [0.0, 0.0, clear];
+            for s in &path.steps {
+                let to = match *s {
+                    Step::Rapid(p) => {
+                        if p[2] == at[2] && (p[0] != at[0] || p[1] != at[1]) {
+                            across += 1;
+                            let (x0, x1) = (at[0].min(p[0]) - r, at[0].max(p[0]) + r);
+                            let n = (x1 - x0).ceil() as usize;
+                            let top = (0..=n)
+                                .map(|i| (x0 + i as f64).min(x1).clamp(0.0, b.length))
+                                .map(|x| b.top_under(side == Side::Deck, x).0)
+                                .fold(f64::NEG_INFINITY, f64::max)
+                                + b.allowance();
+                            assert!(
+                                p[2] >= (top + clear).min(clear) - 1e-9,
+                                "setup {} {}: rapid at Z {} over a top of {top}",
+                                k + 1,
+                                path.label,
+                                p[2]
+                            );
+                            if p[2] < clear - 20.0 {
+                                low += 1;
+                            }
+                        }
+                        p
+                    }
+                    Step::Plunge(p) | Step::Cut(p) => p,
+                    Step::Arc { to, .. } => to,
+                };
+                at = to;
+            }
+        }
+        assert!(across > 100, "{across}");
+        assert!(low * 2 > across, "setup {}: {low} of {across} low", k + 1);
+    }
+}
+
 /// Programs for a rockered blank simulate clean on that blank, and the
 /// roughing does not run its upper levels through the air over the
 /// blank's low middle.

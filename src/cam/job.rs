@@ -100,6 +100,25 @@ impl Block {
         best.1
     }
 
+    /// The highest top of the stock over X from `x0` to `x1` in a setup
+    /// (0 for a flat block). A rockered blank's curves are monotone
+    /// between its stations (they do not overshoot them), so the highest
+    /// point is at an end of the span or at a station inside it.
+    pub fn top_max(&self, deck_up: bool, x0: f64, x1: f64) -> f64 {
+        let (x0, x1) = (
+            x0.min(x1).clamp(0.0, self.length),
+            x0.max(x1).clamp(0.0, self.length),
+        );
+        let top = |x: f64| self.top_under(deck_up, x).0;
+        let stations = self.rocker.as_ref().map_or(&[][..], |r| &r.stations[..]);
+        stations
+            .iter()
+            .map(|s| s[0])
+            .filter(|&x| x > x0 && x < x1)
+            .map(top)
+            .fold(top(x0).max(top(x1)), f64::max)
+    }
+
     /// How much bigger than its curves the stock is treated where rapids
     /// are planned (0 for a flat block, whose faces are cut flat).
     pub fn allowance(&self) -> f64 {

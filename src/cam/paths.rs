@@ -128,6 +128,22 @@ impl Ctx<'_> {
         b.top_under(self.side == Side::Deck, x).0 + b.allowance()
     }
 
+    /// Height for a rapid across between X `a` and X `b` with a tool of
+    /// radius `r`: the clearance above the highest stock top under the
+    /// tool on the way (a rockered blank's, with its allowance), never
+    /// above the clearance over Z0. Over a flat block that is the
+    /// clearance over Z0; over a rockered blank's low middle it saves
+    /// lifting the tool to the height of its ends between every pass.
+    fn travel_z(&self, a: f64, b: f64, r: f64) -> f64 {
+        let block = &self.place.block;
+        if block.rocker.is_none() {
+            return self.clear;
+        }
+        let (x0, x1) = (a.min(b) - r - 1.0, a.max(b) + r + 1.0);
+        let top = block.top_max(self.side == Side::Deck, x0, x1) + block.allowance();
+        (top + self.clear).min(self.clear)
+    }
+
     fn region(&self) -> ([f64; 2], [f64; 2]) {
         let b = &self.place.block;
         ([0.0, 0.0], [b.length, b.width])
@@ -411,8 +427,9 @@ fn with_stock_above(
     pieces
 }
 
-fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
-    let p = steps
+/// Where the steps so far leave the tool (the origin before any).
+fn last_at(steps: &[Step]) -> [f64; 3] {
+    steps
         .iter()
         .rev()
         .map(|s| match s {
@@ -420,7 +437,11 @@ fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
             Step::Arc { to, .. } => *to,
         })
         .next()
-        .unwrap_or([0.0; 3]);
+        .unwrap_or([0.0; 3])
+}
+
+fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
+    let p = last_at(steps);
     [p[0], p[1], z]
 }
 
@@ -430,8 +451,11 @@ fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
 /// foam, no source), then the ring.
 fn entry(steps: &mut Vec<Step>, ctx: &Ctx, pts: &[[f64; 3]], closed: bool, above: f64, level: f64) {
     let start = pts[0];
-    steps.push(Step::Rapid(last_xy(steps, ctx.clear)));
-    steps.push(Step::Rapid([start[0], start[1], ctx.clear]));
+    let r = ctx.job.roughing.tool.cutter.radius;
+    let from = last_at(steps);
+    let travel = ctx.travel_z(from[0], start[0], r).max(from[2]);
+    steps.push(Step::Rapid([from[0], from[1], travel]));
+    steps.push(Step::Rapid([start[0], start[1], travel]));
     steps.push(Step::Rapid([start[0], start[1], above + 2.0]));
     steps.push(Step::Plunge([start[0], start[1], above]));
     let drop = above - level;
@@ -478,7 +502,11 @@ fn entry(steps: &mut Vec<Step>, ctx: &Ctx, pts: &[[f64; 3]], closed: bool, above
         steps.push(Step::Cut(start));
     }
     let end = if closed { start } else { pts[pts.len() - 1] };
-    steps.push(Step::Rapid([end[0], end[1], ctx.clear]));
+    steps.push(Step::Rapid([
+        end[0],
+        end[1],
+        ctx.travel_z(end[0], end[0], r),
+    ]));
 }
 
 /// The separation pass: round the outline at the parting surface, in a
@@ -817,10 +845,13 @@ fn link(
             steps.push(Step::Cut([x, y, z]));
         }
     } else {
-        steps.push(Step::Rapid(last_xy(steps, ctx.clear)));
-        steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
+        let r = ctx.job.finishing.pass.tool.cutter.radius;
+        let from = last_at(steps);
+        let travel = ctx.travel_z(from[0], s[0], r).max(from[2]);
+        steps.push(Step::Rapid([from[0], from[1], travel]));
+        steps.push(Step::Rapid([s[0], s[1], travel]));
         // Stop 2 mm above the stock the roughing left under the tool.
-        let top = ctx.stock_top(s[0], s[1], ctx.job.finishing.pass.tool.cutter.radius + 1.0);
+        let top = ctx.stock_top(s[0], s[1], r + 1.0);
         steps.push(Step::Rapid([s[0], s[1], top.max(s[2]) + 2.0]));
         steps.push(Step::Plunge(s));
     }

@@ -459,7 +459,7 @@ pub fn setup_sheet(
                 both(b.width),
                 both(b.thickness)
             ),
-            "lift, rock or slide (clamps outside the cut band)",
+            "lift, rock or slide (clamps outside the cut band: between cuts the tool crosses the blank's low middle at the clearance above the blank's own top there, not above Z0, so nothing may stand above the blank over the cut band)",
         )
     } else {
         (
