@@ -459,6 +459,31 @@ pub fn cut(
     Ok((plan, written))
 }
 
+/// Plans both setups' programs for a design at the default mesh
+/// tolerance, without writing or simulating anything.
+pub fn plan_design(
+    design: &Design,
+    machine: &Machine,
+    job: &Job,
+    progress: &(dyn Fn(&str) + Sync),
+) -> Result<CutPlan, JobError> {
+    let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
+    let litres = crate::volume::volume(&mesh) / 1e6;
+    let apex = match design {
+        Design::Board(b) => Some(program::apex_line(b)),
+        Design::Mesh { .. } => None,
+    };
+    Ok(program::plan(
+        design.name(),
+        litres,
+        &mesh,
+        apex.as_deref(),
+        machine,
+        job,
+        progress,
+    )?)
+}
+
 /// Names the files a fit or gate error came from.
 fn with_profiles(e: JobError, design: &Path, args: &CutArgs) -> JobError {
     match e {

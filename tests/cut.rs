@@ -8,7 +8,7 @@ use blanksmith::cam::paths::Step;
 use blanksmith::cam::profile::{self, Machine};
 use blanksmith::cam::program::{self, CutPlan, Program};
 use blanksmith::cam::setup::{self, Side};
-use blanksmith::jobs::{self, Design};
+use blanksmith::jobs;
 
 struct Case {
     plan: CutPlan,
@@ -30,20 +30,7 @@ fn case_with(file: &str, machine: Machine, job: Job) -> Case {
         .join("fixtures")
         .join(file);
     let design = jobs::load_design(&path).unwrap();
-    let Design::Board(board) = &design else {
-        panic!("a description")
-    };
-    let cert = blanksmith::certificate::certify(board, 0.01).unwrap();
-    let plan = program::plan(
-        &board.name,
-        cert.certificate.mesh_litres,
-        &cert.mesh,
-        Some(&program::apex_line(board)),
-        &machine,
-        &job,
-        &|_| {},
-    )
-    .unwrap();
+    let plan = jobs::plan_design(&design, &machine, &job, &|_| {}).unwrap();
     Case { plan, machine, job }
 }
 
