@@ -129,7 +129,10 @@ fn main() {
                 }
             }
             if let (dig, Some(q)) = worst {
-                println!("  {} step {n}: {dig:.3} mm at {q:.3?}", path.label);
+                println!(
+                    "  {} step {n} ({:?} from {at:.3?}): {dig:.3} mm at {q:.3?}",
+                    path.label, path.steps[n]
+                );
             }
             at = p;
         }

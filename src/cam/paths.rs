@@ -834,18 +834,24 @@ fn link(
         let n = (((a[0] - s[0]).powi(2) + (a[1] - s[1]).powi(2)).sqrt() / 0.5)
             .ceil()
             .max(1.0) as usize;
+        let h = |x: f64, y: f64| {
+            let f = ctx.floor(x);
+            dc.drop(x, y).map_or(f, |d| d.max(f))
+        };
+        let mut across = vec![a];
         for k in 1..n {
             let t = k as f64 / n as f64;
             let (x, y) = (a[0] + t * (s[0] - a[0]), a[1] + t * (s[1] - a[1]));
-            let f = ctx.floor(x);
-            let z = dc
-                .drop(x, y)
-                .map_or(f, |d| d.max(f))
-                .max(a[2] + t * (s[2] - a[2]));
-            steps.push(Step::Cut([x, y, z]));
+            across.push([x, y, h(x, y).max(a[2] + t * (s[2] - a[2]))]);
+        }
+        across.push(s);
+        // Each step across refined like a pass, so none digs in between.
+        let tol = ctx.job.finishing.tolerance;
+        for p in refine(&across, &h, tol / 2.0).into_iter().skip(1) {
+            steps.push(Step::Cut(p));
         }
     } else {
-        let r = ctx.job.finishing.pass.tool.cutter.radius;
+        let r = dc.cutter().radius;
         let from = last_at(steps);
         let travel = ctx.travel_z(from[0], s[0], r).max(from[2]);
         steps.push(Step::Rapid([from[0], from[1], travel]));
