@@ -128,6 +128,13 @@ impl Ctx<'_> {
         b.top_under(self.side == Side::Deck, x).0 + b.allowance()
     }
 
+    /// The tip height of `dc`'s tool resting on the part at (x, y), never
+    /// below the floor.
+    fn tip(&self, dc: &DropCutter, x: f64, y: f64) -> f64 {
+        let f = self.floor(x);
+        dc.drop(x, y).map_or(f, |d| d.max(f))
+    }
+
     /// Height for a rapid across between X `a` and X `b` with a tool of
     /// radius `r`: the clearance above the highest stock top under the
     /// tool on the way (a rockered blank's, with its allowance), never
@@ -770,8 +777,7 @@ fn finishing(ctx: &Ctx) -> (Toolpath, usize) {
                     run.clear();
                     continue;
                 }
-                let f = ctx.floor(x);
-                let z = dc.drop(x, y).map_or(f, |d| d.max(f));
+                let z = ctx.tip(&dc, x, y);
                 run.push([x, y, z]);
             }
             if run.len() > 1 {
@@ -783,10 +789,7 @@ fn finishing(ctx: &Ctx) -> (Toolpath, usize) {
                     r.reverse();
                 }
             }
-            let h = |x: f64, y: f64| {
-                let f = ctx.floor(x);
-                dc.drop(x, y).map_or(f, |d| d.max(f))
-            };
+            let h = |x: f64, y: f64| ctx.tip(&dc, x, y);
             runs.into_iter()
                 .map(|r| simplify(&refine(&r, &h, tol / 2.0), tol))
                 .collect()
@@ -834,10 +837,7 @@ fn link(
         let n = (((a[0] - s[0]).powi(2) + (a[1] - s[1]).powi(2)).sqrt() / 0.5)
             .ceil()
             .max(1.0) as usize;
-        let h = |x: f64, y: f64| {
-            let f = ctx.floor(x);
-            dc.drop(x, y).map_or(f, |d| d.max(f))
-        };
+        let h = |x: f64, y: f64| ctx.tip(dc, x, y);
         let mut across = vec![a];
         for k in 1..n {
             let t = k as f64 / n as f64;
@@ -874,7 +874,7 @@ const RAIL_BAND: f64 = 60.0;
 
 /// Z-level passes where the surface is steeper than `theta`: contours of
 /// the drop-cutter height every `dz`, each crossing found on its grid
-/// edge by bisecting the drop-cutter, each point then dropped exactly.
+/// edge from the drop-cutter itself, each point then dropped exactly.
 fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64; 3]>>, usize) {
     let r = dc.cutter().radius;
     let p = ctx.place;
@@ -894,14 +894,7 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
     let heights: Vec<f64> = nodes
         .par_iter()
         .zip(&inside_band)
-        .map(|(q, &b)| {
-            let f = ctx.floor(q[0]);
-            if b {
-                dc.drop(q[0], q[1]).map_or(f, |d| d.max(f))
-            } else {
-                f64::NAN
-            }
-        })
+        .map(|(q, &b)| if b { ctx.tip(dc, q[0], q[1]) } else { f64::NAN })
         .collect();
     let count = inside_band.iter().filter(|b| **b).count();
     let h = grid.with_values(heights.clone());
@@ -955,10 +948,7 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
             .iter()
             .any(|&(a, b)| i + a < nx && j + b < ny && steep[(j + b) * nx + i + a])
     };
-    let exact = |q: [f64; 2]| {
-        let f = ctx.floor(q[0]);
-        dc.drop(q[0], q[1]).map_or(f, |d| d.max(f))
-    };
+    let tip = |x: f64, y: f64| ctx.tip(dc, x, y);
     let runs: Vec<Vec<Vec<[f64; 3]>>> = levels
         .par_iter()
         .map(|&level| {
@@ -983,7 +973,7 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
                 let mut kept = 0i32;
                 for _ in 0..40 {
                     let m = (a - fa * (b - a) / (fb - fa)).clamp(a, b);
-                    let fm = exact(at(m)) - level;
+                    let fm = tip(at(m)[0], at(m)[1]) - level;
                     if fm.abs() <= 0.01 || b - a <= 1.0 / 1024.0 {
                         return if fm >= 0.0 { at(m) } else { at(a) };
                     }
@@ -1014,8 +1004,7 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
                         run.clear();
                         continue;
                     }
-                    let f = ctx.floor(q[0]);
-                    let zq = dc.drop(q[0], q[1]).map_or(f, |d| d.max(f));
+                    let zq = tip(q[0], q[1]);
                     run.push([q[0], q[1], zq]);
                 }
                 if run.len() > 1 {
@@ -1026,10 +1015,6 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
         })
         .collect();
     let tol = ctx.job.finishing.tolerance;
-    let h = |x: f64, y: f64| {
-        let f = ctx.floor(x);
-        dc.drop(x, y).map_or(f, |d| d.max(f))
-    };
     // Simplified, then refined again: a level's points all stand at its
     // height, so the simplification keeps only the plan's bends, and on a
     // steep wall a chord within `tol` of them in plan can still stand
@@ -1037,7 +1022,13 @@ fn waterlines(ctx: &Ctx, dc: &DropCutter, dz: f64, theta: f64) -> (Vec<Vec<[f64;
     let runs = runs
         .into_iter()
         .flatten()
-        .map(|r| refine(&simplify(&refine(&r, &h, tol / 2.0), tol), &h, tol / 2.0))
+        .map(|r| {
+            refine(
+                &simplify(&refine(&r, &tip, tol / 2.0), tol),
+                &tip,
+                tol / 2.0,
+            )
+        })
         .collect();
     (runs, count)
 }
