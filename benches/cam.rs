@@ -203,9 +203,9 @@ fn make_demo_end_to_end() -> usize {
         &jobs::Input::Demo,
         mesher::DEFAULT_TOLERANCE,
         dir.path(),
-        &cut,
+        Some(&cut),
         &|_| {},
     )
     .unwrap();
-    m.written.len()
+    m.meshed.written.len()
 }

@@ -60,14 +60,25 @@ pub enum JobError {
     /// The board does not fit, or a safety gate refused the program.
     #[error("{0}")]
     Cam(#[from] crate::cam::setup::CamError),
-    /// A file could not be written.
-    #[error("{path}: cannot write: {source}")]
-    Write {
-        /// The file.
-        path: String,
-        /// What the system said.
-        source: std::io::Error,
+    /// The files could not be put in place (nothing was changed).
+    #[error("{0}")]
+    Output(#[from] output::OutputError),
+    /// The cutting stage refused a design with these profiles.
+    #[error("{context}: {source}")]
+    Cut {
+        /// The design, job and machine.
+        context: String,
+        /// Why.
+        source: Box<JobError>,
     },
+    /// Two boards of one run share a name.
+    #[error("{0}")]
+    SameName(String),
+    /// A fault in blanksmith itself, caught so other boards go on.
+    #[error(
+        "internal error (a fault in blanksmith, not in the board; please report it with the board file): {0}"
+    )]
+    Internal(String),
 }
 
 /// Reads and inspects an STL file, welding at `weld` mm (default from its size).
@@ -113,8 +124,6 @@ pub struct Meshed {
     pub report: Report,
     /// Files written, in order.
     pub written: Vec<PathBuf>,
-    /// Estimated run time of setup 1 and setup 2, s (when programs were made).
-    pub setup_times: Option<[f64; 2]>,
 }
 
 /// STL flavour.
@@ -126,16 +135,65 @@ pub enum StlKind {
     Ascii,
 }
 
-fn write_all(files: &[(PathBuf, Vec<u8>)]) -> Result<Vec<PathBuf>, JobError> {
-    let mut written = vec![];
-    for (path, bytes) in files {
-        output::write_atomic(path, bytes).map_err(|source| JobError::Write {
-            path: path.display().to_string(),
-            source,
-        })?;
-        written.push(path.clone());
+/// Puts a command's files (all in one folder) in place as one set: all of
+/// them or none (see [`output`]). Files of the same kind for the same board
+/// that the set replaces are told by `family`; `inputs` are never written.
+fn write_all(
+    files: &[(PathBuf, Vec<u8>)],
+    family: &dyn Fn(&str) -> bool,
+    inputs: &[&Path],
+) -> Result<Vec<PathBuf>, JobError> {
+    let Some((first, _)) = files.first() else {
+        return Ok(vec![]);
+    };
+    let dir = first.parent().unwrap_or(Path::new(""));
+    let named: Vec<(String, Vec<u8>)> = files
+        .iter()
+        .map(|(p, b)| {
+            debug_assert_eq!(p.parent(), Some(dir), "one folder a set");
+            let name = p.file_name().map(|n| n.to_string_lossy().into_owned());
+            (name.unwrap_or_default(), b.clone())
+        })
+        .collect();
+    let written = output::write_set(dir, &named, family, inputs)?;
+    Ok(files
+        .iter()
+        .map(|(p, _)| p.clone())
+        .filter(|p| written.iter().any(|w| w.file_name() == p.file_name()))
+        .collect())
+}
+
+/// The files a set replaces: exactly these names.
+fn exactly(files: &[(PathBuf, Vec<u8>)]) -> impl Fn(&str) -> bool + '_ {
+    move |n: &str| files.iter().any(|(p, _)| p.file_name().is_some_and(|f| f == n))
+}
+
+/// A board's cutting outputs (programs for any tool, setup sheet,
+/// simulation report and pictures), so an earlier run's program for a tool
+/// no longer used goes with the set it belonged to.
+fn cut_family(name: &str) -> impl Fn(&str) -> bool + '_ {
+    move |n: &str| {
+        if n == format!("{name}.setup.txt") || n.strip_prefix(name).is_some_and(|r| r.starts_with(".verify.")) {
+            return true;
+        }
+        let Some(rest) = n.strip_prefix(name).and_then(|r| r.strip_prefix('-')) else {
+            return false;
+        };
+        let rest = rest
+            .strip_suffix(".deviation.svg")
+            .or_else(|| rest.strip_suffix(".nc"))
+            .unwrap_or("");
+        let mut parts = rest.split('-');
+        let setup = matches!(
+            (parts.next(), parts.next()),
+            (Some("1"), Some("deck")) | (Some("2"), Some("bottom"))
+        );
+        let tool = match parts.next() {
+            None => true,
+            Some(t) => t.strip_prefix('T').is_some_and(|d| !d.is_empty() && d.bytes().all(|b| b.is_ascii_digit())),
+        };
+        setup && tool && parts.next().is_none()
     }
-    Ok(written)
 }
 
 /// Certifies `board` and writes `<dir>/<name>.stl` and
@@ -146,16 +204,18 @@ pub fn mesh_to(
     dir: &Path,
     kind: StlKind,
     table: bool,
+    inputs: &[&Path],
 ) -> Result<Meshed, JobError> {
+    crate::mesher::check_tolerance(tolerance)?;
+    output::ready(dir)?;
     let certified = certificate::certify(&board, tolerance)?;
     let (report, files) = mesh_files(&board, &certified, dir, kind, table);
-    let written = write_all(&files)?;
+    let written = write_all(&files, &exactly(&files), inputs)?;
     Ok(Meshed {
         board,
         certified,
         report,
         written,
-        setup_times: None,
     })
 }
 
@@ -168,7 +228,10 @@ fn mesh_files(
     table: bool,
 ) -> (Report, Files) {
     let stl_path = dir.join(format!("{}.stl", board.name));
-    let report = Report::new(board, certified, Some(stl_path.display().to_string()));
+    // The report names its STL by file name: the two sit in one folder and
+    // move together, and the report is the same whatever folder it is in.
+    let stl_name = format!("{}.stl", board.name);
+    let report = Report::new(board, certified, Some(stl_name));
     let mut stl_bytes = Vec::new();
     let header = format!("blanksmith {} mm", board.name);
     match kind {
@@ -208,22 +271,77 @@ pub fn certify_only(board: Board, tolerance: f64) -> Result<Meshed, JobError> {
         certified,
         report,
         written: vec![],
-        setup_times: None,
     })
 }
 
+/// What became of `make`'s cutting stage.
+#[derive(Debug)]
+pub enum Cutting {
+    /// Not asked for.
+    Skipped,
+    /// Programs written; estimated run time of setup 1 and setup 2, s.
+    Done([f64; 2]),
+    /// Planning or a gate refused: the design's files were written, no
+    /// programs.
+    Failed(JobError),
+}
+
+/// A board made: its certified mesh and what became of the cutting.
+pub struct Made {
+    /// The board, its mesh and report, and every file written.
+    pub meshed: Meshed,
+    /// The cutting stage.
+    pub cutting: Cutting,
+}
+
+impl Made {
+    /// Why the run is not a full success, if it is not: the volume not
+    /// certified, or no programs.
+    pub fn shortfall(&self) -> Option<String> {
+        if !self.meshed.report.certified {
+            return Some("volume NOT certified".into());
+        }
+        match &self.cutting {
+            Cutting::Failed(e) if e.is_misfit() => Some("no programs: does not fit".into()),
+            Cutting::Failed(_) => Some("no programs: cutting refused".into()),
+            _ => None,
+        }
+    }
+}
+
+impl JobError {
+    /// The board does not fit the stock or the machine.
+    pub fn is_misfit(&self) -> bool {
+        match self {
+            JobError::Cam(crate::cam::setup::CamError::Fit(_)) => true,
+            JobError::Cut { source, .. } => source.is_misfit(),
+            _ => false,
+        }
+    }
+}
+
+/// The file that marks a folder as a board's made folder (it is replaced
+/// whole by the next `make` of that board, and only then).
+fn board_marker(name: &str) -> String {
+    format!("{name}.report.json")
+}
+
 /// The main job for one board: everything into `<out>/<name>/`: the
-/// certified mesh (STL and reports) and the full-size templates on A4,
-/// all computed before any file is written.
+/// certified mesh (STL and reports), the full-size templates on A4, the
+/// programs and their simulation (unless `cut` is `None`), and the page;
+/// all computed before any file is written, and the folder replaced whole.
+/// A cutting stage that fails leaves the design's files and the reason.
 pub fn make(
     input: &Input,
     tolerance: f64,
     out: &Path,
-    cut: &CutArgs,
+    cut: Option<&CutArgs>,
     progress: &(dyn Fn(&str) + Sync),
-) -> Result<Meshed, JobError> {
-    let (machine, job) = cut_profiles(cut)?;
+) -> Result<Made, JobError> {
+    let profiles = cut.map(cut_profiles).transpose()?;
     let board = load(input)?;
+    crate::mesher::check_tolerance(tolerance)?;
+    output::ready(out)?;
     let dir = out.join(&board.name);
     let certified = certificate::certify(&board, tolerance)?;
     let (report, mut files) = mesh_files(&board, &certified, &dir, StlKind::Binary, true);
@@ -238,33 +356,56 @@ pub fn make(
         &dir,
     )?;
     files.extend(template_files);
-    let (plan, verification, cut_files) = cut_files(
-        &design,
-        &certified.mesh,
-        certified.certificate.mesh_litres,
-        &machine,
-        &job,
-        &dir,
-        progress,
-    )
-    .map_err(|e| {
-        let name = match input {
-            Input::File(p) => p.clone(),
-            Input::Demo => PathBuf::from(demo::DEMO_NAME),
+    let source = match input {
+        Input::File(p) => p.clone(),
+        Input::Demo => PathBuf::from(demo::DEMO_NAME),
+    };
+    let cutting = match (cut, &profiles) {
+        (Some(args), Some((machine, job))) => {
+            let litres = certified.certificate.mesh_litres;
+            cut_files(&design, &certified.mesh, litres, machine, job, &dir, progress)
+                .map_err(|e| Some(with_profiles(e, &source, args)))
+        }
+        _ => Err(None),
+    };
+    let page = {
+        let section = match &cutting {
+            Ok((plan, verification, cut_files)) => {
+                files.extend(cut_files.iter().cloned());
+                crate::page::CutSection::Done { plan, verification }
+            }
+            Err(None) => crate::page::CutSection::Skipped,
+            Err(Some(e)) => crate::page::CutSection::Failed(e.to_string()),
         };
-        with_profiles(e, &name, cut)
-    })?;
-    files.extend(cut_files);
-    let page = board_page(&report, &plan, &verification, &files, &dir);
+        board_page(&report, section, &files, &dir)
+    };
     files.push((dir.join("index.html"), page.into_bytes()));
-    let written = write_all(&files)?;
-    let times = setup_times(&plan);
-    Ok(Meshed {
-        board,
-        certified,
-        report,
-        written,
-        setup_times: Some(times),
+    let named: Vec<(String, Vec<u8>)> = files
+        .into_iter()
+        .map(|(p, b)| {
+            let rel = p.strip_prefix(&dir).unwrap_or(&p).display().to_string();
+            (rel, b)
+        })
+        .collect();
+    let inputs: Vec<&Path> = [Some(source.as_path())]
+        .into_iter()
+        .chain(cut.iter().flat_map(|a| [a.machine.as_deref(), a.job.as_deref()]))
+        .flatten()
+        .collect();
+    let written = output::write_folder(&dir, &named, &board_marker(&board.name), &inputs)?;
+    let cutting = match cutting {
+        Ok((plan, _, _)) => Cutting::Done(setup_times(&plan)),
+        Err(None) => Cutting::Skipped,
+        Err(Some(e)) => Cutting::Failed(e),
+    };
+    Ok(Made {
+        meshed: Meshed {
+            board,
+            certified,
+            report,
+            written,
+        },
+        cutting,
     })
 }
 
@@ -279,8 +420,7 @@ fn setup_times(plan: &CutPlan) -> [f64; 2] {
 /// The board's report page from the files about to be written.
 fn board_page(
     report: &Report,
-    plan: &CutPlan,
-    verification: &Verification,
+    cut: crate::page::CutSection,
     files: &Files,
     dir: &Path,
 ) -> String {
@@ -309,46 +449,82 @@ fn board_page(
         .iter()
         .filter_map(|(p, _)| p.strip_prefix(dir).ok().map(|q| q.display().to_string()))
         .collect();
+    names.push("index.html".into());
     names.sort();
     crate::page::board_page(&crate::page::BoardPage {
         report,
         templates,
-        plan,
-        verification,
+        cut,
         deviations,
         files: names,
     })
 }
 
+/// Two inputs of one run that would make the same folder.
+fn duplicate_names(inputs: &[Input], boards: &[Result<Board, DescriptionError>]) -> Option<String> {
+    for (j, b) in boards.iter().enumerate() {
+        let Ok(b) = b else { continue };
+        for (i, a) in boards[..j].iter().enumerate() {
+            if let Ok(a) = a
+                && a.name == b.name
+            {
+                let show = |k: usize| match &inputs[k] {
+                    Input::File(p) => p.display().to_string(),
+                    Input::Demo => demo::DEMO_NAME.to_string(),
+                };
+                return Some(format!(
+                    "{} and {} both describe a board named `{}`: their files would go into one folder and one would be lost; nothing was made (give each board its own `name:`, or list a file once)",
+                    show(i),
+                    show(j),
+                    a.name
+                ));
+            }
+        }
+    }
+    None
+}
+
 /// `make` for many boards at once, in parallel: each board in its own
-/// folder, a failure not stopping the others; then `out/index.html`
-/// listing them all. `progress(k, stage)` reports board `k`'s stage.
+/// folder, a failure (even a fault in the program) not stopping the
+/// others; then `out/index.html` listing them all. Two boards with one
+/// name are refused before any work. `progress(k, stage)` reports board
+/// `k`'s stage.
 pub fn make_many(
     inputs: &[Input],
     tolerance: f64,
     out: &Path,
-    cut: &CutArgs,
+    cut: Option<&CutArgs>,
     progress: &(dyn Fn(usize, &str) + Sync),
-) -> (Vec<Result<Meshed, JobError>>, Result<PathBuf, JobError>) {
+) -> Result<(Vec<Result<Made, JobError>>, PathBuf), JobError> {
     use rayon::prelude::*;
-    let results: Vec<Result<Meshed, JobError>> = inputs
+    let boards: Vec<Result<Board, DescriptionError>> = inputs.iter().map(load).collect();
+    if let Some(why) = duplicate_names(inputs, &boards) {
+        return Err(JobError::SameName(why));
+    }
+    cut.map(cut_profiles).transpose()?;
+    output::ready(out)?;
+    let results: Vec<Result<Made, JobError>> = inputs
         .par_iter()
         .enumerate()
-        .map(|(k, input)| make(input, tolerance, out, cut, &|s| progress(k, s)))
+        .map(|(k, input)| {
+            std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                make(input, tolerance, out, cut, &|s| progress(k, s))
+            }))
+            .unwrap_or_else(|p| Err(JobError::Internal(panic_text(&p))))
+        })
         .collect();
     let rows: Vec<crate::page::Row> = inputs
         .iter()
         .zip(&results)
         .map(|(input, r)| match r {
             Ok(m) => crate::page::Row {
-                name: m.board.name.clone(),
-                litres: Some(m.report.volume_litres),
-                times: m.setup_times,
-                verdict: if m.report.certified {
-                    "done".into()
-                } else {
-                    "volume not certified".into()
+                name: m.meshed.board.name.clone(),
+                litres: Some(m.meshed.report.volume_litres),
+                times: match m.cutting {
+                    Cutting::Done(t) => Some(t),
+                    _ => None,
                 },
+                verdict: m.shortfall().unwrap_or_else(|| "done".into()),
             },
             Err(e) => crate::page::Row {
                 name: match input {
@@ -363,13 +539,21 @@ pub fn make_many(
         .collect();
     let index = out.join("index.html");
     let page = crate::page::run_page(&rows);
-    let written = output::write_atomic(&index, page.as_bytes())
-        .map(|_| index.clone())
-        .map_err(|source| JobError::Write {
-            path: index.display().to_string(),
-            source,
-        });
-    (results, written)
+    output::write_set(
+        out,
+        &[("index.html".to_string(), page.into_bytes())],
+        &|n| n == "index.html",
+        &[],
+    )?;
+    Ok((results, index))
+}
+
+/// The message a panic carried.
+fn panic_text(p: &Box<dyn std::any::Any + Send>) -> String {
+    p.downcast_ref::<&str>()
+        .map(|s| s.to_string())
+        .or_else(|| p.downcast_ref::<String>().cloned())
+        .unwrap_or_else(|| "no message".into())
 }
 
 /// Machine and job for the cutting stage: files, or the shipped machine
@@ -455,7 +639,11 @@ pub fn cut(
     let litres = crate::volume::volume(&mesh) / 1e6;
     let (plan, _, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
         .map_err(|e| with_profiles(e, path, args))?;
-    let written = write_all(&files)?;
+    let inputs: Vec<&Path> = [Some(path), args.machine.as_deref(), args.job.as_deref()]
+        .into_iter()
+        .flatten()
+        .collect();
+    let written = write_all(&files, &cut_family(design.name()), &inputs)?;
     Ok((plan, written))
 }
 
@@ -498,10 +686,10 @@ fn with_profiles(e: JobError, design: &Path, args: &CutArgs) -> JobError {
                 .map_or("the shipped machine".to_string(), |p| {
                     p.display().to_string()
                 });
-            JobError::Option(format!(
-                "{}: with {job} on {machine}: {c}",
-                design.display()
-            ))
+            JobError::Cut {
+                context: format!("{}: with {job} on {machine}", design.display()),
+                source: Box::new(JobError::Cam(c)),
+            }
         }
         other => other,
     }
@@ -691,7 +879,13 @@ pub fn slice(
             contours::csv(&set).into_bytes(),
         ));
     }
-    let written = write_all(&files)?;
+    // Waterlines from an earlier run go with the set they belonged to.
+    let family = |n: &str| {
+        ["sections", "waterlines"]
+            .iter()
+            .any(|k| n == format!("{name}.{k}.svg") || n == format!("{name}.{k}.csv"))
+    };
+    let written = write_all(&files, &family, &[])?;
     Ok(Sliced {
         sections,
         section_at,
@@ -724,7 +918,8 @@ pub fn compare(
     let title = format!("{} against {}", c.name(), d.name());
     let svg = crate::compare::deviation_svg(&title, &dm, &deviation);
     let path = dir.join(format!("{}-vs-{}.deviation.svg", c.name(), d.name()));
-    let written = write_all(&[(path, svg.into_bytes())])?;
+    let files = [(path, svg.into_bytes())];
+    let written = write_all(&files, &exactly(&files), &[design, cut])?;
     Ok((comparison, written))
 }
 
@@ -901,7 +1096,8 @@ pub fn resize(
         &crate::overlay::profile(&new_board.name, &new_cert.mesh, 200),
     );
     let svg_path = dest.with_extension("overlay.svg");
-    let written = write_all(&[(dest, yaml.into_bytes()), (svg_path, overlay.into_bytes())])?;
+    let files = [(dest, yaml.into_bytes()), (svg_path, overlay.into_bytes())];
+    let written = write_all(&files, &exactly(&files), &[path])?;
     Ok(ResizeOutcome {
         old,
         new,
@@ -977,10 +1173,11 @@ pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
         &crate::overlay::profile(&names[0], &meshes[0], 200),
         &crate::overlay::profile(&names[1], &meshes[1], 200),
     );
-    let written = write_all(&[(
+    let files = [(
         dir.join(format!("{}-vs-{}.overlay.svg", names[1], names[0])),
         svg.into_bytes(),
-    )])?;
+    )];
+    let written = write_all(&files, &exactly(&files), &[a, b])?;
     Ok(Diff {
         names,
         rows,
@@ -1022,7 +1219,7 @@ pub fn templates(
     };
     let (drawings, pages, files) =
         template_files(design, &mesh, report.as_ref(), paper, only, stations, dir)?;
-    let written = write_all(&files)?;
+    let written = write_all(&files, &exactly(&files), &[])?;
     Ok(Templates {
         pages,
         drawings,
@@ -1370,7 +1567,14 @@ pub fn verify_programs(
         let name = design
             .as_ref()
             .map_or("programs".to_string(), |d| d.name().to_string());
-        written = write_all(&verification_files(&v, &name, dir))?;
+        let files = verification_files(&v, &name, dir);
+        let inputs: Vec<&Path> = args
+            .programs
+            .iter()
+            .map(PathBuf::as_path)
+            .chain([Some(args.machine.as_path()), args.job.as_deref(), args.design.as_deref()].into_iter().flatten())
+            .collect();
+        written = write_all(&files, &exactly(&files), &inputs)?;
     }
     Ok((v, written))
 }

@@ -7,6 +7,29 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
+/// Standard output, written as a whole each time: a reader that stops early
+/// (`blanksmith report | head`) ends the run quietly instead of a panic.
+fn emit(text: &str) {
+    use std::io::Write as _;
+    let mut out = std::io::stdout().lock();
+    if let Err(e) = out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        if e.kind() == std::io::ErrorKind::BrokenPipe {
+            std::process::exit(0);
+        }
+        eprintln!("blanksmith: error: standard output: {e}");
+        std::process::exit(2);
+    }
+}
+
+macro_rules! say {
+    ($($t:tt)*) => { emit(&format!($($t)*)) };
+}
+
+macro_rules! sayln {
+    () => { emit("\n") };
+    ($($t:tt)*) => { emit(&(format!($($t)*) + "\n")) };
+}
+
 use blanksmith::contours;
 use blanksmith::description::values::parse_position;
 use blanksmith::jobs::{self, Input, JobError, Meshed, StlKind};
@@ -195,6 +218,10 @@ enum Command {
         /// Job profile (YAML); every default when left out.
         #[arg(long)]
         job: Option<PathBuf>,
+        /// Make the shape's files only (STL, reports, templates, page): no
+        /// router programs.
+        #[arg(long)]
+        no_cut: bool,
         /// No progress display.
         #[arg(long)]
         quiet: bool,
@@ -264,9 +291,9 @@ enum Command {
 }
 
 fn finish(m: &Meshed, print_table: bool) -> ExitCode {
-    print!("{}", m.report.summary());
+    say!("{}", m.report.summary());
     if print_table {
-        print!("{}", m.report.table());
+        say!("{}", m.report.table());
     }
     for p in &m.written {
         let what = if p.extension().is_some_and(|e| e == "stl") {
@@ -274,7 +301,7 @@ fn finish(m: &Meshed, print_table: bool) -> ExitCode {
         } else {
             ""
         };
-        println!("wrote {}{what}", p.display());
+        sayln!("wrote {}{what}", p.display());
     }
     if m.report.certified {
         ExitCode::SUCCESS
@@ -515,13 +542,13 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             tolerance,
             ascii,
         } => {
-            let b = jobs::load(&Input::File(board))?;
+            let b = jobs::load(&Input::File(board.clone()))?;
             let kind = if ascii {
                 StlKind::Ascii
             } else {
                 StlKind::Binary
             };
-            let m = jobs::mesh_to(b, tolerance, &out, kind, false)?;
+            let m = jobs::mesh_to(b, tolerance, &out, kind, false, &[board.as_path()])?;
             Ok(finish(&m, false))
         }
         Command::Report {
@@ -532,7 +559,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             let b = jobs::load(&Input::File(board))?;
             let m = jobs::certify_only(b, tolerance)?;
             if json {
-                print!("{}", m.report.to_json());
+                say!("{}", m.report.to_json());
                 Ok(if m.report.certified {
                     ExitCode::SUCCESS
                 } else {
@@ -545,9 +572,9 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
         Command::Check { mesh, json, weld } => {
             let inspection = jobs::check(&mesh, weld)?;
             if json {
-                print!("{}", inspection.to_json());
+                say!("{}", inspection.to_json());
             } else {
-                print!("{}", inspection.text(&mesh.display().to_string()));
+                say!("{}", inspection.text(&mesh.display().to_string()));
             }
             Ok(if inspection.is_clean() {
                 ExitCode::SUCCESS
@@ -580,10 +607,10 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 .zip(&r.section_at)
                 .chain(r.waterlines.iter().zip(&r.waterline_at))
             {
-                println!("{}", contours::describe(s, *q));
+                sayln!("{}", contours::describe(s, *q));
             }
             for p in &r.written {
-                println!("wrote {}", p.display());
+                sayln!("wrote {}", p.display());
             }
             Ok(ExitCode::SUCCESS)
         }
@@ -596,14 +623,14 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
         } => {
             let (c, written) = jobs::compare(&design, &cut, align, &out)?;
             if json {
-                println!(
+                sayln!(
                     "{}",
                     serde_json::to_string_pretty(&c).expect("serialisable")
                 );
             } else {
-                print!("{}", comparison_text(&c));
+                say!("{}", comparison_text(&c));
                 for p in &written {
-                    println!("wrote {}", p.display());
+                    sayln!("wrote {}", p.display());
                 }
             }
             Ok(ExitCode::SUCCESS)
@@ -635,12 +662,12 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 name,
             };
             let r = jobs::resize(&board, &args, out.as_deref())?;
-            print!("{}", resize_text(&r));
+            say!("{}", resize_text(&r));
             Ok(ExitCode::SUCCESS)
         }
         Command::Diff { a, b, out } => {
             let d = jobs::diff(&a, &b, &out)?;
-            print!("{}", diff_text(&d));
+            say!("{}", diff_text(&d));
             Ok(ExitCode::SUCCESS)
         }
         Command::Templates {
@@ -662,16 +689,16 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 .filter(|s| !s.is_empty())
                 .collect();
             let t = jobs::templates(&d, paper, &only, &xs, &out)?;
-            println!(
+            sayln!(
                 "{} templates on {} pages of {}",
                 t.drawings.len(),
                 t.pages,
                 paper.name
             );
             for p in &t.written {
-                println!("wrote {}", p.display());
+                sayln!("wrote {}", p.display());
             }
-            println!(
+            sayln!(
                 "print at 100 % (actual size) and measure the calibration bars before cutting"
             );
             Ok(ExitCode::SUCCESS)
@@ -682,9 +709,11 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             tolerance,
             machine,
             job,
+            no_cut,
             quiet,
         } => {
-            let cut = jobs::CutArgs { machine, job };
+            let args = jobs::CutArgs { machine, job };
+            let cut = (!no_cut).then_some(&args);
             if boards.len() <= 1 {
                 let input = boards
                     .into_iter()
@@ -692,13 +721,31 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                     .map(Input::File)
                     .unwrap_or(Input::Demo);
                 let bar = progress(quiet);
-                let m = jobs::make(&input, tolerance, &out, &cut, &|s| {
+                let m = jobs::make(&input, tolerance, &out, cut, &|s| {
                     bar.set_message(s.to_string())
                 });
                 bar.finish_and_clear();
-                return Ok(finish(&m?, false));
+                let m = m?;
+                let code = finish(&m.meshed, false);
+                return Ok(match &m.cutting {
+                    jobs::Cutting::Failed(e) => {
+                        eprintln!(
+                            "blanksmith: no router programs (the shape's files are written): {e}"
+                        );
+                        if code == ExitCode::SUCCESS {
+                            ExitCode::from(1)
+                        } else {
+                            code
+                        }
+                    }
+                    jobs::Cutting::Skipped => {
+                        sayln!("cutting skipped (--no-cut): no router programs");
+                        code
+                    }
+                    jobs::Cutting::Done(_) => code,
+                });
             }
-            make_many(boards, tolerance, &out, &cut, quiet)
+            make_many(boards, tolerance, &out, cut, quiet)
         }
         Command::Verify {
             programs,
@@ -731,11 +778,11 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             bar.finish_and_clear();
             let (v, written) = result?;
             if json {
-                print!("{}", v.to_json());
+                say!("{}", v.to_json());
             } else {
-                print!("{}", v.text());
+                say!("{}", v.text());
                 for p in &written {
-                    println!("wrote {}", p.display());
+                    sayln!("wrote {}", p.display());
                 }
             }
             Ok(if v.has_findings() {
@@ -760,10 +807,10 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             bar.finish_and_clear();
             let (plan, written) = result?;
             for l in plan.placement.fit_lines() {
-                println!("{l}");
+                sayln!("{l}");
             }
             for p in &plan.programs {
-                println!(
+                sayln!(
                     "{}: {}, {}, about {}",
                     p.file_name,
                     p.tool.describe(),
@@ -772,21 +819,22 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 );
             }
             for p in &written {
-                println!("wrote {}", p.display());
+                sayln!("wrote {}", p.display());
             }
-            println!("read the setup sheet and the cautions in each program before cutting");
+            sayln!("read the setup sheet and the cautions in each program before cutting");
             Ok(ExitCode::SUCCESS)
         }
     }
 }
 
 /// `make` for a day's orders: one spinner per board, a summary table at
-/// the end, exit 2 if any board failed (1 if one is not certified).
+/// the end; exit 2 if any board failed, else 1 if one is not certified or
+/// has no programs.
 fn make_many(
     boards: Vec<PathBuf>,
     tolerance: f64,
     out: &std::path::Path,
-    cut: &jobs::CutArgs,
+    cut: Option<&jobs::CutArgs>,
     quiet: bool,
 ) -> Result<ExitCode, JobError> {
     let multi = indicatif::MultiProgress::new();
@@ -807,47 +855,46 @@ fn make_many(
         })
         .collect();
     let inputs: Vec<Input> = boards.iter().cloned().map(Input::File).collect();
-    let (results, index) = jobs::make_many(&inputs, tolerance, out, cut, &|k, s| {
+    let result = jobs::make_many(&inputs, tolerance, out, cut, &|k, s| {
         bars[k].set_message(s.to_string())
     });
     for b in &bars {
         b.finish_and_clear();
     }
-    println!(
+    let (results, index) = result?;
+    sayln!(
         "{:<40} {:>9} {:>6} {:>16} {:>16}  verdict",
         "board", "litres", "fits", "setup 1", "setup 2"
     );
-    let mut code = ExitCode::SUCCESS;
+    let mut short = false;
     let mut failed = 0;
     for (path, r) in boards.iter().zip(&results) {
         match r {
             Ok(m) => {
-                let [t1, t2] = m.setup_times.unwrap_or([0.0; 2]);
-                let verdict = if m.report.certified {
-                    "done"
-                } else {
-                    "volume NOT certified"
+                let (fits, [t1, t2]) = match &m.cutting {
+                    jobs::Cutting::Done(t) => ("yes", t.map(blanksmith::cam::program::duration)),
+                    jobs::Cutting::Skipped => ("—", ["—".to_string(), "—".to_string()]),
+                    jobs::Cutting::Failed(e) => {
+                        eprintln!("blanksmith: {}: no router programs: {e}", path.display());
+                        (if e.is_misfit() { "no" } else { "—" }, ["—".to_string(), "—".to_string()])
+                    }
                 };
-                if !m.report.certified && failed == 0 {
-                    code = ExitCode::from(1);
-                }
-                println!(
-                    "{:<40} {:>7.2} L {:>6} {:>16} {:>16}  {verdict}",
-                    m.board.name,
-                    m.report.volume_litres,
-                    "yes",
-                    blanksmith::cam::program::duration(t1),
-                    blanksmith::cam::program::duration(t2)
+                let verdict = m.shortfall();
+                short |= verdict.is_some();
+                sayln!(
+                    "{:<40} {:>7.2} L {:>6} {:>16} {:>16}  {}",
+                    m.meshed.board.name,
+                    m.meshed.report.volume_litres,
+                    fits,
+                    t1,
+                    t2,
+                    verdict.as_deref().unwrap_or("done")
                 );
             }
             Err(e) => {
                 failed += 1;
-                let fits = if e.to_string().contains("does not fit") {
-                    "no"
-                } else {
-                    "—"
-                };
-                println!(
+                let fits = if e.is_misfit() { "no" } else { "—" };
+                sayln!(
                     "{:<40} {:>9} {:>6} {:>16} {:>16}  failed",
                     path.display(),
                     "—",
@@ -859,15 +906,16 @@ fn make_many(
             }
         }
     }
-    match index {
-        Ok(p) => println!("wrote {}", p.display()),
-        Err(e) => eprintln!("blanksmith: error: {e}"),
-    }
+    sayln!("wrote {}", index.display());
     if failed > 0 {
         eprintln!("blanksmith: {failed} of {} boards failed", boards.len());
-        code = ExitCode::from(2);
+        return Ok(ExitCode::from(2));
     }
-    Ok(code)
+    Ok(if short {
+        ExitCode::from(1)
+    } else {
+        ExitCode::SUCCESS
+    })
 }
 
 /// A spinner with the stage being worked on, on standard error; hidden

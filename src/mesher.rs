@@ -444,7 +444,8 @@ impl Sampling {
     }
 }
 
-fn check_tolerance(tolerance: f64) -> Result<(), MeshError> {
+/// Refuses a chord tolerance outside the accepted range (or NaN).
+pub fn check_tolerance(tolerance: f64) -> Result<(), MeshError> {
     if (MIN_TOLERANCE..=MAX_TOLERANCE).contains(&tolerance) {
         Ok(())
     } else {

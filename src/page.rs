@@ -134,14 +134,27 @@ pub struct BoardPage<'a> {
     pub report: &'a Report,
     /// Template SVGs (title, text).
     pub templates: Vec<(&'a str, &'a str)>,
-    /// The cutting plan.
-    pub plan: &'a CutPlan,
-    /// Its verification.
-    pub verification: &'a Verification,
+    /// The cutting stage: programs and their simulation, or why there are none.
+    pub cut: CutSection<'a>,
     /// Deviation SVGs per setup.
     pub deviations: Vec<&'a str>,
     /// Every file of the board's folder (names relative to it).
     pub files: Vec<String>,
+}
+
+/// What the page says of the cutting stage.
+pub enum CutSection<'a> {
+    /// Programs were made and simulated.
+    Done {
+        /// The cutting plan.
+        plan: &'a CutPlan,
+        /// Its verification.
+        verification: &'a Verification,
+    },
+    /// Cutting was not asked for.
+    Skipped,
+    /// Cutting failed: the reason, in full.
+    Failed(String),
 }
 
 /// The board's `index.html`.
@@ -189,45 +202,59 @@ pub fn board_page(p: &BoardPage) -> String {
     for (title, svg) in &p.templates {
         let _ = write!(s, "<h2>{}</h2>{}", esc(title), inline_svg(svg));
     }
-    s.push_str("<h2>Fit in the stock</h2><ul>");
-    for l in p.plan.placement.fit_lines() {
-        let _ = write!(s, "<li>{}</li>", esc(&l));
+    match &p.cut {
+        CutSection::Done { plan, verification } => {
+            s.push_str("<h2>Fit in the stock</h2><ul>");
+            for l in plan.placement.fit_lines() {
+                let _ = write!(s, "<li>{}</li>", esc(&l));
+            }
+            s.push_str("</ul><h2>Toolpaths</h2>");
+            for (k, name) in [
+                "Setup 1: deck up",
+                "Setup 2: bottom up (drawn as seen in setup 1)",
+            ]
+            .iter()
+            .enumerate()
+            {
+                let _ = write!(s, "<h3>{name}</h3>{}", toolpath_svg(plan, k));
+            }
+            s.push_str("<p>Black: registration holes; orange: roughing; red: outline; blue: finishing (every 4th move).</p><table><tr><th class=\"l\">program</th><th class=\"l\">tool</th><th class=\"l\">cuts</th><th>time</th></tr>");
+            for pr in &plan.programs {
+                let _ = write!(
+                    s,
+                    "<tr><td class=\"l\"><a href=\"{0}\">{0}</a></td><td class=\"l\">{1}</td><td class=\"l\">{2}</td><td>{3}</td></tr>",
+                    esc(&pr.file_name),
+                    esc(&pr.tool.describe()),
+                    pr.labels.join(", "),
+                    program::duration(pr.time_s)
+                );
+            }
+            s.push_str("</table><h2>Simulation</h2>");
+            let _ = write!(
+                s,
+                "<pre id=\"verification\">{}</pre>",
+                esc(&verification.text())
+            );
+            for d in &p.deviations {
+                s.push_str(&inline_svg(d));
+            }
+            let _ = write!(
+                s,
+                "<h2>Setup sheet</h2><div class=\"caution\">The machine maker's manual, your shop rules and local codes come first.</div><pre>{}</pre>",
+                esc(&plan.sheet)
+            );
+        }
+        CutSection::Skipped => {
+            s.push_str("<h2>Cutting</h2><p>Not asked for: no router programs were made (<code>--no-cut</code>).</p>");
+        }
+        CutSection::Failed(why) => {
+            let _ = write!(
+                s,
+                "<h2>Cutting</h2><div class=\"caution\">No router programs: the cutting stage failed. The shape's files above are complete.</div><pre id=\"cut-failure\">{}</pre>",
+                esc(why)
+            );
+        }
     }
-    s.push_str("</ul><h2>Toolpaths</h2>");
-    for (k, name) in [
-        "Setup 1: deck up",
-        "Setup 2: bottom up (drawn as seen in setup 1)",
-    ]
-    .iter()
-    .enumerate()
-    {
-        let _ = write!(s, "<h3>{name}</h3>{}", toolpath_svg(p.plan, k));
-    }
-    s.push_str("<p>Black: registration holes; orange: roughing; red: outline; blue: finishing (every 4th move).</p><table><tr><th class=\"l\">program</th><th class=\"l\">tool</th><th class=\"l\">cuts</th><th>time</th></tr>");
-    for pr in &p.plan.programs {
-        let _ = write!(
-            s,
-            "<tr><td class=\"l\"><a href=\"{0}\">{0}</a></td><td class=\"l\">{1}</td><td class=\"l\">{2}</td><td>{3}</td></tr>",
-            esc(&pr.file_name),
-            esc(&pr.tool.describe()),
-            pr.labels.join(", "),
-            program::duration(pr.time_s)
-        );
-    }
-    s.push_str("</table><h2>Simulation</h2>");
-    let _ = write!(
-        s,
-        "<pre id=\"verification\">{}</pre>",
-        esc(&p.verification.text())
-    );
-    for d in &p.deviations {
-        s.push_str(&inline_svg(d));
-    }
-    let _ = write!(
-        s,
-        "<h2>Setup sheet</h2><div class=\"caution\">The machine maker's manual, your shop rules and local codes come first.</div><pre>{}</pre>",
-        esc(&p.plan.sheet)
-    );
     s.push_str("<h2>Files</h2><ul>");
     for f in &p.files {
         let _ = write!(s, "<li><a href=\"{0}\">{0}</a></li>", esc(f));
