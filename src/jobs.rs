@@ -71,6 +71,14 @@ pub enum JobError {
         /// Why.
         source: Box<JobError>,
     },
+    /// An STL cannot serve as a design.
+    #[error("{0}")]
+    MeshDesign(String),
+    /// The resized board breaks a rule of the description.
+    #[error(
+        "the board resized as asked breaks a rule of a description, so nothing was written; ask for a smaller change:\n{0}"
+    )]
+    Resize(Box<DescriptionError>),
     /// Two boards of one run share a name.
     #[error("{0}")]
     SameName(String),
@@ -165,7 +173,11 @@ fn write_all(
 
 /// The files a set replaces: exactly these names.
 fn exactly(files: &[(PathBuf, Vec<u8>)]) -> impl Fn(&str) -> bool + '_ {
-    move |n: &str| files.iter().any(|(p, _)| p.file_name().is_some_and(|f| f == n))
+    move |n: &str| {
+        files
+            .iter()
+            .any(|(p, _)| p.file_name().is_some_and(|f| f == n))
+    }
 }
 
 /// A board's cutting outputs (programs for any tool, setup sheet,
@@ -173,7 +185,10 @@ fn exactly(files: &[(PathBuf, Vec<u8>)]) -> impl Fn(&str) -> bool + '_ {
 /// no longer used goes with the set it belonged to.
 fn cut_family(name: &str) -> impl Fn(&str) -> bool + '_ {
     move |n: &str| {
-        if n == format!("{name}.setup.txt") || n.strip_prefix(name).is_some_and(|r| r.starts_with(".verify.")) {
+        if n == format!("{name}.setup.txt")
+            || n.strip_prefix(name)
+                .is_some_and(|r| r.starts_with(".verify."))
+        {
             return true;
         }
         let Some(rest) = n.strip_prefix(name).and_then(|r| r.strip_prefix('-')) else {
@@ -190,7 +205,9 @@ fn cut_family(name: &str) -> impl Fn(&str) -> bool + '_ {
         );
         let tool = match parts.next() {
             None => true,
-            Some(t) => t.strip_prefix('T').is_some_and(|d| !d.is_empty() && d.bytes().all(|b| b.is_ascii_digit())),
+            Some(t) => t
+                .strip_prefix('T')
+                .is_some_and(|d| !d.is_empty() && d.bytes().all(|b| b.is_ascii_digit())),
         };
         setup && tool && parts.next().is_none()
     }
@@ -363,8 +380,16 @@ pub fn make(
     let cutting = match (cut, &profiles) {
         (Some(args), Some((machine, job))) => {
             let litres = certified.certificate.mesh_litres;
-            cut_files(&design, &certified.mesh, litres, machine, job, &dir, progress)
-                .map_err(|e| Some(with_profiles(e, &source, args)))
+            cut_files(
+                &design,
+                &certified.mesh,
+                litres,
+                machine,
+                job,
+                &dir,
+                progress,
+            )
+            .map_err(|e| Some(with_profiles(e, &source, args)))
         }
         _ => Err(None),
     };
@@ -389,7 +414,10 @@ pub fn make(
         .collect();
     let inputs: Vec<&Path> = [Some(source.as_path())]
         .into_iter()
-        .chain(cut.iter().flat_map(|a| [a.machine.as_deref(), a.job.as_deref()]))
+        .chain(
+            cut.iter()
+                .flat_map(|a| [a.machine.as_deref(), a.job.as_deref()]),
+        )
         .flatten()
         .collect();
     let written = output::write_folder(&dir, &named, &board_marker(&board.name), &inputs)?;
@@ -418,12 +446,7 @@ fn setup_times(plan: &CutPlan) -> [f64; 2] {
 }
 
 /// The board's report page from the files about to be written.
-fn board_page(
-    report: &Report,
-    cut: crate::page::CutSection,
-    files: &Files,
-    dir: &Path,
-) -> String {
+fn board_page(report: &Report, cut: crate::page::CutSection, files: &Files, dir: &Path) -> String {
     let text = |suffix: &str| -> Option<&str> {
         files
             .iter()
@@ -746,10 +769,24 @@ pub fn load_design(path: &Path) -> Result<Design, JobError> {
             .iter()
             .map(|f| format!("{} {}", f.count, f.kind.replace('_', " ")))
             .collect();
-        return Err(JobError::Option(format!(
+        return Err(JobError::MeshDesign(format!(
             "{}: not a clean closed solid ({}); run `blanksmith check` on it for where",
             path.display(),
             kinds.join(", ")
+        )));
+    }
+    // Every later stage sizes its grids from the design: bound it first.
+    let max = crate::description::MAX_LENGTH;
+    if let Some((lo, hi)) = welded.mesh.bounding_box()
+        && let Some((axis, size)) = ["X", "Y", "Z"]
+            .into_iter()
+            .zip((0..3).map(|k| hi[k] - lo[k]))
+            .find(|&(_, d)| !(d <= max))
+    {
+        return Err(JobError::MeshDesign(format!(
+            "{}: the solid is {} in {axis}; a design may be at most {max} mm (20') in any direction. An STL is read as millimetres: is this file in another unit?",
+            path.display(),
+            crate::units::Both(size)
         )));
     }
     let name: String = path
@@ -1082,7 +1119,11 @@ pub fn resize(
     );
     let yaml = description::write::to_yaml(&new_board, unit, &comment);
     // The file must read back as the same shape before it is written.
-    let back = description::board_from_str(&yaml, &dest.display().to_string())?;
+    let back = description::board_from_str(
+        &yaml,
+        &format!("{} (the resized board, not written)", dest.display()),
+    )
+    .map_err(|e| JobError::Resize(Box::new(e)))?;
     let back_litres = crate::integrals::profile(&back).volume() * 1e-6;
     if (back_litres - new.volume_litres_surface).abs() > 1e-6 {
         return Err(JobError::Option(format!(
@@ -1572,7 +1613,15 @@ pub fn verify_programs(
             .programs
             .iter()
             .map(PathBuf::as_path)
-            .chain([Some(args.machine.as_path()), args.job.as_deref(), args.design.as_deref()].into_iter().flatten())
+            .chain(
+                [
+                    Some(args.machine.as_path()),
+                    args.job.as_deref(),
+                    args.design.as_deref(),
+                ]
+                .into_iter()
+                .flatten(),
+            )
             .collect();
         written = write_all(&files, &exactly(&files), &inputs)?;
     }

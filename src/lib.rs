@@ -14,7 +14,8 @@
 //! - [`certificate`]: the two volumes and the error estimate, compared.
 //! - [`stl`]: STL output.
 //! - [`report`]: measurement tables and the JSON report.
-//! - [`output`]: atomic file writes.
+//! - [`input`]: input files read with a bound.
+//! - [`output`]: output sets written whole or not at all.
 //! - [`jobs`]: the commands' work, without the command line.
 //! - [`demo`]: the built-in demo board.
 
@@ -27,6 +28,7 @@ pub mod curve;
 pub mod demo;
 pub mod description;
 pub mod gcode;
+pub mod input;
 pub mod inspect;
 pub mod integrals;
 pub mod jobs;

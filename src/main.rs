@@ -698,9 +698,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             for p in &t.written {
                 sayln!("wrote {}", p.display());
             }
-            sayln!(
-                "print at 100 % (actual size) and measure the calibration bars before cutting"
-            );
+            sayln!("print at 100 % (actual size) and measure the calibration bars before cutting");
             Ok(ExitCode::SUCCESS)
         }
         Command::Make {
@@ -864,7 +862,11 @@ fn make_many(
     let (results, index) = result?;
     sayln!(
         "{:<40} {:>9} {:>6} {:>16} {:>16}  verdict",
-        "board", "litres", "fits", "setup 1", "setup 2"
+        "board",
+        "litres",
+        "fits",
+        "setup 1",
+        "setup 2"
     );
     let mut short = false;
     let mut failed = 0;
@@ -876,7 +878,10 @@ fn make_many(
                     jobs::Cutting::Skipped => ("—", ["—".to_string(), "—".to_string()]),
                     jobs::Cutting::Failed(e) => {
                         eprintln!("blanksmith: {}: no router programs: {e}", path.display());
-                        (if e.is_misfit() { "no" } else { "—" }, ["—".to_string(), "—".to_string()])
+                        (
+                            if e.is_misfit() { "no" } else { "—" },
+                            ["—".to_string(), "—".to_string()],
+                        )
                     }
                 };
                 let verdict = m.shortfall();

@@ -76,7 +76,9 @@ fn stage_name() -> String {
 
 /// The process id in a staging folder's name, if the name is one.
 fn stage_pid(name: &str) -> Option<u32> {
-    let rest = name.strip_prefix(STAGE_PREFIX)?.strip_suffix(STAGE_SUFFIX)?;
+    let rest = name
+        .strip_prefix(STAGE_PREFIX)?
+        .strip_suffix(STAGE_SUFFIX)?;
     rest.split('-').next()?.parse().ok()
 }
 
@@ -119,8 +121,9 @@ pub fn ready(dir: &Path) -> Result<(), OutputError> {
     if !base.is_dir() {
         return Err(OutputError::InTheWay {
             path: base.display().to_string(),
-            why: "is a file, so the output folder cannot be made here; choose another folder with -o"
-                .into(),
+            why:
+                "is a file, so the output folder cannot be made here; choose another folder with -o"
+                    .into(),
         });
     }
     let probe = base.join(stage_name());
@@ -217,6 +220,11 @@ pub fn write_set(
     family: &dyn Fn(&str) -> bool,
     inputs: &[&Path],
 ) -> Result<Vec<PathBuf>, OutputError> {
+    let dir = if dir.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        dir
+    };
     ready(dir)?;
     let mut names = BTreeSet::new();
     for (name, _) in files {
@@ -475,7 +483,12 @@ mod tests {
         fs::write(d.join("b.stl"), "user's").unwrap();
         fs::create_dir(d.join("b.report.json")).unwrap();
         let fam = |_: &str| true;
-        let e = write_set(d, &set(&[("b.stl", "new"), ("b.report.json", "{}")]), &fam, &[]);
+        let e = write_set(
+            d,
+            &set(&[("b.stl", "new"), ("b.report.json", "{}")]),
+            &fam,
+            &[],
+        );
         assert!(matches!(e, Err(OutputError::InTheWay { .. })), "{e:?}");
         assert_eq!(fs::read(d.join("b.stl")).unwrap(), b"user's");
         assert_eq!(names(d), ["b.report.json", "b.stl"]);
@@ -518,8 +531,13 @@ mod tests {
     fn a_board_folder_is_swapped_whole() {
         let dir = tempfile::tempdir().unwrap();
         let b = dir.path().join("out").join("board");
-        write_folder(&b, &set(&[("board.json", "1"), ("old.nc", "1")]), "board.json", &[])
-            .unwrap();
+        write_folder(
+            &b,
+            &set(&[("board.json", "1"), ("old.nc", "1")]),
+            "board.json",
+            &[],
+        )
+        .unwrap();
         write_folder(&b, &set(&[("board.json", "2")]), "board.json", &[]).unwrap();
         assert_eq!(names(&b), ["board.json"]);
         assert_eq!(names(&dir.path().join("out")), ["board"]);

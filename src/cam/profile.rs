@@ -791,13 +791,11 @@ pub fn generic_machine() -> Machine {
 
 pub(crate) fn read_text(path: &Path) -> Result<(String, String), DescriptionError> {
     let file = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| DescriptionError::Io {
-        file: file.clone(),
-        message: e.to_string(),
-    })?;
-    let text = String::from_utf8(bytes).map_err(|e| DescriptionError::Io {
-        file: file.clone(),
-        message: format!("not UTF-8 text (byte {})", e.utf8_error().valid_up_to()),
+    let text = crate::input::read_text(path, crate::input::TEXT_LIMIT).map_err(|message| {
+        DescriptionError::Io {
+            file: file.clone(),
+            message,
+        }
     })?;
     Ok((text, file))
 }

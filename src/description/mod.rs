@@ -17,7 +17,7 @@ use serde_saphyr::Spanned;
 
 use crate::board::{Board, ContourKind, TailShape};
 use crate::units::Unit;
-pub use resolve::resolve;
+pub use resolve::{MAX_LENGTH, MIN_LENGTH, resolve};
 use values::{Blend, LengthValue, Position};
 
 /// A board description file, field for field.
@@ -369,9 +369,11 @@ pub fn board_from_str(text: &str, file: &str) -> Result<Board, DescriptionError>
 /// Reads and resolves a description file.
 pub fn load(path: &Path) -> Result<Board, DescriptionError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| DescriptionError::Io {
-        file: file.clone(),
-        message: e.to_string(),
+    let text = crate::input::read_text(path, crate::input::TEXT_LIMIT).map_err(|message| {
+        DescriptionError::Io {
+            file: file.clone(),
+            message,
+        }
     })?;
     board_from_str(&text, &file)
 }

@@ -1044,9 +1044,12 @@ fn check_sections(cx: &Ctx, raw: &BoardFile, board: &Board) -> Res<()> {
         let st = board.station(x);
         let below_apex = st.apex * st.rail_band();
         let lift = st.contour_lift();
-        if lift >= below_apex - 0.5 {
+        // Only a contour can carry the bottom across the rail; a board thin
+        // here with a flat bottom has nothing to cross (its thickness has
+        // its own rules).
+        if lift > 0.0 && lift >= below_apex - 0.5 {
             // Blame the zone that lifts the bottom most here.
-            let (i, z) = raw
+            let Some((i, z)) = raw
                 .bottom
                 .iter()
                 .enumerate()
@@ -1057,7 +1060,13 @@ fn check_sections(cx: &Ctx, raw: &BoardFile, board: &Board) -> Res<()> {
                     let d = |z: &super::ZoneSpec| z.depth.as_ref().map(|d| cx.mm(d)).unwrap_or(0.0);
                     d(a.1).total_cmp(&d(b.1))
                 })
-                .expect("a lifting contour is active here");
+                .or_else(|| {
+                    let mut zones = raw.bottom.iter().enumerate();
+                    zones.find(|(_, z)| z.contour.value != ContourKind::Flat)
+                })
+            else {
+                continue;
+            };
             let at = z
                 .depth
                 .as_ref()

@@ -61,6 +61,10 @@ pub enum StlError {
     Io(String),
 }
 
+/// Largest ASCII STL read, bytes (at about 260 bytes a facet, some two
+/// million triangles; a binary file is read in chunks and has no such bound).
+pub const ASCII_LIMIT: u64 = 512 << 20;
+
 /// Reads STL from bytes.
 pub fn read(bytes: &[u8]) -> Result<Soup, StlError> {
     let len = bytes.len() as u64;
@@ -103,36 +107,73 @@ pub fn read_file(path: &Path) -> Result<Soup, StlError> {
     use std::io::Read;
     let io = |e: std::io::Error| StlError::Io(e.to_string());
     let mut file = std::fs::File::open(path).map_err(io)?;
-    let len = file.metadata().map_err(io)?.len();
-    let mut head = [0u8; 84];
-    if len >= 84 {
-        file.read_exact(&mut head).map_err(io)?;
+    let meta = file.metadata().map_err(io)?;
+    if meta.is_dir() {
+        return Err(StlError::Io("is a folder, not a file".into()));
+    }
+    // The size is known for a regular file; a device or pipe is read
+    // only as far as its first bytes show it to be text.
+    let len = meta.is_file().then_some(meta.len());
+    let mut head = Vec::with_capacity(84);
+    (&mut file).take(84).read_to_end(&mut head).map_err(io)?;
+    if head.len() == 84 && !looks_ascii(&head) {
         let claimed = u32::from_le_bytes(head[80..84].try_into().expect("4 bytes"));
-        if 84 + 50 * claimed as u64 == len {
-            if claimed as usize > MAX_TRIANGLES {
-                return Err(StlError::TooLarge {
-                    count: claimed as u64,
-                    limit: MAX_TRIANGLES,
-                });
-            }
-            let mut triangles = Vec::with_capacity(claimed as usize);
-            let mut chunk = vec![0u8; 50 * 20_000];
-            let mut left = claimed as usize;
-            while left > 0 {
-                let n = left.min(20_000);
-                file.read_exact(&mut chunk[..50 * n]).map_err(io)?;
-                parse_facets(&chunk[..50 * n], triangles.len(), &mut triangles)?;
-                left -= n;
-            }
-            return Ok(Soup {
-                triangles,
-                format: StlFormat::Binary,
+        let needed = 84 + 50 * claimed as u64;
+        let Some(len) = len else {
+            return Err(StlError::NotStl(
+                "not a regular file, and not ASCII STL (which starts with `solid`)".into(),
+            ));
+        };
+        if needed > len {
+            return Err(StlError::Truncated {
+                claimed,
+                needed,
+                len,
             });
         }
+        if needed < len {
+            return Err(StlError::ExtraBytes {
+                claimed,
+                extra: len - needed,
+            });
+        }
+        if claimed as usize > MAX_TRIANGLES {
+            return Err(StlError::TooLarge {
+                count: claimed as u64,
+                limit: MAX_TRIANGLES,
+            });
+        }
+        let mut triangles = Vec::with_capacity(claimed as usize);
+        let mut chunk = vec![0u8; 50 * 20_000];
+        let mut left = claimed as usize;
+        while left > 0 {
+            let n = left.min(20_000);
+            file.read_exact(&mut chunk[..50 * n]).map_err(io)?;
+            parse_facets(&chunk[..50 * n], triangles.len(), &mut triangles)?;
+            left -= n;
+        }
+        return Ok(Soup {
+            triangles,
+            format: StlFormat::Binary,
+        });
     }
-    // Anything else is small enough, or malformed enough, to read whole.
-    let mut bytes = head[..(len.min(84) as usize)].to_vec();
-    file.read_to_end(&mut bytes).map_err(io)?;
+    // Text (or too short for binary): read whole, up to a bound.
+    if let Some(len) = len
+        && len > ASCII_LIMIT
+    {
+        return Err(StlError::Io(format!(
+            "the file is {len} bytes; ASCII STL is read up to {ASCII_LIMIT} bytes (about 2 million triangles): save it as binary STL"
+        )));
+    }
+    let mut bytes = head;
+    file.take(ASCII_LIMIT + 1 - bytes.len() as u64)
+        .read_to_end(&mut bytes)
+        .map_err(io)?;
+    if bytes.len() as u64 > ASCII_LIMIT {
+        return Err(StlError::Io(format!(
+            "the file runs past {ASCII_LIMIT} bytes, the most read of ASCII STL (about 2 million triangles): save it as binary STL"
+        )));
+    }
     read(&bytes)
 }
 
@@ -154,13 +195,18 @@ fn parse_facets(bytes: &[u8], first: usize, out: &mut Vec<[[f32; 3]; 3]>) -> Res
 }
 
 fn looks_ascii(bytes: &[u8]) -> bool {
+    let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
     let start = bytes
         .iter()
         .position(|b| !b.is_ascii_whitespace())
         .unwrap_or(bytes.len());
     let head = &bytes[start..bytes.len().min(start + 5)];
+    // Text cut short inside a character at the end of the sample is text.
     head.eq_ignore_ascii_case(b"solid")
-        && std::str::from_utf8(&bytes[..bytes.len().min(4096)]).is_ok()
+        && match std::str::from_utf8(&bytes[..bytes.len().min(4096)]) {
+            Ok(_) => true,
+            Err(e) => e.error_len().is_none(),
+        }
 }
 
 fn read_binary(bytes: &[u8], count: u32) -> Result<Soup, StlError> {
@@ -266,6 +312,14 @@ fn read_ascii(bytes: &[u8]) -> Result<Soup, StlError> {
             .count(),
         message: "not text (invalid UTF-8); is this a damaged binary STL?".to_string(),
     })?;
+    // A byte-order mark, and lines ended by CR alone (old Mac editors), are
+    // text all the same.
+    let text = text.strip_prefix('\u{FEFF}').unwrap_or(text);
+    let text: std::borrow::Cow<str> = if text.contains('\r') {
+        text.replace("\r\n", "\n").replace('\r', "\n").into()
+    } else {
+        text.into()
+    };
     let mut lines = Lines {
         lines: text.lines().enumerate(),
         line: 0,
