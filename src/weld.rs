@@ -76,32 +76,16 @@ pub fn weld_with_edges(soup: &[[[f32; 3]; 3]], tolerance: f64) -> (Welded, EdgeT
         let open = table.open_vertices();
         if open.len() > 1 {
             let pts: Vec<[f64; 3]> = open.iter().map(|&v| mesh.vertices[v as usize]).collect();
-            let tree: ImmutableKdTree<f64, 3> =
-                ImmutableKdTree::new_from_slice(&pts).expect("finite points");
-            let r2 = tolerance * tolerance;
-            let near: Vec<Vec<u32>> = pts
-                .par_iter()
-                .map(|p| {
-                    let found = tree
-                        .query(p)
-                        .within::<SquaredEuclidean<f64>>(r2)
-                        .unsorted()
-                        .execute();
-                    found.iter().map(|f| f.item).collect()
-                })
-                .collect();
             // Union-find over the open vertices; the lowest vertex id stands for each group.
             let mut parent: Vec<u32> = (0..mesh.vertices.len() as u32).collect();
-            for (i, group) in near.iter().enumerate() {
-                for &j in group {
-                    let (a, b) = (
-                        find(&mut parent, open[i]),
-                        find(&mut parent, open[j as usize]),
-                    );
-                    if a != b {
-                        parent[a.max(b) as usize] = a.min(b);
-                        near_merges += 1;
-                    }
+            for (i, j) in near_pairs(&pts, tolerance) {
+                let (a, b) = (
+                    find(&mut parent, open[i as usize]),
+                    find(&mut parent, open[j as usize]),
+                );
+                if a != b {
+                    parent[a.max(b) as usize] = a.min(b);
+                    near_merges += 1;
                 }
             }
             if near_merges > 0 {
@@ -122,6 +106,79 @@ pub fn weld_with_edges(soup: &[[[f32; 3]; 3]], tolerance: f64) -> (Welded, EdgeT
         tolerance,
     };
     (welded, table)
+}
+
+/// Pairs of points within `r` of each other, enough of them that their
+/// connected groups are those of every such pair, in O(n log n): points
+/// are binned in cubes whose diagonal is `r`, so the points of one cube
+/// are all within `r` (each joined to its cube's first); two neighbouring
+/// cubes are joined by one pair found within `r`, if any, searching the
+/// smaller cube's points in a k-d tree of the larger. A crowd of
+/// near-duplicates (thousands of points within `r` of one another) costs
+/// one pass, not the square of its size.
+fn near_pairs(pts: &[[f64; 3]], r: f64) -> Vec<(u32, u32)> {
+    use rustc_hash::FxHashMap;
+    let reach = pts.iter().flatten().fold(0.0f64, |m, v| m.max(v.abs()));
+    // Below a billionth of the coordinates' size no two distinct f32
+    // points (about 1e-7 apart relatively) are within reach: the exact
+    // weld has done all there is, and the cube numbers stay in range.
+    if !(r > 1e-9 * reach) {
+        return vec![];
+    }
+    let side = r / 3f64.sqrt() * (1.0 - 1e-12);
+    let cube = |p: &[f64; 3]| p.map(|v| (v / side).floor() as i64);
+    let mut cubes: FxHashMap<[i64; 3], Vec<u32>> = FxHashMap::default();
+    for (i, p) in pts.iter().enumerate() {
+        cubes.entry(cube(p)).or_default().push(i as u32);
+    }
+    let mut keys: Vec<[i64; 3]> = cubes.keys().copied().collect();
+    keys.sort_unstable();
+    let mut pairs = vec![];
+    for members in keys.iter().map(|k| &cubes[k]) {
+        pairs.extend(members[1..].iter().map(|&j| (members[0], j)));
+    }
+    let r2 = r * r;
+    let mut trees: FxHashMap<[i64; 3], ImmutableKdTree<f64, 3>> = FxHashMap::default();
+    // Cubes up to two steps apart can hold points within r (2 · side < r).
+    for k in &keys {
+        for d in (0..125).map(|n| [n / 25 - 2, n / 5 % 5 - 2, n % 5 - 2]) {
+            let o = [k[0] + d[0], k[1] + d[1], k[2] + d[2]];
+            if o <= *k {
+                continue;
+            }
+            let (Some(a), Some(b)) = (cubes.get(k), cubes.get(&o)) else {
+                continue;
+            };
+            let (small, (large, lkey)) = if a.len() <= b.len() {
+                (a, (b, o))
+            } else {
+                (b, (a, *k))
+            };
+            let d2 = |i: u32, j: u32| {
+                let (p, q) = (pts[i as usize], pts[j as usize]);
+                (0..3).map(|c| (p[c] - q[c]).powi(2)).sum::<f64>()
+            };
+            let hit = if small.len() * large.len() <= 1024 {
+                small
+                    .iter()
+                    .find_map(|&i| large.iter().find(|&&j| d2(i, j) <= r2).map(|&j| (i, j)))
+            } else {
+                let tree = trees.entry(lkey).or_insert_with(|| {
+                    let lp: Vec<[f64; 3]> = large.iter().map(|&j| pts[j as usize]).collect();
+                    ImmutableKdTree::new_from_slice(&lp).expect("finite points")
+                });
+                small.iter().find_map(|&i| {
+                    let n = tree
+                        .query(&pts[i as usize])
+                        .nearest_one::<SquaredEuclidean<f64>>()
+                        .execute();
+                    (n.distance <= r2).then(|| (i, large[n.item as usize]))
+                })
+            };
+            pairs.extend(hit);
+        }
+    }
+    pairs
 }
 
 /// Exact welding: every corner's coordinate bits sorted (in parallel), so
@@ -189,5 +246,46 @@ mod tests {
         assert_eq!((exact.mesh.vertices.len(), exact.exact_merges), (5, 1));
         let w = weld(&soup, 1e-3);
         assert_eq!((w.mesh.vertices.len(), w.near_merges), (4, 1));
+    }
+
+    /// The groups are those of every pair within reach, checked against
+    /// all pairs by brute force (the definition) on random clusters.
+    #[test]
+    fn near_pairs_join_what_all_pairs_join() {
+        let mut seed = 7u64;
+        let mut rnd = || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (seed >> 11) as f64 / (1u64 << 53) as f64
+        };
+        for r in [0.01, 0.05, 0.2] {
+            let pts: Vec<[f64; 3]> = (0..600)
+                .map(|i| {
+                    let c = (i % 7) as f64 * 0.3;
+                    [c + 0.2 * rnd(), 0.2 * rnd(), 0.1 * rnd()]
+                })
+                .collect();
+            let groups = |pairs: &[(u32, u32)]| {
+                let mut parent: Vec<u32> = (0..pts.len() as u32).collect();
+                for &(i, j) in pairs {
+                    let (a, b) = (find(&mut parent, i), find(&mut parent, j));
+                    parent[a.max(b) as usize] = a.min(b);
+                }
+                (0..pts.len() as u32)
+                    .map(|i| find(&mut parent, i))
+                    .collect::<Vec<_>>()
+            };
+            let mut all = vec![];
+            for i in 0..pts.len() {
+                for j in i + 1..pts.len() {
+                    let d2: f64 = (0..3).map(|c| (pts[i][c] - pts[j][c]).powi(2)).sum();
+                    if d2 <= r * r {
+                        all.push((i as u32, j as u32));
+                    }
+                }
+            }
+            assert_eq!(groups(&near_pairs(&pts, r)), groups(&all), "r = {r}");
+        }
     }
 }
