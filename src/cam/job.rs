@@ -15,6 +15,16 @@ use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::units::Unit;
 
+/// Smallest stepdown accepted, mm: below it the levels only multiply the
+/// run time (and a typo such as 0.001 would never finish).
+pub const MIN_STEPDOWN: f64 = 0.5;
+
+/// Smallest stepover accepted for a tool of diameter `d` mm: 2 % of it, and
+/// 0.2 mm, for the same reason.
+pub fn min_stepover(d: f64) -> f64 {
+    (0.02 * d).max(0.2)
+}
+
 /// The stock: a flat foam block, or a pre-rockered blank.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Block {
@@ -402,12 +412,12 @@ impl JobReader<'_> {
         let stepdown = match &spec.stepdown {
             Some(v) => {
                 let x = v.value.0.to_mm(self.r.unit);
-                if !(x > 0.0 && x <= tool.max_stepdown) {
+                if !(x >= MIN_STEPDOWN && x <= tool.max_stepdown) {
                     return self.r.fail(
                         &v.referenced,
                         &f("stepdown"),
-                        format!("is {}; T{} allows at most {} a pass", mm_text(x), tool.id, mm_text(tool.max_stepdown)),
-                        "lower the stepdown, or check the tool's max_stepdown in the machine profile",
+                        format!("is {}; it must be at least {} (finer levels only multiply the run time) and T{} allows at most {} a pass", mm_text(x), mm_text(MIN_STEPDOWN), tool.id, mm_text(tool.max_stepdown)),
+                        "e.g. 10 mm for roughing foam; check the tool's max_stepdown in the machine profile",
                     );
                 }
                 x
@@ -420,11 +430,12 @@ impl JobReader<'_> {
                     StepoverValue::Length(l) => l.0.to_mm(self.r.unit),
                     StepoverValue::Share(s) => s * d,
                 };
-                if !(x > 0.0 && x <= 0.5 * d) {
+                let least = min_stepover(d);
+                if !(x >= least && x <= 0.5 * d) {
                     return self.r.fail(
                         &v.referenced,
                         &f("stepover"),
-                        format!("is {}; it must be more than 0 and at most half the tool diameter ({}), so no pass cuts full width", mm_text(x), mm_text(0.5 * d)),
+                        format!("is {}; it must be at least {} (2 % of the tool diameter, and 0.2 mm: finer passes only multiply the run time) and at most half the tool diameter ({}), so no pass cuts full width", mm_text(x), mm_text(least), mm_text(0.5 * d)),
                         "e.g. 40% or 50%",
                     );
                 }

@@ -468,9 +468,9 @@ impl Reader<'_> {
             field,
             format!(
                 "is {}; it must be at least {} and at most {}",
-                mm_text(x),
-                mm_text(lo),
-                mm_text(hi)
+                units::exact(x),
+                units::exact(lo),
+                units::exact(hi)
             ),
             hint,
         )

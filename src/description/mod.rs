@@ -329,6 +329,17 @@ pub fn read_yaml<T: serde::de::DeserializeOwned>(
     text: &str,
     file: &str,
 ) -> Result<T, DescriptionError> {
+    if let Some((line, column, word)) = radix_number(text) {
+        let rendered = format!(
+            "{file}:{line}:{column}: `{word}` is a number in another base (hexadecimal, octal or binary), which YAML reads as a whole number; write measurements in decimal or as shops do, e.g. 26 or 1 5/8\n"
+        );
+        return Err(DescriptionError::Yaml {
+            file: file.to_string(),
+            line,
+            column,
+            rendered,
+        });
+    }
     let mut options = serde_saphyr::Options::default();
     options.strict_booleans = true;
     serde_saphyr::from_str_with_options::<T>(text, options).map_err(|e| {
@@ -346,6 +357,7 @@ pub fn read_yaml<T: serde::de::DeserializeOwned>(
             Some(i) => &first[i + marker.len()..],
             None => first.trim_start_matches("error: "),
         };
+        let message = plain_words(message);
         let rendered = if line > 0 {
             format!("{file}:{line}:{column}: {message}\n{rest}")
         } else {
@@ -358,6 +370,65 @@ pub fn read_yaml<T: serde::de::DeserializeOwned>(
             rendered,
         }
     })
+}
+
+/// The YAML reader's messages that speak of its own settings, in the
+/// user's words; any other message is kept as it is.
+fn plain_words(message: &str) -> String {
+    if let Some(rest) = message.strip_prefix("duplicate mapping key: ") {
+        let key = rest.split(',').next().unwrap_or(rest).trim();
+        return format!("`{key}` is given twice here; give each field once");
+    }
+    if message.contains("multiple YAML documents") {
+        return "the file holds more than one YAML document (a `---` line); keep one board a file".into();
+    }
+    if message.contains("budget breached") {
+        return "the file is larger or more deeply nested than any description of this kind; is it the right file?".into();
+    }
+    if message.contains("rejected by the configured policy") || message.contains("alias") {
+        return "anchors and aliases (`&name`, `*name`) are not used in these files; write each value out".into();
+    }
+    if let Some(kind) = ["u8", "u16", "u32", "u64", "usize"]
+        .iter()
+        .find(|k| message.starts_with(&format!("invalid {k}")))
+    {
+        let _ = kind;
+        return "expected a whole number, 0 or more".into();
+    }
+    message.to_string()
+}
+
+/// Plain numbers in bases other than ten (`0x1A`, `0o17`, `0b101`), which
+/// YAML reads as integers: a length written so is surely a slip.
+fn radix_number(text: &str) -> Option<(u64, u64, String)> {
+    for (i, line) in text.lines().enumerate() {
+        let code = match line.find(" #") {
+            Some(k) => &line[..k],
+            None if line.trim_start().starts_with('#') => "",
+            None => line,
+        };
+        let mut start = None;
+        for (k, c) in code.char_indices().chain([(code.len(), ' ')]) {
+            let delimiter = c.is_whitespace() || ":,[]{}".contains(c);
+            match (start, delimiter) {
+                (None, false) => start = Some(k),
+                (Some(s), true) => {
+                    let word = code[s..k].trim_start_matches(['+', '-']);
+                    let b = word.as_bytes();
+                    if b.len() > 2
+                        && b[0] == b'0'
+                        && matches!(b[1], b'x' | b'X' | b'o' | b'O' | b'b' | b'B')
+                        && b[2..].iter().all(|c| c.is_ascii_hexdigit() || *c == b'_')
+                    {
+                        return Some((i as u64 + 1, s as u64 + 1, code[s..k].to_string()));
+                    }
+                    start = None;
+                }
+                _ => {}
+            }
+        }
+    }
+    None
 }
 
 /// Reads and resolves a description from its text.

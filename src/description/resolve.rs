@@ -60,17 +60,17 @@ impl Ctx<'_> {
         hint: &str,
     ) -> Res<f64> {
         let x = self.mm(v);
-        let ok = if zero_ok { x >= lo } else { x > lo } && x < hi;
+        let ok = if zero_ok { x >= lo } else { x > lo } && x <= hi;
         if !ok {
             let lower = if zero_ok { "at least" } else { "more than" };
             return self.fail(
                 &v.referenced,
                 field,
                 format!(
-                    "is {}; it must be {lower} {} and less than {}",
-                    show(x),
-                    show(lo),
-                    show(hi)
+                    "is {}; it must be {lower} {} and at most {}",
+                    units::exact(x),
+                    units::exact(lo),
+                    units::exact(hi)
                 ),
                 hint,
             );
@@ -168,7 +168,7 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
         "outline.length",
         MIN_LENGTH,
         MAX_LENGTH,
-        false,
+        true,
         "give the flat (projected) length, e.g. 6'2\" or 1880mm",
     )?;
     let l = cx.length;
