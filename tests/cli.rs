@@ -193,6 +193,41 @@ fn report_prints_json_and_writes_nothing() {
 
 /// Each bad file, the field its message must name, and words it must say.
 const BAD: &[(&str, &str, &str)] = &[
+    (
+        "field-twice.yaml",
+        ":14:3:",
+        "`nose` is given twice here; give each field once",
+    ),
+    (
+        "hex-number.yaml",
+        ":20:9:",
+        "`0x1A` is a number in another base",
+    ),
+    (
+        "latin1-notes.yaml",
+        "line 5, column 21",
+        "byte 0xB0 is not UTF-8 text",
+    ),
+    (
+        "length-overflows.yaml",
+        "outline.length",
+        "a number too large to be a length; it must be at least 300 mm",
+    ),
+    (
+        "tail-end-station-disagrees.yaml",
+        "outline.stations[2].width",
+        "at the tail's end, where the square tail makes the board 400.0 mm",
+    ),
+    (
+        "two-documents.yaml",
+        ":41:1:",
+        "more than one YAML document",
+    ),
+    (
+        "zero-width-stations.yaml",
+        "outline.stations",
+        "every station has zero width",
+    ),
     ("bad-fraction.yaml", ":26:9:", "is not a length"),
     ("bad-name.yaml", "name:", "not a usable name"),
     ("bad-unit.yaml", ":7:11:", "`6 furlongs` is not a length"),

@@ -380,7 +380,8 @@ fn plain_words(message: &str) -> String {
         return format!("`{key}` is given twice here; give each field once");
     }
     if message.contains("multiple YAML documents") {
-        return "the file holds more than one YAML document (a `---` line); keep one board a file".into();
+        return "the file holds more than one YAML document (a `---` line); keep one board a file"
+            .into();
     }
     if message.contains("budget breached") {
         return "the file is larger or more deeply nested than any description of this kind; is it the right file?".into();

@@ -605,8 +605,31 @@ fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
         }
         if pts.last().unwrap().0 < x_end {
             pts.push((x_end, end_half));
+        } else if let (Some(&(_, w)), Some(s)) = (pts.last(), o.stations.last())
+            && (w - end_half).abs() > 0.005
+        {
+            // The tail's end is set by the tail shape (its block): a station
+            // there must agree, or one of the two would be silently ignored.
+            return cx.fail(
+                &s.width.referenced,
+                &format!("outline.stations[{}].width", o.stations.len() - 1),
+                format!(
+                    "is {} at the tail's end, where the {name} tail makes the board {} wide (outline.tail_block)",
+                    show(2.0 * w),
+                    show(2.0 * end_half)
+                ),
+                "leave the tail's end out of the table (the tail shape closes it), or make the two agree",
+            );
         }
         let max = pts.iter().map(|p| p.1).fold(0.0, f64::max);
+        if max <= 0.0 {
+            return cx.fail(
+                &o.stations[0].width.referenced,
+                "outline.stations",
+                "every station has zero width: the board would have no plan shape",
+                "give the full width at each station, e.g. 19 1/2 at the wide point",
+            );
+        }
         let interior: Vec<usize> = (1..pts.len() - 1).filter(|&i| pts[i].1 == max).collect();
         let Some(&iw) = interior.iter().min_by(|&&a, &&b| {
             (pts[a].0 - 0.5 * l)
@@ -1076,7 +1099,7 @@ fn check_sections(cx: &Ctx, raw: &BoardFile, board: &Board) -> Res<()> {
                 &at,
                 &format!("bottom[{i}].depth"),
                 format!(
-                    "{} from the nose the contours lift the bottom {:.1} mm, but the rail reaches only {:.1} mm below its apex there: the bottom would cross the rail",
+                    "{} from the nose the contours lift the bottom {:.2} mm, but the rail reaches only {:.2} mm below its apex there: the bottom would cross the rail",
                     show(x),
                     lift,
                     below_apex
