@@ -288,7 +288,7 @@ const BAD: &[(&str, &str, &str)] = &[
     (
         "zero-thickness.yaml",
         "thickness.max",
-        "must be more than 0.0 mm",
+        "must be more than 0 mm",
     ),
 ];
 
