@@ -781,7 +781,7 @@ pub fn load_design(path: &Path) -> Result<Design, JobError> {
         && let Some((axis, size)) = ["X", "Y", "Z"]
             .into_iter()
             .zip((0..3).map(|k| hi[k] - lo[k]))
-            .find(|&(_, d)| !(d <= max))
+            .find(|&(_, d)| d.is_nan() || d > max)
     {
         return Err(JobError::MeshDesign(format!(
             "{}: the solid is {} in {axis}; a design may be at most {max} mm (20') in any direction. An STL is read as millimetres: is this file in another unit?",

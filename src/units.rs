@@ -255,6 +255,18 @@ impl fmt::Display for Both {
     }
 }
 
+/// A length as a limit is quoted: millimetres with every digit that
+/// matters (up to a millionth), then inches, e.g. `300 mm (11 13/16")`;
+/// a value too large to hold says so instead of printing `inf`.
+pub fn exact(mm: f64) -> String {
+    if !mm.is_finite() {
+        return "a number too large to be a length".into();
+    }
+    let r = (mm * 1e6).round() / 1e6;
+    let r = if r == 0.0 { 0.0 } else { r };
+    format!("{r} mm ({})", inches(mm))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -350,16 +362,4 @@ mod tests {
             );
         }
     }
-}
-
-/// A length as a limit is quoted: millimetres with every digit that
-/// matters (up to a millionth), then inches, e.g. `300 mm (11 13/16")`;
-/// a value too large to hold says so instead of printing `inf`.
-pub fn exact(mm: f64) -> String {
-    if !mm.is_finite() {
-        return "a number too large to be a length".into();
-    }
-    let r = (mm * 1e6).round() / 1e6;
-    let r = if r == 0.0 { 0.0 } else { r };
-    format!("{r} mm ({})", inches(mm))
 }

@@ -122,7 +122,7 @@ fn near_pairs(pts: &[[f64; 3]], r: f64) -> Vec<(u32, u32)> {
     // Below a billionth of the coordinates' size no two distinct f32
     // points (about 1e-7 apart relatively) are within reach: the exact
     // weld has done all there is, and the cube numbers stay in range.
-    if !(r > 1e-9 * reach) {
+    if r.is_nan() || r <= 1e-9 * reach {
         return vec![];
     }
     let side = r / 3f64.sqrt() * (1.0 - 1e-12);
