@@ -264,7 +264,13 @@ pub fn exact(mm: f64) -> String {
     }
     let r = (mm * 1e6).round() / 1e6;
     let r = if r == 0.0 { 0.0 } else { r };
-    format!("{r} mm ({})", inches(mm))
+    // Below 1/16 in the fraction would read 0": decimal inches instead.
+    let inch = if r != 0.0 && mm.abs() < 25.4 / 16.0 {
+        format!("{:.4}\"", mm / 25.4)
+    } else {
+        inches(mm)
+    };
+    format!("{r} mm ({inch})")
 }
 
 #[cfg(test)]

@@ -604,7 +604,12 @@ const BAD_PROFILES: &[(&str, &str, &str)] = &[
     (
         "machine/negative-travel.yaml",
         ":6:13: travel.x",
-        "must be more than 0.00 mm",
+        "must be more than 0 mm",
+    ),
+    (
+        "machine/tool-id-negative.yaml",
+        ":15:9:",
+        "expected a whole number, 0 or more",
     ),
     (
         "machine/unknown-field.yaml",
@@ -674,7 +679,17 @@ const BAD_PROFILES: &[(&str, &str, &str)] = &[
     (
         "job/stepdown-too-deep.yaml",
         ":2:13: roughing.stepdown",
-        "allows at most 50.00 mm",
+        "allows at most 50 mm",
+    ),
+    (
+        "job/stepdown-too-fine.yaml",
+        ":2:13: roughing.stepdown",
+        "is 0.001 mm (0.0000\"); it must be at least 0.5 mm (0.0197\")",
+    ),
+    (
+        "job/stepover-too-fine.yaml",
+        ":2:13: roughing.stepover",
+        "is 0.000019 mm (0.0000\"); it must be at least 0.381 mm (0.0150\")",
     ),
     (
         "job/stepover-too-wide.yaml",

@@ -478,3 +478,101 @@ fn a_thin_tip_meshes_watertight() {
     assert_eq!(v["watertight"], true);
     assert_eq!(v["certified"], true);
 }
+
+/// A closed box `l` × 400 × 60 mm as binary STL (12 facets, outward).
+fn box_stl(l: f32) -> Vec<u8> {
+    let v = |x: f32, y: f32, z: f32| [x * l, (y - 0.5) * 400.0, z * 60.0];
+    let quads = [
+        [[0., 0., 0.], [0., 0., 1.], [0., 1., 1.], [0., 1., 0.]],
+        [[1., 0., 0.], [1., 1., 0.], [1., 1., 1.], [1., 0., 1.]],
+        [[0., 0., 0.], [1., 0., 0.], [1., 0., 1.], [0., 0., 1.]],
+        [[0., 1., 0.], [0., 1., 1.], [1., 1., 1.], [1., 1., 0.]],
+        [[0., 0., 0.], [0., 1., 0.], [1., 1., 0.], [1., 0., 0.]],
+        [[0., 0., 1.], [1., 0., 1.], [1., 1., 1.], [0., 1., 1.]],
+    ];
+    let mut b = vec![0u8; 80];
+    b.extend(12u32.to_le_bytes());
+    for q in quads {
+        let p: Vec<[f32; 3]> = q.iter().map(|c| v(c[0], c[1], c[2])).collect();
+        for t in [[0, 1, 2], [0, 2, 3]] {
+            b.extend([0u8; 12]);
+            for k in t {
+                for c in p[k] {
+                    b.extend(c.to_le_bytes());
+                }
+            }
+            b.extend([0u8; 2]);
+        }
+    }
+    b
+}
+
+/// Inputs that would size a grid or a read without end are refused from
+/// their size, before the work: an STL design 10 km long (`cut`, `diff`,
+/// `slice`), and `/dev/zero` as a board, a machine and an STL.
+#[test]
+fn oversized_and_endless_inputs_are_refused_up_front() {
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("long.stl"), box_stl(1e7)).unwrap();
+    let machine = fixture("machine-gantry-3000.yaml");
+    let board = fixture("shortboard.yaml");
+    for args in [
+        vec!["cut", "long.stl", "--machine", machine.as_str()],
+        vec!["diff", "long.stl", board.as_str()],
+        vec!["slice", "long.stl"],
+    ] {
+        let o = run(&args, dir.path());
+        no_panic(&o);
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        let err = text(&o.stderr);
+        assert!(
+            err.contains("the solid is 10000000 mm") || err.contains("the solid is 10000000.0 mm"),
+            "{err}"
+        );
+        assert!(err.contains("at most 6096 mm"), "{err}");
+    }
+    for (args, words) in [
+        (vec!["report", "/dev/zero"], "runs past 1048576 bytes"),
+        (
+            vec!["cut", board.as_str(), "--machine", "/dev/zero"],
+            "runs past 1048576 bytes",
+        ),
+        (
+            vec!["check", "/dev/zero"],
+            "not a regular file, and not ASCII STL",
+        ),
+    ] {
+        let o = run(&args, dir.path());
+        no_panic(&o);
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        assert!(text(&o.stderr).contains(words), "{}", text(&o.stderr));
+    }
+    assert_eq!(tree(dir.path()).len(), 1, "wrote something");
+}
+
+/// ASCII STL as other programs write it: under 84 bytes, with a
+/// byte-order mark, with lines ended by CR alone (a one-facet file each).
+#[test]
+fn ascii_stl_in_every_spelling_reads() {
+    let dir = tempfile::tempdir().unwrap();
+    let facet = "facet normal 0 0 1\nouter loop\nvertex 0 0 0\nvertex 1 0 0\nvertex 0 1 0\nendloop\nendfacet\n";
+    for (name, bytes) in [
+        ("tiny.stl", b"solid t\nendsolid t\n".to_vec()),
+        (
+            "bom.stl",
+            format!("\u{FEFF}solid b\n{facet}endsolid b\n").into_bytes(),
+        ),
+        (
+            "cr.stl",
+            format!("solid c\r{}endsolid c\r", facet.replace('\n', "\r")).into_bytes(),
+        ),
+    ] {
+        std::fs::write(dir.path().join(name), &bytes).unwrap();
+        let o = run(&["check", name, "--json"], dir.path());
+        no_panic(&o);
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout)
+            .unwrap_or_else(|_| panic!("{name}: {}", text(&o.stderr)));
+        let want = if name == "tiny.stl" { 0 } else { 1 };
+        assert_eq!(v["triangles"], want, "{name}");
+    }
+}

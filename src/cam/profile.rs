@@ -522,7 +522,7 @@ impl Reader<'_> {
 
 /// `12.70 mm (1/2")`.
 pub fn mm_text(mm: f64) -> String {
-    format!("{mm:.2} mm ({})", units::inches(mm))
+    units::exact(mm)
 }
 
 /// Longest travel a profile may give (20 m): a typo guard, not a real limit.
