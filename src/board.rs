@@ -389,6 +389,19 @@ impl Board {
         b.retain(|x| x.is_finite() && *x >= 0.0 && *x <= l);
         b.sort_by(f64::total_cmp);
         b.dedup_by(|a, b| (*a - *b).abs() < 1e-9);
+        // A station a rounding step from a tip stands for the tip: the
+        // ends must be the tips exactly, or the last section is a sliver
+        // that has not quite closed (degenerate triangles at the point).
+        if let Some(first) = b.first_mut()
+            && first.abs() < 1e-9
+        {
+            *first = 0.0;
+        }
+        if let Some(last) = b.last_mut()
+            && (l - *last).abs() < 1e-9
+        {
+            *last = l;
+        }
         b
     }
 

@@ -87,6 +87,9 @@ pub struct Report {
     pub certificate: Certificate,
     /// Chord tolerance the mesh was made at, mm.
     pub tolerance_mm: f64,
+    /// The tolerance asked for, when the mesh was made finer to certify.
+    #[serde(skip)]
+    pub refined_from_mm: Option<f64>,
     /// Triangles in the mesh.
     pub triangles: usize,
     /// Vertices in the mesh.
@@ -185,6 +188,7 @@ impl Report {
             certified,
             certificate: c.certificate,
             tolerance_mm: c.tolerance,
+            refined_from_mm: c.refined_from,
             triangles: c.mesh.triangles.len(),
             vertices: c.topology.vertices,
             watertight: c.topology.is_watertight(),
@@ -252,7 +256,7 @@ impl Report {
         );
         let _ = writeln!(
             s,
-            "  mesh         {} triangles, {} vertices, {}, Euler characteristic {}, tolerance {} mm",
+            "  mesh         {} triangles, {} vertices, {}, Euler characteristic {}, tolerance {} mm{}",
             self.triangles,
             self.vertices,
             if self.watertight {
@@ -261,7 +265,10 @@ impl Report {
                 "NOT WATERTIGHT"
             },
             self.euler_characteristic,
-            self.tolerance_mm
+            self.tolerance_mm,
+            self.refined_from_mm.map_or(String::new(), |t| format!(
+                " (refined from the {t} mm asked for, where the two volumes first disagreed)"
+            ))
         );
         s.push_str(&self.certificate_text());
         s

@@ -220,6 +220,9 @@ proptest! {
                     let t = c.topology;
                     prop_assert!(t.is_watertight(), "{t:?}\n{text}");
                     prop_assert_eq!(t.euler_characteristic, 2, "{}", text);
+                    let m = &c.mesh;
+                    let flat = m.triangles.iter().filter(|tr| blanksmith::topology::is_degenerate(m, tr)).count();
+                    prop_assert_eq!(flat, 0, "degenerate triangles\n{}", text);
                     prop_assert!(c.certificate.agrees, "{:?}\n{}", c.certificate, text);
                 }
             },
