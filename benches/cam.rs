@@ -8,12 +8,14 @@
 
 use std::sync::LazyLock;
 
-use blanksmith::board::Board;
-use blanksmith::cam::dropcutter::DropCutter;
-use blanksmith::cam::profile::{self, Cutter};
-use blanksmith::cam::{job, program};
-use blanksmith::mesh::Mesh;
-use blanksmith::{certificate, demo, description, jobs, mesher};
+use blanksmith::gcode::program;
+use blanksmith::geom::dropcutter::DropCutter;
+use blanksmith::model::board::Board;
+use blanksmith::model::machine::Cutter;
+use blanksmith::model::mesh::Mesh;
+use blanksmith::profiles::job;
+use blanksmith::profiles::machine as profile;
+use blanksmith::{description, description::demo, jobs, meshing::mesher, volume::certificate};
 use divan::black_box;
 
 fn main() {
@@ -57,7 +59,13 @@ fn drop_cutter_ball_12_7_on_20k_triangles(b: divan::Bencher) {
 }
 
 /// The demo's programs for a job given as YAML text, with its machine and job.
-fn demo_plan(job_text: &str) -> (program::CutPlan, profile::Machine, job::Job) {
+fn demo_plan(
+    job_text: &str,
+) -> (
+    program::CutPlan,
+    blanksmith::model::machine::Machine,
+    blanksmith::model::job::Job,
+) {
     let board = demo_board();
     let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
     let m = profile::generic_machine();
@@ -102,7 +110,9 @@ fn same_points_as_opencamlib(b: divan::Bencher) {
         return;
     };
     let soup = blanksmith::stl::read_file(std::path::Path::new(&stl)).unwrap();
-    let mesh = blanksmith::inspect::inspect_soup(&soup, Some(0.0)).0.mesh;
+    let mesh = blanksmith::inspect::check::inspect_soup(&soup, Some(0.0))
+        .0
+        .mesh;
     let rows: Vec<[f64; 3]> = std::fs::read_to_string(csv)
         .unwrap()
         .lines()
@@ -136,7 +146,7 @@ fn same_points_as_opencamlib(b: divan::Bencher) {
 /// tiled and written as one PDF, in memory.
 #[divan::bench(sample_count = 10)]
 fn templates_demo_a4() -> usize {
-    use blanksmith::{template, tiling};
+    use blanksmith::{template::drawing as template, template::tiling};
     let board = demo_board();
     let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
     let side = template::side_of(&board);
@@ -180,7 +190,7 @@ fn both_setups_demo_rockered_blank() -> usize {
 #[divan::bench(sample_count = 2, sample_size = 1)]
 fn simulate_both_setups_demo_fine_cells(b: divan::Bencher) {
     let (plan, m, j) = demo_plan("{}");
-    let options = blanksmith::sim::verify::VerifyOptions {
+    let options = blanksmith::verify::simulate::VerifyOptions {
         cell: 0.25,
         ..Default::default()
     };

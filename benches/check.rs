@@ -7,9 +7,9 @@
 
 use std::sync::LazyLock;
 
-use blanksmith::mesh::Mesh;
-use blanksmith::slice::{Axis, slice_many};
-use blanksmith::{demo, description, inspect, mesher, stl};
+use blanksmith::model::mesh::Mesh;
+use blanksmith::slice::plane::{Axis, slice_many};
+use blanksmith::{description, description::demo, inspect::check as inspect, meshing::mesher, stl};
 use divan::{Bencher, black_box};
 
 fn main() {

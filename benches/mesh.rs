@@ -6,9 +6,12 @@
 
 use std::sync::LazyLock;
 
-use blanksmith::board::Board;
-use blanksmith::mesh::Mesh;
-use blanksmith::{certificate, demo, description, mesher, stl, volume};
+use blanksmith::model::board::Board;
+use blanksmith::model::mesh::Mesh;
+use blanksmith::{
+    description, description::demo, meshing::mesher, stl, volume::certificate,
+    volume::measure as volume,
+};
 use divan::{Bencher, black_box};
 
 fn main() {
@@ -73,10 +76,10 @@ fn plain_pass_two_million(b: Bencher) {
 /// the mesh volume, at the default tolerance and at 0.002 mm.
 #[divan::bench(args = [mesher::DEFAULT_TOLERANCE, 0.002], sample_count = 5, sample_size = 1)]
 fn demo_resize_to_33_litres(tolerance: f64) -> f64 {
-    use blanksmith::resize::{self, Keep, Request};
+    use blanksmith::resize::scale::{self as resize, Keep, Request};
     let board = demo_board();
     let cert = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
-    let old = blanksmith::report::Report::new(&board, &cert, None);
+    let old = blanksmith::volume::report::Report::new(&board, &cert, None);
     let request = Request {
         length: None,
         width: None,

@@ -12,11 +12,11 @@
 //! The point is the `leftover_reachable_at` or `gouge_at` of `verify`'s
 //! JSON (X, Y in the setup's coordinates, and the setup).
 
-use blanksmith::cam::dropcutter::DropCutter;
-use blanksmith::cam::paths::Step;
-use blanksmith::cam::setup::Side;
-use blanksmith::cam::{job, profile};
+use blanksmith::geom::dropcutter::DropCutter;
 use blanksmith::jobs;
+use blanksmith::model::toolpath::Step;
+use blanksmith::profiles::{job, machine as profile};
+use blanksmith::toolpath::setup::Side;
 
 fn main() {
     let args: Vec<String> = std::env::args().skip(1).collect();
@@ -67,7 +67,7 @@ fn main() {
         fail(&"no finishing in that setup")
     };
     let ball = DropCutter::new(&guard, fin.pass.tool.cutter);
-    let ray = DropCutter::new(&guard, profile::Cutter::flat(0.0));
+    let ray = DropCutter::new(&guard, blanksmith::model::machine::Cutter::flat(0.0));
     let r = fin.pass.tool.cutter.radius;
     println!(
         "setup {} at X {cx} mm: floor Z {floor:.3} mm, ball radius {r} mm",

@@ -5,25 +5,29 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::board::Board;
-use crate::cam::job::{self, Block, Job};
-use crate::cam::profile::{self, Machine};
-use crate::cam::program::{self, CutPlan};
-use crate::cam::setup::Side;
-use crate::certificate::{self, Certified};
-use crate::compare::Comparison;
-use crate::contours::{self, SliceSet};
-use crate::demo;
+use crate::description::demo;
 use crate::description::{self, DescriptionError};
-use crate::inspect::{self, Inspection};
-use crate::mesh::Mesh;
-use crate::mesher::MeshError;
+use crate::gcode::program::{self, CutPlan};
+use crate::inspect::check::{self as inspect, Inspection};
+use crate::inspect::compare::Comparison;
+use crate::meshing::mesher::MeshError;
+use crate::model::board::Board;
+use crate::model::job::{Block, Job};
+use crate::model::machine::Machine;
+use crate::model::mesh::Mesh;
 use crate::output;
-use crate::report::Report;
-use crate::sim::picture;
-use crate::sim::verify::{self, ProgramSource, Setting, Verification, VerifyOptions};
-use crate::slice::{Axis, Slice};
+use crate::profiles::job;
+use crate::profiles::machine as profile;
+use crate::slice::contours::{self, SliceSet};
+use crate::slice::plane::{Axis, Slice};
 use crate::stl;
+use crate::toolpath::setup::Side;
+use crate::verify::picture;
+use crate::verify::simulate::{
+    self as verify, ProgramSource, Setting, Verification, VerifyOptions,
+};
+use crate::volume::certificate::{self, Certified};
+use crate::volume::report::Report;
 
 /// Where a board comes from.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -59,7 +63,7 @@ pub enum JobError {
     Gcode(crate::gcode::read::GcodeError),
     /// The board does not fit, or a safety gate refused the program.
     #[error("{0}")]
-    Cam(#[from] crate::cam::setup::CamError),
+    Cam(#[from] crate::toolpath::setup::CamError),
     /// The files could not be put in place (nothing was changed).
     #[error("{0}")]
     Output(#[from] output::OutputError),
@@ -223,7 +227,7 @@ pub fn mesh_to(
     table: bool,
     inputs: &[&Path],
 ) -> Result<Meshed, JobError> {
-    crate::mesher::check_tolerance(tolerance)?;
+    crate::meshing::mesher::check_tolerance(tolerance)?;
     output::ready(dir)?;
     let certified = certificate::certify(&board, tolerance)?;
     let (report, files) = mesh_files(&board, &certified, dir, kind, table);
@@ -330,7 +334,7 @@ impl JobError {
     /// The board does not fit the stock or the machine.
     pub fn is_misfit(&self) -> bool {
         match self {
-            JobError::Cam(crate::cam::setup::CamError::Fit(_)) => true,
+            JobError::Cam(crate::toolpath::setup::CamError::Fit(_)) => true,
             JobError::Cut { source, .. } => source.is_misfit(),
             _ => false,
         }
@@ -357,7 +361,7 @@ pub fn make(
 ) -> Result<Made, JobError> {
     let profiles = cut.map(cut_profiles).transpose()?;
     let board = load(input)?;
-    crate::mesher::check_tolerance(tolerance)?;
+    crate::meshing::mesher::check_tolerance(tolerance)?;
     output::ready(out)?;
     let dir = out.join(&board.name);
     let certified = certificate::certify(&board, tolerance)?;
@@ -367,7 +371,7 @@ pub fn make(
         &design,
         &certified.mesh,
         Some(&report),
-        crate::tiling::A4,
+        crate::template::tiling::A4,
         &[],
         &[],
         &dir,
@@ -628,7 +632,7 @@ pub fn cut_files(
     // The last gate: simulate the programs as written against the board.
     let verification = verify_plan(&plan, machine, job, progress)?;
     if verification.has_findings() {
-        return Err(JobError::Cam(crate::cam::setup::CamError::Refused(
+        return Err(JobError::Cam(crate::toolpath::setup::CamError::Refused(
             format!(
                 "the simulation of the programs found problems, so none is written:\n{}",
                 verification.text()
@@ -658,8 +662,8 @@ pub fn cut(
 ) -> Result<(CutPlan, Vec<PathBuf>), JobError> {
     let design = load_design(path)?;
     let (machine, job) = cut_profiles(args)?;
-    let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
-    let litres = crate::volume::volume(&mesh) / 1e6;
+    let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
+    let litres = crate::volume::measure::volume(&mesh) / 1e6;
     let (plan, _, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
         .map_err(|e| with_profiles(e, path, args))?;
     let inputs: Vec<&Path> = [Some(path), args.machine.as_deref(), args.job.as_deref()]
@@ -678,8 +682,8 @@ pub fn plan_design(
     job: &Job,
     progress: &(dyn Fn(&str) + Sync),
 ) -> Result<CutPlan, JobError> {
-    let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
-    let litres = crate::volume::volume(&mesh) / 1e6;
+    let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
+    let litres = crate::volume::measure::volume(&mesh) / 1e6;
     let apex = match design {
         Design::Board(b) => Some(program::apex_line(b)),
         Design::Mesh { .. } => None,
@@ -743,7 +747,7 @@ impl Design {
     /// The mesh to slice or cut (a board is meshed at `tolerance`).
     pub fn mesh(&self, tolerance: f64) -> Result<Mesh, JobError> {
         match self {
-            Design::Board(b) => Ok(crate::mesher::mesh_board(b, tolerance)?),
+            Design::Board(b) => Ok(crate::meshing::mesher::mesh_board(b, tolerance)?),
             Design::Mesh { mesh, .. } => Ok(mesh.clone()),
         }
     }
@@ -849,7 +853,7 @@ pub fn slice(
     z_step: Option<f64>,
     dir: &Path,
 ) -> Result<Sliced, JobError> {
-    let mesh = design.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
+    let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
     let (lo, hi) = mesh
         .bounding_box()
         .ok_or_else(|| JobError::Option("the mesh is empty".into()))?;
@@ -867,7 +871,7 @@ pub fn slice(
         )));
     }
     let xs: Vec<f64> = section_at.iter().map(|x| lo[0] + x).collect();
-    let sections = crate::slice::slice_many(&mesh, Axis::X, &xs);
+    let sections = crate::slice::plane::slice_many(&mesh, Axis::X, &xs);
     let (waterlines, waterline_at) = match z_step {
         None => (vec![], vec![]),
         Some(step) => {
@@ -882,7 +886,7 @@ pub fn slice(
                 .take_while(|&z| z < height)
                 .collect();
             let zs: Vec<f64> = at.iter().map(|z| lo[2] + z).collect();
-            (crate::slice::slice_many(&mesh, Axis::Z, &zs), at)
+            (crate::slice::plane::slice_many(&mesh, Axis::Z, &zs), at)
         }
     };
     let name = design.name();
@@ -948,12 +952,12 @@ pub fn compare(
         )));
     }
     let (dm, cm) = (
-        d.mesh(crate::mesher::DEFAULT_TOLERANCE)?,
-        c.mesh(crate::mesher::DEFAULT_TOLERANCE)?,
+        d.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?,
+        c.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?,
     );
-    let (comparison, deviation) = crate::compare::compare(&dm, &cm, align);
+    let (comparison, deviation) = crate::inspect::compare::compare(&dm, &cm, align);
     let title = format!("{} against {}", c.name(), d.name());
-    let svg = crate::compare::deviation_svg(&title, &dm, &deviation);
+    let svg = crate::inspect::compare::deviation_svg(&title, &dm, &deviation);
     let path = dir.join(format!("{}-vs-{}.deviation.svg", c.name(), d.name()));
     let files = [(path, svg.into_bytes())];
     let written = write_all(&files, &exactly(&files), &[design, cut])?;
@@ -1006,8 +1010,8 @@ pub struct ResizeOutcome {
 
 fn water_density(text: &str) -> Result<f64, JobError> {
     match text.trim().to_ascii_lowercase().as_str() {
-        "fresh" => Ok(crate::resize::FRESH_WATER),
-        "salt" | "sea" => Ok(crate::resize::SALT_WATER),
+        "fresh" => Ok(crate::resize::scale::FRESH_WATER),
+        "salt" | "sea" => Ok(crate::resize::scale::SALT_WATER),
         other => match other
             .trim_end_matches("kg/m3")
             .trim_end_matches("g/l")
@@ -1031,7 +1035,7 @@ pub fn resize(
 ) -> Result<ResizeOutcome, JobError> {
     let board = description::load(path)?;
     let unit = description::write::unit_of(&board);
-    let tol = crate::mesher::DEFAULT_TOLERANCE;
+    let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
     let old_cert = certificate::certify(&board, tol)?;
     let old = Report::new(&board, &old_cert, None);
     let length = |name: &str, v: &Option<String>| -> Result<Option<f64>, JobError> {
@@ -1043,7 +1047,7 @@ pub fn resize(
             })
             .transpose()
     };
-    let mut keep = crate::resize::Keep::default();
+    let mut keep = crate::resize::scale::Keep::default();
     for item in args
         .keep
         .iter()
@@ -1069,18 +1073,18 @@ pub fn resize(
                 .as_deref()
                 .map(water_density)
                 .transpose()?
-                .unwrap_or(crate::resize::SALT_WATER);
+                .unwrap_or(crate::resize::scale::SALT_WATER);
             let from = from
                 .as_deref()
                 .map(water_density)
                 .transpose()?
-                .unwrap_or(crate::resize::SALT_WATER);
+                .unwrap_or(crate::resize::scale::SALT_WATER);
             Some((from, to))
         }
     };
     let rider = match (args.rider_kg, args.litres_per_kg) {
         (Some(kg), Some(r)) if kg > 0.0 && kg < 400.0 && r > 0.0 && r < 5.0 => {
-            Some((kg, crate::resize::rider_volume(kg, r)))
+            Some((kg, crate::resize::scale::rider_volume(kg, r)))
         }
         (None, None) => None,
         _ => {
@@ -1089,7 +1093,7 @@ pub fn resize(
             ));
         }
     };
-    let request = crate::resize::Request {
+    let request = crate::resize::scale::Request {
         length: length("length", &args.length)?,
         width: length("width", &args.width)?,
         thickness: length("thickness", &args.thickness)?,
@@ -1097,7 +1101,7 @@ pub fn resize(
         keep,
         water,
     };
-    let r = crate::resize::resize(&board, &request, old.width_mm, old.thickness_mm, tol)
+    let r = crate::resize::scale::resize(&board, &request, old.width_mm, old.thickness_mm, tol)
         .map_err(|e| JobError::Option(e.to_string()))?;
     let mut new_board = r.board;
     new_board.name = match &args.name {
@@ -1124,17 +1128,17 @@ pub fn resize(
         &format!("{} (the resized board, not written)", dest.display()),
     )
     .map_err(|e| JobError::Resize(Box::new(e)))?;
-    let back_litres = crate::integrals::profile(&back).volume() * 1e-6;
+    let back_litres = crate::volume::integrals::profile(&back).volume() * 1e-6;
     if (back_litres - new.volume_litres_surface).abs() > 1e-6 {
         return Err(JobError::Option(format!(
             "internal: the written description holds {back_litres:.6} L, not {:.6} L; nothing written",
             new.volume_litres_surface
         )));
     }
-    let overlay = crate::overlay::svg(
+    let overlay = crate::resize::overlay::svg(
         &format!("{} against {}", new_board.name, board.name),
-        &crate::overlay::profile(&board.name, &old_cert.mesh, 200),
-        &crate::overlay::profile(&new_board.name, &new_cert.mesh, 200),
+        &crate::resize::overlay::profile(&board.name, &old_cert.mesh, 200),
+        &crate::resize::overlay::profile(&new_board.name, &new_cert.mesh, 200),
     );
     let svg_path = dest.with_extension("overlay.svg");
     let files = [(dest, yaml.into_bytes()), (svg_path, overlay.into_bytes())];
@@ -1166,7 +1170,7 @@ pub struct Diff {
 
 /// Compares two designs (descriptions or closed STL) station by station.
 pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
-    let tol = crate::mesher::DEFAULT_TOLERANCE;
+    let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
     let designs = [load_design(a)?, load_design(b)?];
     let meshes = [designs[0].mesh(tol)?, designs[1].mesh(tol)?];
     let names = [designs[0].name().to_string(), designs[1].name().to_string()];
@@ -1185,7 +1189,7 @@ pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
     let measure = |i: usize| -> Vec<[f64; 4]> {
         let lo = meshes[i].bounding_box().map_or(0.0, |(lo, _)| lo[0]);
         let at: Vec<f64> = xs.iter().map(|x| lo + x).collect();
-        crate::slice::slice_many(&meshes[i], Axis::X, &at)
+        crate::slice::plane::slice_many(&meshes[i], Axis::X, &at)
             .iter()
             .map(|s| {
                 let (mut w, mut zb, mut zd) = (0.0f64, f64::INFINITY, f64::NEG_INFINITY);
@@ -1208,11 +1212,11 @@ pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
         .zip(ma.iter().zip(&mb))
         .map(|(&x, (p, q))| (x, [*p, *q]))
         .collect();
-    let litres = [0, 1].map(|i| crate::volume::volume(&meshes[i]) * 1e-6);
-    let svg = crate::overlay::svg(
+    let litres = [0, 1].map(|i| crate::volume::measure::volume(&meshes[i]) * 1e-6);
+    let svg = crate::resize::overlay::svg(
         &format!("{} against {}", names[1], names[0]),
-        &crate::overlay::profile(&names[0], &meshes[0], 200),
-        &crate::overlay::profile(&names[1], &meshes[1], 200),
+        &crate::resize::overlay::profile(&names[0], &meshes[0], 200),
+        &crate::resize::overlay::profile(&names[1], &meshes[1], 200),
     );
     let files = [(
         dir.join(format!("{}-vs-{}.overlay.svg", names[1], names[0])),
@@ -1233,7 +1237,7 @@ pub struct Templates {
     /// Pages in the PDF.
     pub pages: usize,
     /// The drawings.
-    pub drawings: Vec<crate::template::Drawing>,
+    pub drawings: Vec<crate::template::drawing::Drawing>,
     /// Files written.
     pub written: Vec<PathBuf>,
 }
@@ -1244,12 +1248,12 @@ pub struct Templates {
 /// sections (default: 12 in from each tip and the wide point).
 pub fn templates(
     design: &Design,
-    paper: crate::tiling::Paper,
+    paper: crate::template::tiling::Paper,
     only: &[String],
     stations: &[f64],
     dir: &Path,
 ) -> Result<Templates, JobError> {
-    let tol = crate::mesher::DEFAULT_TOLERANCE;
+    let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
     let (mesh, report) = match design {
         Design::Board(b) => {
             let c = certificate::certify(b, tol)?;
@@ -1276,12 +1280,12 @@ fn template_files(
     design: &Design,
     mesh: &Mesh,
     report: Option<&Report>,
-    paper: crate::tiling::Paper,
+    paper: crate::template::tiling::Paper,
     only: &[String],
     stations: &[f64],
     dir: &Path,
-) -> Result<(Vec<crate::template::Drawing>, usize, Files), JobError> {
-    use crate::template;
+) -> Result<(Vec<crate::template::drawing::Drawing>, usize, Files), JobError> {
+    use crate::template::drawing as template;
     let all = ["outline", "rocker", "sections", "sheet"];
     for o in only {
         if !all.contains(&o.as_str()) {
@@ -1328,14 +1332,14 @@ fn template_files(
                 "(a mesh from elsewhere: no measurements beyond the templates)".into(),
             ],
         };
-        pages.push(crate::tiling::sheet_page(&lines, paper, name));
+        pages.push(crate::template::tiling::sheet_page(&lines, paper, name));
     }
     for d in &drawings {
-        pages.extend(crate::tiling::tile(d, paper, name));
+        pages.extend(crate::template::tiling::tile(d, paper, name));
     }
     let mut files = vec![(
         dir.join(format!("{name}.templates.pdf")),
-        crate::tiling::to_pdf(&pages),
+        crate::template::tiling::to_pdf(&pages),
     )];
     for d in &drawings {
         files.push((
@@ -1388,7 +1392,7 @@ pub fn verify_plan_with(
 /// The tabs' plan rectangles, grown by the finishing tool's radius plus
 /// 1 mm: the ball cannot reach closer to a tab's side, and that foam goes
 /// with the tab when it is cut off and sanded.
-fn tab_rectangles(place: &crate::cam::setup::Placement, job: &Job) -> Vec<[[f64; 2]; 2]> {
+fn tab_rectangles(place: &crate::toolpath::setup::Placement, job: &Job) -> Vec<[[f64; 2]; 2]> {
     let g = job.finishing.pass.tool.cutter.radius + 1.0;
     place
         .tabs
@@ -1501,9 +1505,10 @@ pub fn verify_programs(
         )));
     }
     let default_tool = match &args.tool {
-        Some(t) => {
-            Some(profile::parse_cutter(t).map_err(|e| JobError::Option(format!("--tool {e}")))?)
-        }
+        Some(t) => Some(
+            crate::model::machine::parse_cutter(t)
+                .map_err(|e| JobError::Option(format!("--tool {e}")))?,
+        ),
         None => None,
     };
     let job = match &args.job {
@@ -1519,7 +1524,7 @@ pub fn verify_programs(
         (Some(s), _) => {
             let block = parse_block(s)?;
             let part = match &design {
-                Some(d) => Some(d.mesh(crate::mesher::DEFAULT_TOLERANCE)?),
+                Some(d) => Some(d.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?),
                 None => None,
             };
             let at = job.as_ref().map_or([0.0, 0.0], |j| j.table_position);
@@ -1527,12 +1532,12 @@ pub fn verify_programs(
         }
         (None, Some(j)) => match &design {
             Some(d) => {
-                let mesh = d.mesh(crate::mesher::DEFAULT_TOLERANCE)?;
+                let mesh = d.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
                 let apex = match d {
                     Design::Board(b) => Some(program::apex_line(b)),
                     Design::Mesh { .. } => None,
                 };
-                let place = crate::cam::setup::place(&mesh, apex.as_deref(), j)?;
+                let place = crate::toolpath::setup::place(&mesh, apex.as_deref(), j)?;
                 let keep = tab_rectangles(&place, j);
                 let (block, part) = (place.block.clone(), place.part.clone());
                 (block, j.table_position, Some(part), keep, Some(place))

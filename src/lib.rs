@@ -1,54 +1,53 @@
 //! blanksmith: from a surfboard described in the trade's measurements to a
-//! certified watertight mesh, STL, and (in later stages) router programs and
-//! full-size templates.
+//! certified watertight mesh, STL, router programs for both sides of the
+//! blank, their simulation, full-size templates and a report page.
 //!
-//! The pipeline, one module a stage:
+//! Foundations any stage may use:
 //!
 //! - [`units`]: lengths as shops write them, in and out.
-//! - [`description`]: the YAML board description, checked and resolved.
-//! - [`board`] and [`section`]: the continuous shape and its cross-sections.
-//! - [`curve`]: shape-preserving curves through stations.
-//! - [`mesher`]: the watertight triangle mesh.
-//! - [`topology`] and [`volume`]: what the mesh is and holds.
-//! - [`integrals`] and [`quadrature`]: integrals of the continuous shape.
-//! - [`certificate`]: the two volumes and the error estimate, compared.
-//! - [`stl`]: STL output.
-//! - [`report`]: measurement tables and the JSON report.
-//! - [`input`]: input files read with a bound.
-//! - [`output`]: output sets written whole or not at all.
-//! - [`jobs`]: the commands' work, without the command line.
-//! - [`demo`]: the built-in demo board.
+//! - [`input`], [`output`]: input files read with a bound; output sets
+//!   written whole or not at all.
+//! - [`svg`]: a small true-scale SVG writer.
+//! - [`model`]: the types that cross stages (board, curve, mesh, machine,
+//!   job, toolpath, machine limits).
+//! - [`geom`]: kernels more than one stage uses (quadrature, sections,
+//!   closest points, drop-cutter, grid fields, the stock height map).
+//!
+//! The stages, in pipeline order; each uses the foundations and earlier
+//! stages only (`tests/layout.rs` holds the code to this order):
+//!
+//! 1. [`description`]: the YAML board description, checked and resolved.
+//! 2. [`meshing`]: the watertight mesh, welding, edge topology.
+//! 3. [`volume`]: mesh volume, shape integrals, the certificate, the report.
+//! 4. [`stl`]: STL in and out.
+//! 5. [`inspect`]: meshes from elsewhere checked, and compared with a design.
+//! 6. [`slice`]: sections and waterlines.
+//! 7. [`template`]: full-size templates on paper.
+//! 8. [`resize`]: boards scaled to a size, a volume or other water; overlays.
+//! 9. [`profiles`]: machine and job profiles read.
+//! 10. [`toolpath`]: placement in the stock and each setup's toolpaths.
+//! 11. [`gcode`]: G-code read and written; the programs of a cut.
+//! 12. [`verify`]: simulation of programs, deviation pictures.
+//! 13. [`page`]: the report pages.
+//! 14. [`jobs`]: the commands' work, without the command line.
 
-pub mod board;
-pub mod cam;
-pub mod certificate;
-pub mod compare;
-pub mod contours;
-pub mod curve;
-pub mod demo;
 pub mod description;
 pub mod gcode;
+pub mod geom;
 pub mod input;
 pub mod inspect;
-pub mod integrals;
 pub mod jobs;
-pub mod mesh;
-pub mod mesher;
-pub mod nearest;
+pub mod meshing;
+pub mod model;
 pub mod output;
-pub mod overlay;
 pub mod page;
-pub mod quadrature;
-pub mod report;
+pub mod profiles;
 pub mod resize;
-pub mod section;
-pub mod sim;
 pub mod slice;
 pub mod stl;
 pub mod svg;
 pub mod template;
-pub mod tiling;
-pub mod topology;
+pub mod toolpath;
 pub mod units;
+pub mod verify;
 pub mod volume;
-pub mod weld;

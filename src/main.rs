@@ -30,10 +30,10 @@ macro_rules! sayln {
     ($($t:tt)*) => { emit(&(format!($($t)*) + "\n")) };
 }
 
-use blanksmith::contours;
 use blanksmith::description::values::parse_position;
 use blanksmith::jobs::{self, Input, JobError, Meshed, StlKind};
-use blanksmith::mesher::DEFAULT_TOLERANCE;
+use blanksmith::meshing::mesher::DEFAULT_TOLERANCE;
+use blanksmith::slice::contours;
 use blanksmith::units::{self, Unit};
 
 #[derive(Parser)]
@@ -311,7 +311,7 @@ fn finish(m: &Meshed, print_table: bool) -> ExitCode {
     }
 }
 
-fn comparison_text(c: &blanksmith::compare::Comparison) -> String {
+fn comparison_text(c: &blanksmith::inspect::compare::Comparison) -> String {
     use std::fmt::Write as _;
     let mut s = String::new();
     if let Some(a) = &c.alignment {
@@ -394,7 +394,7 @@ fn resize_text(r: &jobs::ResizeOutcome) -> String {
         Both(o.centre_of_volume_from_nose_mm).to_string(),
         Both(n.centre_of_volume_from_nose_mm).to_string(),
     );
-    let per_foot = |r: &blanksmith::report::Report| {
+    let per_foot = |r: &blanksmith::volume::report::Report| {
         r.litres_per_foot
             .iter()
             .map(|p| format!("{:.1}", p.litres))
@@ -418,12 +418,12 @@ fn resize_text(r: &jobs::ResizeOutcome) -> String {
         );
     }
     let (fresh, salt) = (
-        blanksmith::resize::FRESH_WATER,
-        blanksmith::resize::SALT_WATER,
+        blanksmith::resize::scale::FRESH_WATER,
+        blanksmith::resize::scale::SALT_WATER,
     );
     for (what, litres) in [("old", o.volume_litres), ("new", n.volume_litres)] {
-        let (nf, kf) = blanksmith::resize::buoyancy(litres, fresh);
-        let (ns, ks) = blanksmith::resize::buoyancy(litres, salt);
+        let (nf, kf) = blanksmith::resize::scale::buoyancy(litres, fresh);
+        let (ns, ks) = blanksmith::resize::scale::buoyancy(litres, salt);
         let _ = writeln!(
             s,
             "{what} board fully under water holds up {kf:.1} kg ({nf:.0} N) in fresh, {ks:.1} kg ({ns:.0} N) in salt water ({:.1} % less in fresh)",
@@ -433,8 +433,8 @@ fn resize_text(r: &jobs::ResizeOutcome) -> String {
     if let Some((kg, _)) = r.rider {
         // What the new board holds up beyond the rider, fully under water
         // (the board's own weight is not known here: subtract it).
-        let (_, kf) = blanksmith::resize::buoyancy(n.volume_litres, fresh);
-        let (_, ks) = blanksmith::resize::buoyancy(n.volume_litres, salt);
+        let (_, kf) = blanksmith::resize::scale::buoyancy(n.volume_litres, fresh);
+        let (_, ks) = blanksmith::resize::scale::buoyancy(n.volume_litres, salt);
         let _ = writeln!(
             s,
             "rider {kg:.1} kg plus board: the new board fully under water holds up {:.1} kg more than the rider in fresh water, {:.1} kg in salt (less the board's own weight)",
@@ -679,7 +679,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             out,
         } => {
             let unit = parse_unit(&units)?;
-            let paper = blanksmith::tiling::paper(&paper).map_err(JobError::Option)?;
+            let paper = blanksmith::template::tiling::paper(&paper).map_err(JobError::Option)?;
             let d = jobs::load_design(&design)?;
             let xs = parse_stations(stations.as_deref(), design_length(&d), unit)?;
             let only: Vec<String> = only
@@ -813,7 +813,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                     p.file_name,
                     p.tool.describe(),
                     p.labels.join(" + "),
-                    blanksmith::cam::program::duration(p.time_s)
+                    blanksmith::gcode::program::duration(p.time_s)
                 );
             }
             for p in &written {
@@ -874,7 +874,7 @@ fn make_many(
         match r {
             Ok(m) => {
                 let (fits, [t1, t2]) = match &m.cutting {
-                    jobs::Cutting::Done(t) => ("yes", t.map(blanksmith::cam::program::duration)),
+                    jobs::Cutting::Done(t) => ("yes", t.map(blanksmith::gcode::program::duration)),
                     jobs::Cutting::Skipped => ("—", ["—".to_string(), "—".to_string()]),
                     jobs::Cutting::Failed(e) => {
                         eprintln!("blanksmith: {}: no router programs: {e}", path.display());

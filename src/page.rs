@@ -3,12 +3,12 @@
 
 use std::fmt::Write as _;
 
-use crate::cam::paths::Step;
-use crate::cam::program::{self, CutPlan};
-use crate::cam::setup::flip;
-use crate::report::Report;
-use crate::sim::verify::Verification;
+use crate::gcode::program::{self, CutPlan};
+use crate::model::toolpath::Step;
+use crate::toolpath::setup::flip;
 use crate::units::Both;
+use crate::verify::simulate::Verification;
+use crate::volume::report::Report;
 
 const STYLE: &str = "body{font-family:sans-serif;margin:2em;max-width:1200px;color:#222}\
 h1{margin-bottom:0}h2{border-bottom:1px solid #ccc;margin-top:2em}\
@@ -103,7 +103,7 @@ fn toolpath_svg(plan: &CutPlan, side: usize) -> String {
                 Step::Plunge(q) | Step::Cut(q) => (q, true),
                 Step::Arc { to, .. } => (to, true),
             };
-            let q = if sp.side == crate::cam::setup::Side::Bottom {
+            let q = if sp.side == crate::toolpath::setup::Side::Bottom {
                 flip(q, b)
             } else {
                 q

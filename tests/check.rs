@@ -2,8 +2,8 @@
 
 mod common;
 
-use blanksmith::inspect::{Inspection, inspect_soup};
-use blanksmith::mesh::Mesh;
+use blanksmith::inspect::check::{Inspection, inspect_soup};
+use blanksmith::model::mesh::Mesh;
 use blanksmith::stl;
 use common::*;
 use std::f64::consts::PI;

@@ -2,8 +2,8 @@
 
 mod common;
 
-use blanksmith::compare::compare;
-use blanksmith::mesh::Mesh;
+use blanksmith::inspect::compare::compare;
+use blanksmith::model::mesh::Mesh;
 use common::*;
 
 #[test]
@@ -39,7 +39,7 @@ fn a_sphere_against_itself_scaled_is_epsilon_r_away() {
 fn align_finds_a_board_moved_off_its_origin() {
     let path = format!("{}/fixtures/fish.yaml", env!("CARGO_MANIFEST_DIR"));
     let board = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
-    let design = blanksmith::mesher::mesh_board(&board, 0.2).unwrap();
+    let design = blanksmith::meshing::mesher::mesh_board(&board, 0.2).unwrap();
     // Turn 2° about z and 1° about x, then shift: a cut clamped off square.
     let (a, b) = (2f64.to_radians(), 1f64.to_radians());
     let moved = Mesh {

@@ -5,12 +5,14 @@ use std::sync::OnceLock;
 
 use rayon::prelude::*;
 
-use blanksmith::cam::job::{self, Job};
-use blanksmith::cam::paths::Step;
-use blanksmith::cam::profile::{self, Machine};
-use blanksmith::cam::program::{self, CutPlan, Program};
-use blanksmith::cam::setup::{self, Side};
+use blanksmith::gcode::program::{self, CutPlan, Program};
 use blanksmith::jobs;
+use blanksmith::model::job::Job;
+use blanksmith::model::machine::Machine;
+use blanksmith::model::toolpath::Step;
+use blanksmith::profiles::job;
+use blanksmith::profiles::machine as profile;
+use blanksmith::toolpath::setup::{self, Side};
 
 struct Case {
     plan: CutPlan,
@@ -52,7 +54,7 @@ fn fixture(name: &str) -> std::path::PathBuf {
 }
 
 /// The roughing toolpath of setup `k` (0 or 1).
-fn roughing_of(c: &Case, k: usize) -> &blanksmith::cam::paths::Toolpath {
+fn roughing_of(c: &Case, k: usize) -> &blanksmith::model::toolpath::Toolpath {
     c.plan.setups[k]
         .paths
         .iter()
@@ -278,7 +280,7 @@ fn finishing_stepover_follows_the_scallop_target() {
     let c = shortboard();
     let fin = &c.job.finishing;
     let r = fin.pass.tool.cutter.radius;
-    let s = blanksmith::cam::paths::scallop_stepover(r, fin.scallop);
+    let s = blanksmith::toolpath::paths::scallop_stepover(r, fin.scallop);
     let raster = s * fin.steep_angle.to_radians().cos();
     let cusp = r - (r * r - raster * raster / 4.0).sqrt();
     assert!(cusp <= fin.scallop);
@@ -380,7 +382,7 @@ fn own_programs_verify_clean_for_every_fixture() {
 /// (before they were refined, one dug in 0.086 mm on the demo).
 #[test]
 fn no_finishing_move_digs_in() {
-    use blanksmith::cam::dropcutter::DropCutter;
+    use blanksmith::geom::dropcutter::DropCutter;
     let c = shortboard();
     let tol = c.job.finishing.tolerance;
     for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {

@@ -1,8 +1,8 @@
 //! Random valid descriptions always mesh watertight, outward, with positive
 //! volume, and the mesh volume agrees with the shape integral.
 
-use blanksmith::certificate::certify;
 use blanksmith::description::board_from_str;
+use blanksmith::volume::certificate::certify;
 use proptest::prelude::*;
 
 const TAILS: [&str; 7] = [
@@ -221,7 +221,7 @@ proptest! {
                     prop_assert!(t.is_watertight(), "{t:?}\n{text}");
                     prop_assert_eq!(t.euler_characteristic, 2, "{}", text);
                     let m = &c.mesh;
-                    let flat = m.triangles.iter().filter(|tr| blanksmith::topology::is_degenerate(m, tr)).count();
+                    let flat = m.triangles.iter().filter(|tr| blanksmith::meshing::topology::is_degenerate(m, tr)).count();
                     prop_assert_eq!(flat, 0, "degenerate triangles\n{}", text);
                     prop_assert!(c.certificate.agrees, "{:?}\n{}", c.certificate, text);
                 }

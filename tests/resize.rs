@@ -2,22 +2,24 @@
 //! answers on the box.
 
 use blanksmith::description::{self, write};
-use blanksmith::integrals;
-use blanksmith::mesher::DEFAULT_TOLERANCE;
-use blanksmith::resize::{self, FRESH_WATER, Keep, Request, SALT_WATER, mesh_litres};
+use blanksmith::meshing::mesher::DEFAULT_TOLERANCE;
+use blanksmith::resize::scale::{
+    self as resize, FRESH_WATER, Keep, Request, SALT_WATER, mesh_litres,
+};
+use blanksmith::volume::integrals;
 
-fn fixture(name: &str) -> blanksmith::board::Board {
+fn fixture(name: &str) -> blanksmith::model::board::Board {
     let path = format!("{}/fixtures/{name}", env!("CARGO_MANIFEST_DIR"));
     description::load(std::path::Path::new(&path)).unwrap()
 }
 
-fn measures(b: &blanksmith::board::Board) -> (f64, f64) {
-    let c = blanksmith::certificate::certify(b, DEFAULT_TOLERANCE).unwrap();
-    let r = blanksmith::report::Report::new(b, &c, None);
+fn measures(b: &blanksmith::model::board::Board) -> (f64, f64) {
+    let c = blanksmith::volume::certificate::certify(b, DEFAULT_TOLERANCE).unwrap();
+    let r = blanksmith::volume::report::Report::new(b, &c, None);
     (r.width_mm, r.thickness_mm)
 }
 
-fn resize(b: &blanksmith::board::Board, req: Request) -> resize::Resized {
+fn resize(b: &blanksmith::model::board::Board, req: Request) -> resize::Resized {
     let (w, t) = measures(b);
     resize::resize(b, &req, w, t, DEFAULT_TOLERANCE).unwrap()
 }

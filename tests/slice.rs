@@ -2,8 +2,8 @@
 
 mod common;
 
-use blanksmith::slice::{Axis, slice, slice_many};
-use blanksmith::{description, mesher, volume};
+use blanksmith::slice::plane::{Axis, slice, slice_many};
+use blanksmith::{description, meshing::mesher, volume::measure as volume};
 use common::*;
 use std::f64::consts::PI;
 

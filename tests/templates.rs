@@ -3,11 +3,11 @@
 //! against the board (roxmltree).
 
 use blanksmith::jobs::{self, Design};
-use blanksmith::template::{self, Item, Role};
-use blanksmith::tiling::{self, CUT_WIDTH, PT_PER_MM};
+use blanksmith::template::drawing::{self as template, Item, Role};
+use blanksmith::template::tiling::{self, CUT_WIDTH, PT_PER_MM};
 use lopdf::{Document, Object, content::Content};
 
-fn board() -> blanksmith::board::Board {
+fn board() -> blanksmith::model::board::Board {
     let path = format!("{}/fixtures/shortboard.yaml", env!("CARGO_MANIFEST_DIR"));
     blanksmith::description::load(std::path::Path::new(&path)).unwrap()
 }

@@ -5,11 +5,14 @@ use std::f64::consts::PI;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use blanksmith::cam::job::Block;
-use blanksmith::cam::profile::{self, Cutter};
-use blanksmith::cam::setup::Side;
-use blanksmith::mesh::Mesh;
-use blanksmith::sim::verify::{self, ProgramSource, Setting, Verification, VerifyOptions};
+use blanksmith::model::job::Block;
+use blanksmith::model::machine::Cutter;
+use blanksmith::model::mesh::Mesh;
+use blanksmith::profiles::machine as profile;
+use blanksmith::toolpath::setup::Side;
+use blanksmith::verify::simulate::{
+    self as verify, ProgramSource, Setting, Verification, VerifyOptions,
+};
 
 fn run(
     programs: &[&str],
@@ -325,7 +328,7 @@ fn a_groove_narrower_than_the_ball_is_reported_out_of_reach() {
     }
     // The passes' heights from the drop-cutter (its own tests hold it to
     // the geometry); the design is the same all along X.
-    let dc = blanksmith::cam::dropcutter::DropCutter::new(&[&design], Cutter::ball(2.0 * r));
+    let dc = blanksmith::geom::dropcutter::DropCutter::new(&[&design], Cutter::ball(2.0 * r));
     let mut g = String::from(HEAD);
     for k in 0..=30 {
         let y = 15.0 + k as f64;

@@ -2,11 +2,11 @@
 //! standard geometry, an independent mass-properties library, and the
 //! scaling laws of volume.
 
-use blanksmith::board::Board;
-use blanksmith::certificate::certify;
 use blanksmith::description::board_from_str;
-use blanksmith::mesher::{DEFAULT_TOLERANCE, mesh_board};
-use blanksmith::{integrals, topology, volume};
+use blanksmith::meshing::mesher::{DEFAULT_TOLERANCE, mesh_board};
+use blanksmith::model::board::Board;
+use blanksmith::volume::certificate::certify;
+use blanksmith::{meshing::topology, volume::integrals, volume::measure as volume};
 
 /// Every board fixture.
 const FIXTURES: [&str; 4] = [

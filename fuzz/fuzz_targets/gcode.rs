@@ -2,10 +2,11 @@
 //! small block. Errors are fine; panics are bugs.
 #![no_main]
 
-use blanksmith::cam::job::Block;
-use blanksmith::cam::profile::{self, Cutter};
-use blanksmith::cam::setup::Side;
-use blanksmith::sim::verify::{self, ProgramSource, Setting, VerifyOptions};
+use blanksmith::model::job::Block;
+use blanksmith::profiles::machine::self;
+use blanksmith::model::machine::Cutter;
+use blanksmith::toolpath::setup::Side;
+use blanksmith::verify::simulate::{self as verify, ProgramSource, Setting, VerifyOptions};
 use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {

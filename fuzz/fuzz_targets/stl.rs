@@ -5,6 +5,6 @@ use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {
     if let Ok(soup) = blanksmith::stl::read(data) {
-        let _ = blanksmith::inspect::inspect_soup(&soup, None);
+        let _ = blanksmith::inspect::check::inspect_soup(&soup, None);
     }
 });

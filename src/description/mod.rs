@@ -3,8 +3,9 @@
 //! Reading is two steps. The YAML reader (serde-saphyr) turns the text into
 //! the raw fields below, refusing unknown fields, wrong types and unreadable
 //! lengths with their line and column. [`resolve`] then checks the shape
-//! rules and builds the continuous [`Board`](crate::board::Board).
+//! rules and builds the continuous [`Board`](crate::model::board::Board).
 
+pub mod demo;
 mod resolve;
 pub mod values;
 pub mod write;
@@ -15,7 +16,7 @@ use std::path::Path;
 use serde::Deserialize;
 use serde_saphyr::Spanned;
 
-use crate::board::{Board, ContourKind, TailShape};
+use crate::model::board::{Board, ContourKind, TailShape};
 use crate::units::Unit;
 pub use resolve::{MAX_LENGTH, MIN_LENGTH, resolve};
 use values::{Blend, LengthValue, Position};

@@ -7,11 +7,11 @@ use serde_saphyr::{Location, Spanned};
 
 use super::values::{Blend, LengthValue, Position};
 use super::{BoardFile, DescriptionError, NoseShape, RailProfileSpec};
-use crate::board::{
+use crate::model::board::{
     Board, Closing, Contour, ContourKind, Outline, PlanCurve, RailProfile, Rails, TailEnd,
     TailShape,
 };
-use crate::curve::{Curve, End};
+use crate::model::curve::{Curve, End};
 use crate::units::{self, Unit};
 
 /// Shortest board accepted, mm.

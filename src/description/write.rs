@@ -5,8 +5,8 @@
 
 use std::fmt::Write as _;
 
-use crate::board::{Board, ContourKind, RailProfile, TailEnd};
-use crate::curve::Curve;
+use crate::model::board::{Board, ContourKind, RailProfile, TailEnd};
+use crate::model::curve::Curve;
 use crate::units::{MM_PER_FOOT, Unit};
 
 /// The unit a board was described in, judged by where its tip widths are
@@ -81,7 +81,7 @@ pub fn to_yaml(board: &Board, unit: Unit, comment: &str) -> String {
         TailEnd::Point => {}
         TailEnd::Block { half_block, corner } => {
             let _ = writeln!(o.text, "  tail_block: {}", o.len(2.0 * half_block));
-            if ol.tail_shape == crate::board::TailShape::Squash {
+            if ol.tail_shape == crate::model::board::TailShape::Squash {
                 let _ = writeln!(o.text, "  corner_radius: {}", o.len(corner.1));
                 let _ = writeln!(o.text, "  corner_length: {}", o.len(corner.0));
             }

@@ -1,4 +1,6 @@
-//! G-code (RS-274/NGC subset): reading any program, writing our own.
+//! G-code (RS-274/NGC subset): reading any program, writing our own, and
+//! the programs of a cut (paths to text, gates, setup sheet).
 
+pub mod program;
 pub mod read;
 pub mod write;

@@ -7,7 +7,7 @@
 
 use std::fmt::Write as _;
 
-use crate::cam::paths::{Step, Toolpath};
+use crate::model::toolpath::{Step, Toolpath};
 use crate::units::Unit;
 
 /// What a program's header says.
@@ -277,9 +277,9 @@ pub fn program(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::cam::job::Pass;
-    use crate::cam::profile::{Cutter, Tool};
     use crate::gcode::read::{self, Event, Motion, ReadOptions};
+    use crate::model::job::Pass;
+    use crate::model::machine::{Cutter, Tool};
 
     /// The integer formatting writes what the standard library's exact
     /// decimal rounding (`{:.3}`, `{:.4}`) writes, near ties included.

@@ -6,7 +6,7 @@
 
 use std::path::Path;
 
-use crate::mesher::MAX_TRIANGLES;
+use crate::meshing::mesher::MAX_TRIANGLES;
 
 /// Which flavour a file was.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]

@@ -4,7 +4,7 @@ use std::io::{self, Write};
 
 use rayon::prelude::*;
 
-use crate::mesh::{Mesh, cross, norm, sub};
+use crate::model::mesh::{Mesh, cross, norm, sub};
 
 fn facet_normal(c: &[[f64; 3]; 3]) -> [f32; 3] {
     let n = cross(sub(c[1], c[0]), sub(c[2], c[0]));

@@ -1,7 +1,7 @@
 //! Test shapes of standard geometry, as indexed meshes.
 #![allow(dead_code)]
 
-use blanksmith::mesh::Mesh;
+use blanksmith::model::mesh::Mesh;
 use std::f64::consts::PI;
 
 /// A UV sphere of radius `r` centred at `c`: `lat` bands, `lon` segments,

@@ -1,0 +1,571 @@
+//! From a placed board to finished programs: toolpaths for both setups,
+//! one program per setup and tool, the setup sheet, and the safety gates
+//! that read each finished program back as text.
+
+use std::io::BufReader;
+
+use crate::gcode::read::{self, Event, Motion, ReadOptions};
+use crate::gcode::write::{self, CAUTIONS, Header};
+use crate::model::job::Job;
+use crate::model::limits::Bed;
+use crate::model::machine::{Machine, Tool};
+use crate::model::mesh::Mesh;
+use crate::model::toolpath::{Step, Toolpath};
+use crate::profiles::machine::mm_text;
+use crate::toolpath::paths::{self, SetupPaths};
+use crate::toolpath::setup::{self, CamError, Placement, Side};
+use crate::units::{self, Unit};
+
+/// The rail apex line of a resolved board, every 2 mm, for [`plan`].
+pub fn apex_line(board: &crate::model::board::Board) -> Vec<[f64; 3]> {
+    let n = (board.length / 2.0).ceil().max(1.0) as usize;
+    (0..=n)
+        .map(|k| {
+            let x = board.length * k as f64 / n as f64;
+            [x, 0.0, board.station(x).apex_height()]
+        })
+        .collect()
+}
+
+/// One finished program.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Program {
+    /// File name, e.g. `shortboard-1-deck-T1.nc`.
+    pub file_name: String,
+    /// Setup.
+    pub side: Side,
+    /// Tool.
+    pub tool: Tool,
+    /// What it cuts, in order.
+    pub labels: Vec<&'static str>,
+    /// The program text.
+    pub text: String,
+    /// Estimated run time, seconds.
+    pub time_s: f64,
+    /// Length of tool travel, mm.
+    pub path_mm: f64,
+}
+
+/// Everything the cutting stage makes.
+#[derive(Debug, Clone)]
+pub struct CutPlan {
+    /// Where the board sits.
+    pub placement: Placement,
+    /// Toolpaths per setup.
+    pub setups: Vec<SetupPaths>,
+    /// Programs in running order.
+    pub programs: Vec<Program>,
+    /// The setup sheet text.
+    pub sheet: String,
+}
+
+/// Builds and checks the programs for a board mesh (nose at low X).
+pub fn plan(
+    name: &str,
+    litres: f64,
+    board: &Mesh,
+    apex: Option<&[[f64; 3]]>,
+    machine: &Machine,
+    job: &Job,
+    progress: &(dyn Fn(&str) + Sync),
+) -> Result<CutPlan, CamError> {
+    progress("placing the board");
+    let placement = setup::place(board, apex, job)?;
+    fits_machine(&placement, machine, job)?;
+    within_limits(&placement, job)?;
+    // The two setups are independent: plan them side by side.
+    let one = |side: Side| {
+        paths::setup_paths(&placement, job, side, machine.clearance, &|s| {
+            progress(&format!(
+                "setup {} ({} up): {s}",
+                side.number(),
+                side.name()
+            ))
+        })
+    };
+    let (deck, bottom) = rayon::join(|| one(Side::Deck), || one(Side::Bottom));
+    let setups = vec![deck, bottom];
+    let mut programs = Vec::new();
+    for sp in &setups {
+        // Group the paths by tool, in cutting order.
+        let mut groups: Vec<Vec<&Toolpath>> = Vec::new();
+        for p in &sp.paths {
+            match groups.last_mut() {
+                Some(g) if machine.tool_changer || g[0].pass.tool.id == p.pass.tool.id => g.push(p),
+                _ => groups.push(vec![p]),
+            }
+        }
+        for g in groups {
+            let tool = g[0].pass.tool.clone();
+            let (time_s, path_mm) = estimate(&g, machine);
+            let tools: Vec<String> = {
+                let mut t: Vec<String> = g.iter().map(|p| p.pass.tool.describe()).collect();
+                t.dedup();
+                t
+            };
+            let file_name = if machine.tool_changer {
+                format!("{name}-{}-{}.nc", sp.side.number(), sp.side.name())
+            } else {
+                format!(
+                    "{name}-{}-{}-T{}.nc",
+                    sp.side.number(),
+                    sp.side.name(),
+                    tool.id
+                )
+            };
+            let b = &placement.block;
+            let header = Header {
+                lines: vec![
+                    format!("blanksmith program {file_name}"),
+                    format!("board {name}, {litres:.2} L"),
+                    format!("setup {} of 2: {} up{}", sp.side.number(), sp.side.name(), if sp.side == Side::Bottom { ", after the flip about X onto the registration pins" } else { "" }),
+                    format!("cuts: {}", g.iter().map(|p| p.label).collect::<Vec<_>>().join(", ")),
+                    format!("tool: {}", tools.join("; ")),
+                    match b.rocker {
+                        None => "zero: X0 Y0 at the front-left corner of the block's top face, Z0 on the top face (touch off the tool tip)".to_string(),
+                        Some(_) => format!("zero: X0 at the blank's nose end, Y0 on its front side, Z0 on its highest point in this setup, at X{:.1} (touch off the tool tip)", b.zero_x(sp.side == Side::Deck)),
+                    },
+                    match b.rocker {
+                        None => format!("stock: {} x {} x {} mm block (L x W x T), front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), job.table_position[0], job.table_position[1]),
+                        Some(_) => format!("stock: {} x {} mm rockered blank, {} mm high overall, in a cradle cut to its {} curve, front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), if sp.side == Side::Deck { "bottom" } else { "deck" }, job.table_position[0], job.table_position[1]),
+                    },
+                    format!("units: {}; estimated run time {}", unit_name(machine.output), duration(time_s)),
+                ],
+                cautions: CAUTIONS.iter().map(|s| s.to_string()).collect(),
+            };
+            let text = write::program(
+                &header,
+                &g,
+                machine.output,
+                machine.clearance,
+                machine.spindle_ramp,
+                machine.tool_changer,
+                machine.max_feed_z,
+            );
+            programs.push(Program {
+                file_name,
+                side: sp.side,
+                tool,
+                labels: g.iter().map(|p| p.label).collect(),
+                text,
+                time_s,
+                path_mm,
+            });
+        }
+    }
+    for p in &programs {
+        let problems = check_text(p, machine, &placement, job);
+        if !problems.is_empty() {
+            return Err(CamError::Refused(format!(
+                "{}: {}",
+                p.file_name,
+                problems.join("; ")
+            )));
+        }
+    }
+    let sheet = setup_sheet(name, litres, &placement, &programs, machine, job);
+    Ok(CutPlan {
+        placement,
+        setups,
+        programs,
+        sheet,
+    })
+}
+
+fn f1(v: f64) -> String {
+    format!("{v:.1}")
+}
+
+fn unit_name(u: Unit) -> &'static str {
+    match u {
+        Unit::Mm => "mm (G21)",
+        Unit::In => "inch (G20)",
+    }
+}
+
+/// `1 h 02 min 05 s`.
+pub fn duration(s: f64) -> String {
+    let t = s.round() as u64;
+    let (h, m, sec) = (t / 3600, (t / 60) % 60, t % 60);
+    if h > 0 {
+        format!("{h} h {m:02} min {sec:02} s")
+    } else {
+        format!("{m} min {sec:02} s")
+    }
+}
+
+/// Most finishing cutter positions a side, and most square millimetres of
+/// block (the planner keeps a 1 mm height map of it): beyond these the run
+/// would take minutes and gigabytes.
+pub const MAX_POSITIONS: f64 = 40.0e6;
+/// See [`MAX_POSITIONS`].
+pub const MAX_BLOCK_AREA: f64 = 40.0e6;
+
+fn within_limits(p: &Placement, job: &Job) -> Result<(), CamError> {
+    let b = &p.block;
+    let area = b.length * b.width;
+    if area > MAX_BLOCK_AREA {
+        return Err(CamError::Limit(format!(
+            "the block is {:.1} m² in plan; the planner's limit is {:.0} m²",
+            area / 1e6,
+            MAX_BLOCK_AREA / 1e6
+        )));
+    }
+    let fin = &job.finishing;
+    let s = paths::scallop_stepover(fin.pass.tool.cutter.radius, fin.scallop)
+        * fin.steep_angle.to_radians().cos();
+    let along = 0.5f64.min(s / 2.0);
+    let r = fin.pass.tool.cutter.radius + 1.0;
+    let positions =
+        ((p.x_range[1] - p.x_range[0] + 2.0 * r) / along) * ((2.0 * (p.half_width + r)) / s);
+    if positions > MAX_POSITIONS {
+        return Err(CamError::Limit(format!(
+            "finishing at a {:.3} mm scallop needs about {:.0} million cutter positions a side; the limit is {:.0} million: raise finishing.scallop",
+            fin.scallop,
+            positions / 1e6,
+            MAX_POSITIONS / 1e6
+        )));
+    }
+    Ok(())
+}
+
+fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {
+    let b = &p.block;
+    let [tx, ty] = job.table_position;
+    let mut why = Vec::new();
+    if tx + b.length > m.travel[0] {
+        why.push(format!(
+            "the block runs to machine X {:.1} mm but X travel is {:.1} mm",
+            tx + b.length,
+            m.travel[0]
+        ));
+    }
+    if ty + b.width > m.travel[1] {
+        why.push(format!(
+            "the block runs to machine Y {:.1} mm but Y travel is {:.1} mm",
+            ty + b.width,
+            m.travel[1]
+        ));
+    }
+    let top = m.table_top + b.thickness + m.clearance;
+    if top > m.travel[2] {
+        why.push(format!(
+            "the block top plus clearance is {:.1} mm above the bed but Z travel is {:.1} mm",
+            top, m.travel[2]
+        ));
+    }
+    if why.is_empty() {
+        Ok(())
+    } else {
+        Err(CamError::Fit(format!(
+            "the stock does not fit the machine: {}",
+            why.join("; ")
+        )))
+    }
+}
+
+/// Run time: feed moves at their feed (limited by the machine's Z rate on
+/// steep moves), rapids at the machine's rapid rates with the axes moving
+/// together, plus the spindle dwell.
+fn estimate(paths: &[&Toolpath], m: &Machine) -> (f64, f64) {
+    let mut at = [0.0, 0.0, m.clearance];
+    let (mut t, mut len) = (m.spindle_ramp, 0.0);
+    for p in paths {
+        for s in &p.steps {
+            let (to, feed, arc) = match *s {
+                Step::Rapid(to) => (to, None, None),
+                Step::Plunge(to) => (to, Some(p.pass.plunge_feed), None),
+                Step::Cut(to) => (to, Some(p.pass.feed), None),
+                Step::Arc { to, centre, .. } => (to, Some(p.pass.feed), Some(centre)),
+            };
+            let dxy = match arc {
+                // Full turns: the helix length is 2πr a turn.
+                Some(c) => {
+                    2.0 * std::f64::consts::PI
+                        * ((at[0] - c[0]).powi(2) + (at[1] - c[1]).powi(2)).sqrt()
+                }
+                None => ((to[0] - at[0]).powi(2) + (to[1] - at[1]).powi(2)).sqrt(),
+            };
+            let dz = (to[2] - at[2]).abs();
+            let d = (dxy * dxy + dz * dz).sqrt();
+            len += d;
+            t += match feed {
+                None => (dxy / m.rapid_xy).max(dz / m.rapid_z) * 60.0,
+                Some(f) => {
+                    let f = if d > 0.0 {
+                        f.min(m.max_feed_z * d / dz.max(1e-12))
+                    } else {
+                        f
+                    };
+                    d / f * 60.0
+                }
+            };
+            at = to;
+        }
+    }
+    (t, len)
+}
+
+/// The safety gates, on the program text as written: reads it back with
+/// the project's reader and checks every move and setting.
+pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec<String> {
+    let b = &place.block;
+    let mut problems: Vec<String> = Vec::new();
+    let mut note = |s: String| {
+        if problems.len() < 8 {
+            problems.push(s);
+        }
+    };
+    let mut first_move = true;
+    let mut spindle_started = false;
+    let bed = Bed {
+        machine: m,
+        thickness: b.thickness,
+        table_position: job.table_position,
+    };
+    let result = read::read(
+        BufReader::new(p.text.as_bytes()),
+        &p.file_name,
+        ReadOptions::default(),
+        |e| match e {
+            Event::Move {
+                line,
+                motion,
+                from,
+                to,
+                feed,
+                spindle,
+                spindle_on,
+                ..
+            } => {
+                if first_move {
+                    first_move = false;
+                    if motion != Motion::Rapid
+                        || to[0] != from[0]
+                        || to[1] != from[1]
+                        || to[2] < m.clearance - 1e-6
+                    {
+                        note(format!(
+                            "line {line}: the first move must rise to clearance height"
+                        ));
+                    }
+                }
+                for q in [to] {
+                    for why in bed.position(q) {
+                        note(format!("line {line}: {why}"));
+                    }
+                    // Depth below the stock's top there (a rockered
+                    // blank's top, with its allowance, is below Z 0 along
+                    // its middle).
+                    let top = b.top_under(p.side == Side::Deck, q[0]).0 + b.allowance();
+                    if top - q[2] > p.tool.reach + 1e-6 {
+                        note(format!(
+                            "line {line}: Z {:.3} mm is {:.3} mm below the stock top there, deeper than T{} reaches below its holder ({})",
+                            q[2],
+                            top - q[2],
+                            p.tool.id,
+                            mm_text(p.tool.reach)
+                        ));
+                    }
+                }
+                if motion != Motion::Rapid {
+                    if !spindle_on || spindle <= 0.0 {
+                        note(format!("line {line}: a feed move with the spindle off"));
+                    }
+                    if !spindle_started {
+                        note(format!(
+                            "line {line}: a feed move before the spindle start and dwell"
+                        ));
+                    }
+                    for why in bed.feed(from, to, feed) {
+                        note(format!("line {line}: {why}"));
+                    }
+                }
+                if let Some(why) = bed.spindle(spindle) {
+                    note(format!("line {line}: {why}"));
+                }
+            }
+            Event::Dwell { .. } => spindle_started = true,
+            Event::Setting {
+                line,
+                spindle: Some(s),
+                ..
+            } => {
+                if let Some(why) = bed.spindle(s) {
+                    note(format!("line {line}: {why}"));
+                }
+            }
+            _ => {}
+        },
+    );
+    let lines: Vec<&str> = p.text.lines().collect();
+    let mut problems: Vec<String> = problems
+        .into_iter()
+        .map(|s| {
+            // Quote the line the problem is on.
+            let n: Option<usize> = s
+                .strip_prefix("line ")
+                .and_then(|r| r.split(':').next())
+                .and_then(|n| n.parse().ok());
+            match n.and_then(|n| lines.get(n - 1)) {
+                Some(text) => format!("{s} (`{text}`)"),
+                None => s,
+            }
+        })
+        .collect();
+    match result {
+        Err(e) => problems.push(format!("the program does not read back: {e}")),
+        Ok(s) if s.missing_end => problems.push("the program has no M30 end".into()),
+        Ok(_) => {}
+    }
+    problems
+}
+
+/// The setup sheet: the steps in order, each program's tool, time and cautions.
+pub fn setup_sheet(
+    name: &str,
+    litres: f64,
+    place: &Placement,
+    programs: &[Program],
+    m: &Machine,
+    job: &Job,
+) -> String {
+    let mut s = String::new();
+    let both = |v: f64| units::Both(v).to_string();
+    s.push_str(&format!(
+        "SETUP SHEET: {name} ({litres:.2} L) on {}\n\n",
+        m.name
+    ));
+    for c in CAUTIONS {
+        s.push_str(c);
+        s.push('\n');
+    }
+    s.push_str("\nFIT\n");
+    for l in place.fit_lines() {
+        s.push_str(&format!("  {l}\n"));
+    }
+    let b = &place.block;
+    let [h1, h2] = place.holes;
+    let mut step = 0;
+    let mut next = |text: String, s: &mut String| {
+        step += 1;
+        s.push_str(&format!("{step:>2}. {text}\n"));
+    };
+    s.push_str("\nSTEPS\n");
+    let rockered = b.rocker.is_some();
+    let (what, hold) = if rockered {
+        (
+            format!(
+                "the {} x {} rockered blank ({} high overall) bottom down in a cradle cut to its bottom curve (the job's stations), its lowest point on the spoilboard, its nose end and front side",
+                both(b.length),
+                both(b.width),
+                both(b.thickness)
+            ),
+            "lift, rock or slide (clamps outside the cut band: between cuts the tool crosses the blank's low middle at the clearance above the blank's own top there, not above Z0, so nothing may stand above the blank over the cut band)",
+        )
+    } else {
+        (
+            format!(
+                "the {} x {} x {} block flat on the spoilboard, its front-left corner",
+                both(b.length),
+                both(b.width),
+                both(b.thickness)
+            ),
+            "lift or slide (clamps outside the cut band, or vacuum)",
+        )
+    };
+    next(
+        format!(
+            "Fix the blank: {what} at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot {hold}.",
+            job.table_position[0], job.table_position[1]
+        ),
+        &mut s,
+    );
+    if rockered {
+        next(
+            format!(
+                "Set zero: X0 at the blank's nose end, Y0 on its front side, Z0 on the deck's highest point, at X {}, with each tool's tip. Check the tool length after every tool change.",
+                both(b.zero_x(true))
+            ),
+            &mut s,
+        );
+    } else {
+        next("Set zero: X0 Y0 on the block's front-left corner, Z0 on its top face with each tool's tip. Check the tool length after every tool change.".into(), &mut s);
+    }
+    let mut flipped = false;
+    for p in programs {
+        if p.side == Side::Bottom && !flipped {
+            flipped = true;
+            if rockered {
+                next(
+                    format!(
+                        "Flip: lift the blank off, turn it over about its long (X) axis, and set it deck down in a second cradle cut to its deck curve, on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), drilled through the blank and {:.1} mm into the first cradle: the second cradle's pin holes stand at the same machine X, Y. Pins must not stand above the blank.",
+                        h1[0], h2[0], h1[1], job.pin_depth
+                    ),
+                    &mut s,
+                );
+                next(
+                    format!(
+                        "Set Z0 again on the new highest point (the bottom's lowest point), at X {}; X0 Y0 are unchanged.",
+                        both(b.zero_x(false))
+                    ),
+                    &mut s,
+                );
+            } else {
+                next(
+                    format!(
+                        "Flip: lift the block off, turn it over about its long (X) axis, and set it back on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), through the block and {:.1} mm into the spoilboard. The front-left corner is again at the same machine X, Y. Pins must not stand above the block's top face.",
+                        h1[0], h2[0], h1[1], job.pin_depth
+                    ),
+                    &mut s,
+                );
+                next(
+                    "Set Z0 again on the new top face (it was the bottom face); X0 Y0 are unchanged."
+                        .into(),
+                    &mut s,
+                );
+            }
+        }
+        next(
+            format!(
+                "Setup {} ({} up): load {}; run {} ({}); about {}.",
+                p.side.number(),
+                p.side.name(),
+                p.tool.describe(),
+                p.file_name,
+                p.labels.join(", "),
+                duration(p.time_s)
+            ),
+            &mut s,
+        );
+        if p.labels.contains(&"registration holes") {
+            next(
+                "Leave the pins out until the flip; clean the chips out of the holes.".into(),
+                &mut s,
+            );
+        }
+    }
+    next(
+        format!(
+            "Remove the tabs: the board is held at nose and tail by tabs {} wide and {} high; cut them with a fine saw and sand them fair by hand.",
+            both(job.tabs[0]),
+            both(job.tabs[1])
+        ),
+        &mut s,
+    );
+    next(
+        "Sand the scallops and the parting line at the rail apex by hand.".into(),
+        &mut s,
+    );
+    s.push_str("\nPROGRAMS\n");
+    for p in programs {
+        s.push_str(&format!(
+            "  {}: {}, {}, {}\n",
+            p.file_name,
+            p.tool.describe(),
+            p.labels.join(" + "),
+            duration(p.time_s)
+        ));
+    }
+    s
+}

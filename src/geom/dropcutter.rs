@@ -1,0 +1,609 @@
+//! Drop-cutter: lower a tool along a vertical line until it touches the
+//! mesh, exactly, against each candidate triangle's face, edges and
+//! vertices. The tool's highest touching position is where it may go.
+//!
+//! Method: the classic drop-cutter decomposition (the contact is with the
+//! face interior, an edge, or a vertex; the answer is the highest of the
+//! three), as in Chuang, Chen and Chang, "Automated tool-path generation for
+//! 3-axis machining" and Hwang, "Interference-free tool-path generation in
+//! the NC machining of parametric compound surfaces" (CAD 24, 1992).
+//! Candidates come from a bucket grid over the plan view, each bucket's
+//! triangles sorted by their highest corner so the search stops as soon as
+//! no remaining triangle can lift the tool. (A k-d tree over triangle
+//! centroids cannot bound long triangles, and a board mesh is made of long
+//! strips along the stringer; the grid bounds them exactly.)
+
+use rayon::prelude::*;
+
+use crate::model::machine::{Cutter, ToolKind};
+use crate::model::mesh::Mesh;
+
+#[derive(Debug, Clone, Copy)]
+struct Tri {
+    /// Plan bounding box: min x, min y, max x, max y.
+    bb: [f64; 4],
+    p: [[f64; 3]; 3],
+    /// Each edge k (corner k to k + 1): unit direction, length, and
+    /// 1 − u_z², precomputed for the ball's edge test.
+    edges: [([f64; 3], f64, f64); 3],
+    /// Unit normal, made to point up (nz >= 0).
+    n: [f64; 3],
+    zmax: f64,
+}
+
+/// What the search reads of every candidate before it looks at the
+/// triangle itself: the plan box and top corner, rounded outwards to `f32`
+/// (20 bytes, so a side's worth stays in cache; the exact test uses `Tri`).
+#[derive(Debug, Clone, Copy)]
+struct Bound {
+    bb: [f32; 4],
+    zmax: f32,
+}
+
+/// `v` rounded to an `f32` no greater (`down`) or no less than it.
+fn f32_toward(v: f64, down: bool) -> f32 {
+    let f = v as f32;
+    match (down, (f as f64).partial_cmp(&v)) {
+        (true, Some(std::cmp::Ordering::Greater)) => f.next_down(),
+        (false, Some(std::cmp::Ordering::Less)) => f.next_up(),
+        _ => f,
+    }
+}
+
+/// A mesh prepared for dropping one cutter.
+#[derive(Debug, Clone)]
+pub struct DropCutter {
+    cutter: Cutter,
+    /// In the mesh's order, which keeps neighbours near in memory.
+    tris: Vec<Tri>,
+    bounds: Vec<Bound>,
+    origin: [f64; 2],
+    cell: f64,
+    dims: [usize; 2],
+    /// Start of each bucket in `items` (dims[0] * dims[1] + 1 entries).
+    starts: Vec<u32>,
+    items: Vec<u32>,
+}
+
+/// How a cutter is shaped for the drop: a bull-nose drops as a flat of the
+/// same diameter, which contains it, so the tool is never placed lower than
+/// it may go (it may be placed a little higher near steep walls).
+fn drop_shape(c: Cutter) -> Cutter {
+    match c.kind {
+        ToolKind::Bull => Cutter::flat(2.0 * c.radius),
+        _ => c,
+    }
+}
+
+impl DropCutter {
+    /// Indexes `meshes` (all together) for `cutter`.
+    pub fn new(meshes: &[&Mesh], cutter: Cutter) -> DropCutter {
+        let cutter = drop_shape(cutter);
+        let r = cutter.radius;
+        let mut tris = Vec::new();
+        for mesh in meshes {
+            for t in &mesh.triangles {
+                let p = mesh.corners(t);
+                let e1 = sub(p[1], p[0]);
+                let e2 = sub(p[2], p[0]);
+                let mut n = cross(e1, e2);
+                let len = norm(n);
+                if len.is_nan() || len <= 0.0 {
+                    continue;
+                }
+                n = [n[0] / len, n[1] / len, n[2] / len];
+                if n[2] < 0.0 {
+                    n = [-n[0], -n[1], -n[2]];
+                }
+                let zmax = p[0][2].max(p[1][2]).max(p[2][2]);
+                let bb = [
+                    p[0][0].min(p[1][0]).min(p[2][0]),
+                    p[0][1].min(p[1][1]).min(p[2][1]),
+                    p[0][0].max(p[1][0]).max(p[2][0]),
+                    p[0][1].max(p[1][1]).max(p[2][1]),
+                ];
+                let edge = |k: usize| {
+                    let u = sub(p[(k + 1) % 3], p[k]);
+                    let len = norm(u);
+                    if len.is_nan() || len <= 0.0 {
+                        return ([0.0; 3], 0.0, 0.0);
+                    }
+                    let u = [u[0] / len, u[1] / len, u[2] / len];
+                    (u, len, 1.0 - u[2] * u[2])
+                };
+                let edges = [edge(0), edge(1), edge(2)];
+                tris.push(Tri {
+                    bb,
+                    p,
+                    edges,
+                    n,
+                    zmax,
+                });
+            }
+        }
+        // Buckets filled highest first (a total order: height, then input
+        // order, so the unstable sort is deterministic) come out sorted by
+        // height without a sort of their own.
+        let mut order: Vec<u32> = (0..tris.len() as u32).collect();
+        order.sort_unstable_by(|&a, &c| {
+            tris[c as usize]
+                .zmax
+                .total_cmp(&tris[a as usize].zmax)
+                .then(a.cmp(&c))
+        });
+        let bounds: Vec<Bound> = tris
+            .iter()
+            .map(|t| Bound {
+                bb: [
+                    f32_toward(t.bb[0], true),
+                    f32_toward(t.bb[1], true),
+                    f32_toward(t.bb[2], false),
+                    f32_toward(t.bb[3], false),
+                ],
+                zmax: f32_toward(t.zmax, false),
+            })
+            .collect();
+        let mut lo = [f64::INFINITY; 2];
+        let mut hi = [f64::NEG_INFINITY; 2];
+        for t in &tris {
+            for q in &t.p {
+                lo = [lo[0].min(q[0]), lo[1].min(q[1])];
+                hi = [hi[0].max(q[0]), hi[1].max(q[1])];
+            }
+        }
+        if tris.is_empty() {
+            lo = [0.0, 0.0];
+            hi = [1.0, 1.0];
+        }
+        let origin = [lo[0] - r, lo[1] - r];
+        let span = [hi[0] - lo[0] + 2.0 * r, hi[1] - lo[1] + 2.0 * r];
+        // About 4 buckets per tool diameter, at most ~4 M buckets.
+        // (at least 1.5 mm, about a board mesh's triangle: finer buckets only
+        // repeat each triangle in more of them).
+        let mut cell = (r / 2.0).max(1.5);
+        while (span[0] / cell) * (span[1] / cell) > 4.0e6 {
+            cell *= 1.5;
+        }
+        let dims = [
+            (span[0] / cell).ceil().max(1.0) as usize,
+            (span[1] / cell).ceil().max(1.0) as usize,
+        ];
+        let bucket_range = |t: &Tri| {
+            let (mut a, mut b) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
+            for q in &t.p {
+                a = [a[0].min(q[0]), a[1].min(q[1])];
+                b = [b[0].max(q[0]), b[1].max(q[1])];
+            }
+            let i0 = (((a[0] - r - origin[0]) / cell).floor().max(0.0) as usize).min(dims[0] - 1);
+            let i1 = (((b[0] + r - origin[0]) / cell).floor().max(0.0) as usize).min(dims[0] - 1);
+            let j0 = (((a[1] - r - origin[1]) / cell).floor().max(0.0) as usize).min(dims[1] - 1);
+            let j1 = (((b[1] + r - origin[1]) / cell).floor().max(0.0) as usize).min(dims[1] - 1);
+            (i0, i1, j0, j1)
+        };
+        let nb = dims[0] * dims[1];
+        let mut counts = vec![0u32; nb + 1];
+        for t in &tris {
+            let (i0, i1, j0, j1) = bucket_range(t);
+            for j in j0..=j1 {
+                for i in i0..=i1 {
+                    counts[j * dims[0] + i + 1] += 1;
+                }
+            }
+        }
+        for k in 0..nb {
+            counts[k + 1] += counts[k];
+        }
+        let starts = counts.clone();
+        let mut fill = counts;
+        let mut items = vec![0u32; starts[nb] as usize];
+        for &ti in &order {
+            let (i0, i1, j0, j1) = bucket_range(&tris[ti as usize]);
+            for j in j0..=j1 {
+                for i in i0..=i1 {
+                    let b = j * dims[0] + i;
+                    items[fill[b] as usize] = ti;
+                    fill[b] += 1;
+                }
+            }
+        }
+        DropCutter {
+            cutter,
+            tris,
+            bounds,
+            origin,
+            cell,
+            dims,
+            starts,
+            items,
+        }
+    }
+
+    /// The cutter being dropped.
+    pub fn cutter(&self) -> Cutter {
+        self.cutter
+    }
+
+    /// Tip height where the cutter at (x, y) first touches the mesh from
+    /// above; `None` where no triangle is within reach.
+    pub fn drop(&self, x: f64, y: f64) -> Option<f64> {
+        self.touch(x, y).map(|(z, _)| z)
+    }
+
+    /// Like [`drop`](Self::drop), with the unit normal (up) of the
+    /// triangle touched.
+    pub fn drop_contact(&self, x: f64, y: f64) -> Option<(f64, [f64; 3])> {
+        self.touch(x, y).map(|(z, t)| (z, self.tris[t].n))
+    }
+
+    /// The highest touch at (x, y) and the triangle touched.
+    #[inline]
+    fn touch(&self, x: f64, y: f64) -> Option<(f64, usize)> {
+        let i = ((x - self.origin[0]) / self.cell).floor();
+        let j = ((y - self.origin[1]) / self.cell).floor();
+        if !(i >= 0.0 && j >= 0.0) || i as usize >= self.dims[0] || j as usize >= self.dims[1] {
+            return None;
+        }
+        let b = j as usize * self.dims[0] + i as usize;
+        let r = self.cutter.radius;
+        let ball = self.cutter.kind == ToolKind::Ball;
+        let mut best = (f64::NEG_INFINITY, 0);
+        for &ti in &self.items[self.starts[b] as usize..self.starts[b + 1] as usize] {
+            let bound = &self.bounds[ti as usize];
+            if bound.zmax as f64 <= best.0 {
+                break;
+            }
+            if !may_lift(bound, x, y, r, ball, best.0) {
+                continue;
+            }
+            let t = &self.tris[ti as usize];
+            let z = if ball {
+                ball_touch(t, x, y, r, best.0)
+            } else {
+                flat_touch(t, x, y, r)
+            };
+            if z > best.0 {
+                best = (z, ti as usize);
+            }
+        }
+        (best.0 > f64::NEG_INFINITY).then_some(best)
+    }
+
+    /// [`drop`](Self::drop) at many points, in parallel; the order is kept.
+    pub fn drop_many(&self, points: &[[f64; 2]]) -> Vec<Option<f64>> {
+        points
+            .par_chunks(4096)
+            .flat_map_iter(|c| c.iter().map(|p| self.drop(p[0], p[1])))
+            .collect()
+    }
+}
+
+/// Where the vertical line through a point, (wx, wy) in plan from a
+/// segment's start, crosses the cylinder of squared radius `r2` about the
+/// segment (unit direction `u`, length `len`, `a` = 1 − u_z²): the height
+/// above the start of the upper (`upper`) or lower crossing, if that
+/// crossing is beside the segment rather than beyond its ends. Shared by
+/// the drop-cutter (a ball on an edge) and the height map (the capsule a
+/// ball sweeps).
+pub fn cylinder_crossing(
+    wx: f64,
+    wy: f64,
+    u: [f64; 3],
+    len: f64,
+    a: f64,
+    r2: f64,
+    upper: bool,
+) -> Option<f64> {
+    let k0 = wx * u[0] + wy * u[1];
+    let bq = -2.0 * k0 * u[2];
+    let cq = wx * wx + wy * wy - k0 * k0 - r2;
+    let disc = bq * bq - 4.0 * a * cq;
+    if disc < 0.0 {
+        return None;
+    }
+    let root = disc.sqrt();
+    let s = if upper {
+        (-bq + root) / (2.0 * a)
+    } else {
+        (-bq - root) / (2.0 * a)
+    };
+    let along = k0 + s * u[2];
+    (0.0..=len).contains(&along).then_some(s)
+}
+
+/// Whether triangle `t` can lift a cutter of radius `r` at (x, y) above
+/// `best`: its plan box within reach, and (for a ball) its top corner,
+/// lowered by how far the ball's surface rises at the box's distance, above
+/// `best`.
+#[inline]
+fn may_lift(t: &Bound, x: f64, y: f64, r: f64, ball: bool, best: f64) -> bool {
+    let bb = t.bb.map(f64::from);
+    let dx = (bb[0] - x).max(x - bb[2]).max(0.0);
+    let dy = (bb[1] - y).max(y - bb[3]).max(0.0);
+    let d2 = dx * dx + dy * dy;
+    if d2 > r * r {
+        return false;
+    }
+    !ball || t.zmax as f64 - (r - (r * r - d2).sqrt()) > best
+}
+
+fn sub(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
+    [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
+}
+fn cross(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
+    [
+        a[1] * b[2] - a[2] * b[1],
+        a[2] * b[0] - a[0] * b[2],
+        a[0] * b[1] - a[1] * b[0],
+    ]
+}
+fn norm(a: [f64; 3]) -> f64 {
+    (a[0] * a[0] + a[1] * a[1] + a[2] * a[2]).sqrt()
+}
+
+/// Whether (x, y) lies in the triangle's plan projection (edges included).
+fn inside_plan(t: &Tri, x: f64, y: f64) -> bool {
+    let [a, b, c] = t.p;
+    let d1 = (b[0] - a[0]) * (y - a[1]) - (b[1] - a[1]) * (x - a[0]);
+    let d2 = (c[0] - b[0]) * (y - b[1]) - (c[1] - b[1]) * (x - b[0]);
+    let d3 = (a[0] - c[0]) * (y - c[1]) - (a[1] - c[1]) * (x - c[0]);
+    (d1 >= 0.0 && d2 >= 0.0 && d3 >= 0.0) || (d1 <= 0.0 && d2 <= 0.0 && d3 <= 0.0)
+}
+
+fn plane_z(t: &Tri, x: f64, y: f64) -> f64 {
+    let a = t.p[0];
+    a[2] - (t.n[0] * (x - a[0]) + t.n[1] * (y - a[1])) / t.n[2]
+}
+
+/// Faces steeper than this are left to their edges (no face contact from above).
+const MIN_NZ: f64 = 1e-9;
+
+/// Highest tip height of a ball of radius `r` centred over (x, y) touching
+/// `t`, if above `floor` (else at most `floor`). Each contact's tip is no
+/// higher than its contact point, so an edge or vertex that does not rise
+/// above `floor` is skipped.
+fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
+    let mut best = floor;
+    // Face: the centre sits r along the normal from the contact point.
+    if t.n[2] > MIN_NZ {
+        let qx = x - r * t.n[0];
+        let qy = y - r * t.n[1];
+        if inside_plan(t, qx, qy) {
+            best = best.max(plane_z(t, qx, qy) + r * t.n[2] - r);
+        }
+    }
+    let r2 = r * r;
+    for k in 0..3 {
+        let p0 = t.p[k];
+        let p1 = t.p[(k + 1) % 3];
+        if p0[2].max(p1[2]) <= best {
+            continue;
+        }
+        // Vertex.
+        let d2 = (x - p0[0]).powi(2) + (y - p0[1]).powi(2);
+        if d2 <= r2 && p0[2] > best {
+            best = best.max(p0[2] + (r2 - d2).sqrt() - r);
+        }
+        // Edge: the centre line x = (x, y, s) at distance r from the line
+        // through p0, p1; keep the contact only within the segment.
+        let (u, len, a) = t.edges[k];
+        if len <= 0.0 || a < 1e-12 {
+            continue;
+        }
+        if let Some(s) = cylinder_crossing(x - p0[0], y - p0[1], u, len, a, r2, true) {
+            best = best.max(p0[2] + s - r);
+        }
+    }
+    best
+}
+
+/// Highest tip height of a flat end of radius `r` centred over (x, y) touching `t`.
+fn flat_touch(t: &Tri, x: f64, y: f64, r: f64) -> f64 {
+    if r == 0.0 {
+        // A vertical ray: only a face can be hit (edges and corners are
+        // hit only where a face is too).
+        return if t.n[2] > MIN_NZ && inside_plan(t, x, y) {
+            plane_z(t, x, y)
+        } else {
+            f64::NEG_INFINITY
+        };
+    }
+    let mut best = f64::NEG_INFINITY;
+    // Face: a plane is highest over the disc at the rim point up the slope.
+    if t.n[2] > MIN_NZ {
+        let g = (t.n[0] * t.n[0] + t.n[1] * t.n[1]).sqrt();
+        let (qx, qy) = if g > 1e-15 {
+            (x - r * t.n[0] / g, y - r * t.n[1] / g)
+        } else {
+            (x, y)
+        };
+        if inside_plan(t, qx, qy) {
+            best = plane_z(t, qx, qy);
+        }
+    }
+    let r2 = r * r;
+    for k in 0..3 {
+        let p0 = t.p[k];
+        let p1 = t.p[(k + 1) % 3];
+        let d2 = (x - p0[0]).powi(2) + (y - p0[1]).powi(2);
+        if d2 <= r2 {
+            best = best.max(p0[2]);
+        }
+        // Edge: z is linear along it, so its highest point over the disc is
+        // where the segment leaves the disc.
+        let dx = p1[0] - p0[0];
+        let dy = p1[1] - p0[1];
+        let a = dx * dx + dy * dy;
+        if a <= 0.0 {
+            continue;
+        }
+        let fx = p0[0] - x;
+        let fy = p0[1] - y;
+        let b = 2.0 * (fx * dx + fy * dy);
+        let c = fx * fx + fy * fy - r2;
+        let disc = b * b - 4.0 * a * c;
+        if disc < 0.0 {
+            continue;
+        }
+        let sq = disc.sqrt();
+        for s in [(-b - sq) / (2.0 * a), (-b + sq) / (2.0 * a)] {
+            if (0.0..=1.0).contains(&s) {
+                best = best.max(p0[2] + s * (p1[2] - p0[2]));
+            }
+        }
+    }
+    best
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geom::nearest::closest_on_triangle;
+
+    fn plate(z: f64) -> Mesh {
+        Mesh {
+            vertices: vec![
+                [-50.0, -50.0, z],
+                [50.0, -50.0, z],
+                [50.0, 50.0, z],
+                [-50.0, 50.0, z],
+            ],
+            triangles: vec![[0, 1, 2], [0, 2, 3]],
+        }
+    }
+
+    #[test]
+    fn ball_over_a_flat_plate_sits_r_above() {
+        // Geometry: a sphere resting on a plane has its centre r above it.
+        let m = plate(3.0);
+        let dc = DropCutter::new(&[&m], Cutter::ball(12.7));
+        for (x, y) in [(0.0, 0.0), (10.3, -7.1), (-40.0, 40.0)] {
+            let tip = dc.drop(x, y).unwrap();
+            assert!((tip - 3.0).abs() < 1e-12, "{tip}");
+        }
+        let dc = DropCutter::new(&[&m], Cutter::flat(10.0));
+        assert!((dc.drop(1.0, 2.0).unwrap() - 3.0).abs() < 1e-12);
+    }
+
+    /// Brute force: the highest centre height where the ball touches the
+    /// triangle, from Ericson's closest-point routine (Real-Time Collision
+    /// Detection, 5.1.5) and bisection on the distance, which is convex
+    /// along the vertical line.
+    fn brute(t: [[f64; 3]; 3], x: f64, y: f64, r: f64) -> Option<f64> {
+        let dist = |z: f64| {
+            let p = [x, y, z];
+            let q = closest_on_triangle(p, t[0], t[1], t[2]);
+            ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt()
+        };
+        let (mut lo, mut hi) = (-200.0, 200.0);
+        for _ in 0..200 {
+            let m1 = lo + (hi - lo) / 3.0;
+            let m2 = hi - (hi - lo) / 3.0;
+            if dist(m1) < dist(m2) {
+                hi = m2
+            } else {
+                lo = m1
+            }
+        }
+        let zmin = 0.5 * (lo + hi);
+        if dist(zmin) > r {
+            return None;
+        }
+        let (mut a, mut b) = (zmin, 400.0);
+        for _ in 0..200 {
+            let m = 0.5 * (a + b);
+            if dist(m) <= r { a = m } else { b = m }
+        }
+        Some(a - r)
+    }
+
+    #[test]
+    fn ball_matches_brute_force_on_random_triangles() {
+        let mut seed = 12345u64;
+        let mut rnd = || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            ((seed >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
+        };
+        let mut checked = 0;
+        for _ in 0..300 {
+            let t = [
+                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+            ];
+            let m = Mesh {
+                vertices: t.to_vec(),
+                triangles: vec![[0, 1, 2]],
+            };
+            let r = 3.0 + 3.0 * rnd().abs();
+            let dc = DropCutter::new(&[&m], Cutter::ball(2.0 * r));
+            for _ in 0..10 {
+                let (x, y) = (rnd() * 25.0, rnd() * 25.0);
+                let got = dc.drop(x, y);
+                let want = brute(t, x, y, r);
+                match (got, want) {
+                    (Some(g), Some(w)) => {
+                        assert!((g - w).abs() < 1e-6, "{g} vs {w}");
+                        checked += 1;
+                    }
+                    (None, None) => {}
+                    // Grazing contacts within the bisection tolerance.
+                    (g, w) => panic!("{g:?} vs {w:?} at {x},{y} for {t:?} r {r}"),
+                }
+            }
+        }
+        assert!(checked > 500, "{checked}");
+    }
+
+    #[test]
+    fn ball_on_a_sphere_sits_r_plus_s_from_its_centre() {
+        // Geometry: two touching spheres' centres are R + S apart. The mesh
+        // sphere is inscribed, so the ball sits up to the sagitta lower.
+        let s = 100.0;
+        let sphere = uv_sphere(s, 720, 360);
+        let r = 6.35;
+        let dc = DropCutter::new(&[&sphere], Cutter::ball(2.0 * r));
+        let sag = s * (1.0 - (std::f64::consts::PI / 360.0).cos());
+        for (x, y) in [(0.0, 0.0), (30.0, 20.0), (-50.0, 60.0), (90.0, 0.0)] {
+            let c = dc.drop(x, y).unwrap() + r;
+            let d = (x * x + y * y + c * c).sqrt();
+            assert!(d <= r + s + 1e-9 && d >= r + s - 2.0 * sag, "{d}");
+        }
+    }
+
+    fn uv_sphere(r: f64, nu: usize, nv: usize) -> Mesh {
+        let mut vertices = vec![[0.0, 0.0, r]];
+        for j in 1..nv {
+            let th = std::f64::consts::PI * j as f64 / nv as f64;
+            for i in 0..nu {
+                let ph = 2.0 * std::f64::consts::PI * i as f64 / nu as f64;
+                vertices.push([
+                    r * th.sin() * ph.cos(),
+                    r * th.sin() * ph.sin(),
+                    r * th.cos(),
+                ]);
+            }
+        }
+        vertices.push([0.0, 0.0, -r]);
+        let idx = |j: usize, i: usize| (1 + (j - 1) * nu + i % nu) as u32;
+        let mut triangles = vec![];
+        for i in 0..nu {
+            triangles.push([0, idx(1, i), idx(1, i + 1)]);
+        }
+        for j in 1..nv - 1 {
+            for i in 0..nu {
+                triangles.push([idx(j, i), idx(j + 1, i), idx(j + 1, i + 1)]);
+                triangles.push([idx(j, i), idx(j + 1, i + 1), idx(j, i + 1)]);
+            }
+        }
+        let last = vertices.len() as u32 - 1;
+        for i in 0..nu {
+            triangles.push([idx(nv - 1, i + 1), idx(nv - 1, i), last]);
+        }
+        Mesh {
+            vertices,
+            triangles,
+        }
+    }
+}

@@ -1,0 +1,537 @@
+//! The board as a continuous shape: every measurement resolved to curves in
+//! millimetres, and the cross-section at any distance from the nose.
+//!
+//! Axes: x along the stringer from the nose tip (0) to the tail (length),
+//! y across (the board is symmetric about y = 0), z up. The bottom at the
+//! stringer is the rocker curve; its lowest point sits at z = 0.
+
+use crate::model::curve::Curve;
+
+/// A board resolved from its description: all lengths in mm.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Board {
+    /// Name from the description (used for file names).
+    pub name: String,
+    /// Flat (projected) length, nose tip to tail.
+    pub length: f64,
+    /// Plan shape.
+    pub outline: Outline,
+    /// Height of the bottom at the stringer above the flat it rests on.
+    pub rocker: Curve,
+    /// Thickness at the stringer before the tips are closed.
+    pub foil: Curve,
+    /// How the profile closes at a tip that is a point in plan.
+    pub closing: Closing,
+    /// Deck dome (crown) at the thickest point: how far the stringer rises
+    /// above the line where deck meets rail. Scales with thickness along the board.
+    pub dome: f64,
+    /// Rail shape along the board.
+    pub rails: Rails,
+    /// Bottom contours, summed where zones overlap.
+    pub bottom: Vec<Contour>,
+    /// Distance from each tip at which nose and tail widths and thicknesses
+    /// are quoted: 12 in (304.8 mm) in an inch file, 300 mm in a mm file.
+    pub tip_station: f64,
+}
+
+/// A curve of half-width that is interpolated in `half_width ^ power`:
+/// power 2 gives a round end where the half-width reaches zero, 1 a point.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlanCurve {
+    /// Curve of `half_width ^ power` against x.
+    pub curve: Curve,
+    /// The power the curve is interpolated in.
+    pub power: f64,
+}
+
+impl PlanCurve {
+    /// Half-width at x.
+    pub fn eval(&self, x: f64) -> f64 {
+        let g = self.curve.eval(x).max(0.0);
+        if self.power == 1.0 {
+            g
+        } else if self.power == 2.0 {
+            g.sqrt()
+        } else {
+            g.powf(1.0 / self.power)
+        }
+    }
+
+    fn scaled(&self, kx: f64, ky: f64) -> PlanCurve {
+        PlanCurve {
+            curve: self.curve.scaled(kx, ky.powf(self.power)),
+            power: self.power,
+        }
+    }
+}
+
+/// The plan shape: a nose side and a tail side meeting at the wide point,
+/// and the tail's end.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Outline {
+    /// Distance of the wide point from the nose.
+    pub wide_point: f64,
+    /// Half-width from the nose tip to the wide point.
+    pub nose: PlanCurve,
+    /// Half-width from the wide point to where the tail's end begins.
+    pub tail: PlanCurve,
+    /// How the tail ends.
+    pub tail_end: TailEnd,
+    /// Tail shape name, for reports.
+    pub tail_shape: TailShape,
+}
+
+/// Tail shapes of the trade.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Deserialize, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum TailShape {
+    /// Closes round to a point on the stringer.
+    Round,
+    /// Narrow, pointed.
+    Pin,
+    /// Between the two.
+    RoundedPin,
+    /// A tail block with rounded corners.
+    Squash,
+    /// A tail block with sharp corners.
+    Square,
+    /// Two points with a notch between them.
+    Swallow,
+    /// A tail block whose corners run in to a blunt point on the stringer.
+    Diamond,
+}
+
+impl TailShape {
+    /// Whether the tail ends in a block of some width (and needs `tail_block`).
+    pub fn has_block(self) -> bool {
+        matches!(
+            self,
+            TailShape::Squash | TailShape::Square | TailShape::Swallow | TailShape::Diamond
+        )
+    }
+
+    /// The trade's name.
+    pub fn name(self) -> &'static str {
+        match self {
+            TailShape::Round => "round",
+            TailShape::Pin => "pin",
+            TailShape::RoundedPin => "rounded pin",
+            TailShape::Squash => "squash",
+            TailShape::Square => "square",
+            TailShape::Swallow => "swallow",
+            TailShape::Diamond => "diamond",
+        }
+    }
+}
+
+/// How the outline ends at the tail.
+#[derive(Debug, Clone, PartialEq)]
+pub enum TailEnd {
+    /// The half-width reaches zero at the tail (round, pin, rounded pin).
+    Point,
+    /// A flat end of half-width `half_block - corner.1`; corners rounded by a
+    /// quarter ellipse `corner` = (along x, across y) (zero for square).
+    Block { half_block: f64, corner: (f64, f64) },
+    /// Straight edges from the block corners (half-width `half_block`,
+    /// `point_length` ahead of the tail) in to a blunt tip of half-width `half_tip`.
+    Diamond {
+        half_block: f64,
+        point_length: f64,
+        half_tip: f64,
+    },
+    /// Points of outer half-width `half_block` with a straight notch from
+    /// the stringer `notch_depth` ahead of the tail out to `half_block - tip`
+    /// at the tail, leaving each point `tip` wide.
+    Swallow {
+        half_block: f64,
+        notch_depth: f64,
+        tip: f64,
+    },
+}
+
+/// Profile closing at a tip that is a point in plan: the section is scaled
+/// in height about the rail apex by a quarter ellipse over `nose` (or `tail`)
+/// millimetres, so the tip rounds over in side view instead of ending in a
+/// knife edge. Zero where the tip has width or no thickness.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Closing {
+    /// Length over which the nose closes (0: none).
+    pub nose: f64,
+    /// Length over which the tail closes (0: none).
+    pub tail: f64,
+}
+
+/// Rail shape: where the apex sits and how full the rail is above and below it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Rails {
+    /// Rounded (superelliptic) or square (the check board).
+    pub profile: RailProfile,
+    /// Apex height as a fraction of the rail band (bottom edge to deck edge).
+    pub apex: Curve,
+    /// 0 boxy to 1 round, above the apex.
+    pub softness: Curve,
+    /// 0 soft and round to 1 hard and tucked, below the apex.
+    pub tuck: Curve,
+}
+
+/// The family the rail cross-section belongs to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum RailProfile {
+    /// Superellipse quadrants above and below the apex.
+    Rounded,
+    /// Vertical side walls with sharp edges (a box section).
+    Square,
+}
+
+/// Kinds of bottom contour.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Deserialize, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ContourKind {
+    /// Nothing (documents a flat zone).
+    Flat,
+    /// A ridge on the stringer: the bottom rises by `depth` out to the rail.
+    Vee,
+    /// One channel: the stringer sits `depth` above the bottom outboard of it.
+    SingleConcave,
+    /// Two channels either side of the stringer, each `depth` deep.
+    DoubleConcave,
+}
+
+/// A bottom contour over a zone of the length.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Contour {
+    /// What kind.
+    pub kind: ContourKind,
+    /// Start of the zone, from the nose.
+    pub from: f64,
+    /// End of the zone, from the nose.
+    pub to: f64,
+    /// Full depth inside the zone.
+    pub depth: f64,
+    /// Length over which the depth fades in and out at each end.
+    pub blend: f64,
+    /// Fraction of the half-width the contour spans (from the stringer).
+    pub span: f64,
+}
+
+impl Contour {
+    /// Depth at x, faded in and out with a smoothstep over `blend`.
+    pub fn depth_at(&self, x: f64) -> f64 {
+        if x <= self.from || x >= self.to {
+            return 0.0;
+        }
+        let ramp = |d: f64| {
+            if self.blend <= 0.0 {
+                1.0
+            } else {
+                let t = (d / self.blend).clamp(0.0, 1.0);
+                t * t * (3.0 - 2.0 * t)
+            }
+        };
+        self.depth * ramp(x - self.from).min(ramp(self.to - x))
+    }
+
+    /// Offset of the bottom at fraction `u` of the half-width, positive up,
+    /// relative to the stringer, per unit depth.
+    pub fn shape(&self, u: f64) -> f64 {
+        let s = (u / self.span).min(1.0);
+        match self.kind {
+            ContourKind::Flat => 0.0,
+            ContourKind::Vee => s,
+            ContourKind::SingleConcave => -s * s,
+            ContourKind::DoubleConcave => {
+                let v = (std::f64::consts::PI * s).sin();
+                v * v
+            }
+        }
+    }
+}
+
+/// The cross-section at one distance from the nose: everything the section
+/// geometry needs, evaluated once.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Station {
+    /// Distance from the nose.
+    pub x: f64,
+    /// Outer half-width.
+    pub half_width: f64,
+    /// Half-width of the swallow notch (0 elsewhere).
+    pub inner: f64,
+    /// Bottom height at the stringer (rocker).
+    pub bottom: f64,
+    /// Thickness at the stringer before closing.
+    pub thickness: f64,
+    /// Height scale about the apex from profile closing (1 away from the tips).
+    pub closing: f64,
+    /// Dome here.
+    pub dome: f64,
+    /// Apex fraction of the rail band.
+    pub apex: f64,
+    /// Superellipse exponent above the apex (infinite for square rails).
+    pub n_up: f64,
+    /// Superellipse exponent below the apex (infinite for square rails).
+    pub n_low: f64,
+    /// Active contours: (depth here, contour).
+    pub contours: Vec<(f64, Contour)>,
+}
+
+/// Exponent above the apex for a rail softness in [0, 1]: 2 (elliptic) to 8.
+pub fn exponent_up(softness: f64) -> f64 {
+    2.0 + 6.0 * (1.0 - softness.clamp(0.0, 1.0))
+}
+
+/// Exponent below the apex for a tuck in [0, 1]: 2 (elliptic) to 16.
+pub fn exponent_low(tuck: f64) -> f64 {
+    2.0 + 14.0 * tuck.clamp(0.0, 1.0)
+}
+
+/// Superellipse height `(1 - u^n)^(1/n)` for `u` in [0, 1].
+pub fn superellipse(u: f64, n: f64) -> f64 {
+    if n.is_infinite() {
+        return if u < 1.0 { 1.0 } else { 0.0 };
+    }
+    if u <= 0.0 {
+        return 1.0;
+    }
+    if u >= 1.0 {
+        return 0.0;
+    }
+    (1.0 - u.powf(n)).max(0.0).powf(1.0 / n)
+}
+
+impl Board {
+    /// Half-width of the outline at x (outer edge).
+    pub fn half_width(&self, x: f64) -> f64 {
+        self.outline.half_width(x, self.length)
+    }
+
+    /// Thickness at the stringer at x, closing included.
+    pub fn thickness(&self, x: f64) -> f64 {
+        self.foil.eval(x) * self.closing_factor(x)
+    }
+
+    fn closing_factor(&self, x: f64) -> f64 {
+        let quarter = |d: f64, r: f64| {
+            if r <= 0.0 || d >= r {
+                1.0
+            } else {
+                let s = 1.0 - (d / r).max(0.0);
+                (1.0 - s * s).max(0.0).sqrt()
+            }
+        };
+        quarter(x, self.closing.nose) * quarter(self.length - x, self.closing.tail)
+    }
+
+    /// The cross-section parameters at x (clamped to the board).
+    pub fn station(&self, x: f64) -> Station {
+        let x = x.clamp(0.0, self.length);
+        let thickness = self.foil.eval(x);
+        let (_, max_t) = self.foil.max_station();
+        let (n_up, n_low) = match self.rails.profile {
+            RailProfile::Square => (f64::INFINITY, f64::INFINITY),
+            RailProfile::Rounded => (
+                exponent_up(self.rails.softness.eval(x)),
+                exponent_low(self.rails.tuck.eval(x)),
+            ),
+        };
+        let contours = self
+            .bottom
+            .iter()
+            .filter_map(|c| {
+                let d = c.depth_at(x);
+                (d > 0.0 && c.kind != ContourKind::Flat).then(|| (d, c.clone()))
+            })
+            .collect();
+        Station {
+            x,
+            half_width: self.half_width(x),
+            inner: self.outline.inner(x, self.length),
+            bottom: self.rocker.eval(x),
+            thickness,
+            closing: self.closing_factor(x),
+            dome: if max_t > 0.0 {
+                self.dome * thickness / max_t
+            } else {
+                0.0
+            },
+            apex: self.rails.apex.eval(x),
+            n_up,
+            n_low,
+            contours,
+        }
+    }
+
+    /// Distances from the nose where the shape has a kink or a change of
+    /// formula: stations must fall there for the mesh to follow exactly.
+    pub fn breaks(&self) -> Vec<f64> {
+        let l = self.length;
+        let mut b = vec![0.0, self.outline.wide_point, l];
+        for (x, _) in self
+            .foil
+            .stations()
+            .chain(self.rocker.stations())
+            .chain(self.outline.nose.curve.stations())
+            .chain(self.outline.tail.curve.stations())
+        {
+            b.push(x);
+        }
+        match self.outline.tail_end {
+            TailEnd::Point => {}
+            TailEnd::Block { corner, .. } => b.push(l - corner.0),
+            TailEnd::Diamond { point_length, .. } => b.push(l - point_length),
+            TailEnd::Swallow { notch_depth, .. } => b.push(l - notch_depth),
+        }
+        b.push(self.closing.nose);
+        b.push(l - self.closing.tail);
+        for c in &self.bottom {
+            b.extend([c.from, c.to, c.from + c.blend, c.to - c.blend]);
+        }
+        b.retain(|x| x.is_finite() && *x >= 0.0 && *x <= l);
+        b.sort_by(f64::total_cmp);
+        b.dedup_by(|a, b| (*a - *b).abs() < 1e-9);
+        // A station a rounding step from a tip stands for the tip: the
+        // ends must be the tips exactly, or the last section is a sliver
+        // that has not quite closed (degenerate triangles at the point).
+        if let Some(first) = b.first_mut()
+            && first.abs() < 1e-9
+        {
+            *first = 0.0;
+        }
+        if let Some(last) = b.last_mut()
+            && (l - *last).abs() < 1e-9
+        {
+            *last = l;
+        }
+        b
+    }
+
+    /// Where the swallow notch starts (its apex on the stringer), if any.
+    pub fn notch_apex(&self) -> Option<f64> {
+        match self.outline.tail_end {
+            TailEnd::Swallow { notch_depth, .. } => Some(self.length - notch_depth),
+            _ => None,
+        }
+    }
+
+    /// The same board stretched by `kx` along the length, `ky` across and
+    /// `kz` in height: an affine map, so the volume scales by kx·ky·kz.
+    pub fn scaled(&self, kx: f64, ky: f64, kz: f64) -> Board {
+        let o = &self.outline;
+        let tail_end = match o.tail_end {
+            TailEnd::Point => TailEnd::Point,
+            TailEnd::Block { half_block, corner } => TailEnd::Block {
+                half_block: half_block * ky,
+                corner: (corner.0 * kx, corner.1 * ky),
+            },
+            TailEnd::Diamond {
+                half_block,
+                point_length,
+                half_tip,
+            } => TailEnd::Diamond {
+                half_block: half_block * ky,
+                point_length: point_length * kx,
+                half_tip: half_tip * ky,
+            },
+            TailEnd::Swallow {
+                half_block,
+                notch_depth,
+                tip,
+            } => TailEnd::Swallow {
+                half_block: half_block * ky,
+                notch_depth: notch_depth * kx,
+                tip: tip * ky,
+            },
+        };
+        Board {
+            name: self.name.clone(),
+            length: self.length * kx,
+            outline: Outline {
+                wide_point: o.wide_point * kx,
+                nose: o.nose.scaled(kx, ky),
+                tail: o.tail.scaled(kx, ky),
+                tail_end,
+                tail_shape: o.tail_shape,
+            },
+            rocker: self.rocker.scaled(kx, kz),
+            foil: self.foil.scaled(kx, kz),
+            closing: Closing {
+                nose: self.closing.nose * kx,
+                tail: self.closing.tail * kx,
+            },
+            dome: self.dome * kz,
+            rails: Rails {
+                profile: self.rails.profile,
+                apex: self.rails.apex.scaled(kx, 1.0),
+                softness: self.rails.softness.scaled(kx, 1.0),
+                tuck: self.rails.tuck.scaled(kx, 1.0),
+            },
+            bottom: self
+                .bottom
+                .iter()
+                .map(|c| Contour {
+                    from: c.from * kx,
+                    to: c.to * kx,
+                    blend: c.blend * kx,
+                    depth: c.depth * kz,
+                    ..c.clone()
+                })
+                .collect(),
+            tip_station: self.tip_station * kx,
+        }
+    }
+}
+
+impl Outline {
+    /// Outer half-width at x for a board of `length`.
+    pub fn half_width(&self, x: f64, length: f64) -> f64 {
+        if x <= self.wide_point {
+            return self.nose.eval(x);
+        }
+        match self.tail_end {
+            TailEnd::Point => self.tail.eval(x),
+            TailEnd::Block { corner, .. } => {
+                let w = self.tail.eval(x);
+                let start = length - corner.0;
+                if corner.0 > 0.0 && x > start {
+                    let s = ((x - start) / corner.0).min(1.0);
+                    w - corner.1 * (1.0 - (1.0 - s * s).max(0.0).sqrt())
+                } else {
+                    w
+                }
+            }
+            TailEnd::Diamond {
+                half_block,
+                point_length,
+                half_tip,
+            } => {
+                let corner = length - point_length;
+                if x <= corner {
+                    self.tail.eval(x)
+                } else {
+                    let s = (x - corner) / point_length;
+                    half_block + (half_tip - half_block) * s.min(1.0)
+                }
+            }
+            TailEnd::Swallow { .. } => self.tail.eval(x),
+        }
+    }
+
+    /// Half-width of the notch at x (0 outside a swallow's notch).
+    pub fn inner(&self, x: f64, length: f64) -> f64 {
+        match self.tail_end {
+            TailEnd::Swallow {
+                half_block,
+                notch_depth,
+                tip,
+            } => {
+                let start = length - notch_depth;
+                if x <= start {
+                    0.0
+                } else {
+                    (half_block - tip) * ((x - start) / notch_depth).min(1.0)
+                }
+            }
+            _ => 0.0,
+        }
+    }
+}

@@ -1,0 +1,9 @@
+//! The types that cross stages: data and their invariants, no I/O.
+
+pub mod board;
+pub mod curve;
+pub mod job;
+pub mod limits;
+pub mod machine;
+pub mod mesh;
+pub mod toolpath;

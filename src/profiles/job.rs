@@ -1,0 +1,772 @@
+//! The job profile: the stock, where the board sits in it, and how each
+//! strategy cuts. Every field has a default a foam shop would recognise
+//! (common practice, no source); a job file only says what differs.
+
+use std::path::Path;
+
+use serde::Deserialize;
+use serde_saphyr::{Location, Spanned};
+
+use crate::description::values::LengthValue;
+use crate::description::{self, DescriptionError};
+use crate::model::curve::Curve;
+use crate::model::job::{BlankRocker, Block, Finish, Job, Pass, Pitch};
+use crate::model::machine::{Machine, ToolKind};
+use crate::profiles::machine::{FeedValue, Reader, StepoverValue, mm_text, read_text};
+use crate::units::Unit;
+
+/// Smallest stepdown accepted, mm: below it the levels only multiply the
+/// run time (and a typo such as 0.001 would never finish).
+pub const MIN_STEPDOWN: f64 = 0.5;
+
+/// Smallest stepover accepted for a tool of diameter `d` mm: 2 % of it, and
+/// 0.2 mm, for the same reason.
+pub fn min_stepover(d: f64) -> f64 {
+    (0.02 * d).max(0.2)
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct BlockSpec {
+    length: Option<Spanned<LengthValue>>,
+    width: Option<Spanned<LengthValue>>,
+    thickness: Option<Spanned<LengthValue>>,
+    rocker: Option<Spanned<Vec<Spanned<BlankStationSpec>>>>,
+    allowance: Option<Spanned<LengthValue>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct BlankStationSpec {
+    at: Spanned<LengthValue>,
+    bottom: Spanned<LengthValue>,
+    deck: Spanned<LengthValue>,
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct XySpec {
+    x: Option<Spanned<LengthValue>>,
+    y: Option<Spanned<LengthValue>>,
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct PlacementSpec {
+    pitch: Option<Spanned<PitchSpec>>,
+    skin: Option<Spanned<LengthValue>>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+#[serde(untagged)]
+enum PitchSpec {
+    Degrees(f64),
+    Word(String),
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct TabsSpec {
+    width: Option<Spanned<LengthValue>>,
+    height: Option<Spanned<LengthValue>>,
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct HolesSpec {
+    diameter: Option<Spanned<LengthValue>>,
+    gap: Option<Spanned<LengthValue>>,
+    pin_depth: Option<Spanned<LengthValue>>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize)]
+#[serde(rename_all = "snake_case")]
+enum Direction {
+    Climb,
+    Conventional,
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct PassSpec {
+    tool: Option<Spanned<u32>>,
+    stepdown: Option<Spanned<LengthValue>>,
+    stepover: Option<Spanned<StepoverValue>>,
+    leave: Option<Spanned<LengthValue>>,
+    feed: Option<Spanned<FeedValue>>,
+    plunge_feed: Option<Spanned<FeedValue>>,
+    spindle: Option<Spanned<f64>>,
+    direction: Option<Direction>,
+    scallop: Option<Spanned<LengthValue>>,
+    steep_angle: Option<Spanned<f64>>,
+    tolerance: Option<Spanned<LengthValue>>,
+}
+
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct JobFile {
+    units: Option<Spanned<Unit>>,
+    stock: Option<BlockSpec>,
+    table_position: Option<XySpec>,
+    placement: Option<PlacementSpec>,
+    frame: Option<Spanned<LengthValue>>,
+    parting_overlap: Option<Spanned<LengthValue>>,
+    tabs: Option<TabsSpec>,
+    registration: Option<HolesSpec>,
+    roughing: Option<PassSpec>,
+    outline: Option<PassSpec>,
+    finishing: Option<PassSpec>,
+}
+
+/// Which strategy a pass spec is for.
+#[derive(Clone, Copy, PartialEq)]
+enum Strategy {
+    Roughing,
+    Outline,
+    Finishing,
+}
+
+impl Strategy {
+    fn field(self) -> &'static str {
+        match self {
+            Strategy::Roughing => "roughing",
+            Strategy::Outline => "outline",
+            Strategy::Finishing => "finishing",
+        }
+    }
+}
+
+struct JobReader<'a> {
+    r: Reader<'a>,
+    machine: &'a Machine,
+    top: Location,
+}
+
+impl JobReader<'_> {
+    fn length_or(
+        &self,
+        v: &Option<Spanned<LengthValue>>,
+        default: f64,
+        field: &str,
+        lo: f64,
+        hi: f64,
+        hint: &str,
+    ) -> Result<f64, DescriptionError> {
+        match v {
+            Some(v) => self.r.length_or_zero(v, field, lo, hi, hint),
+            None => Ok(default),
+        }
+    }
+
+    fn pass(&self, spec: &PassSpec, which: Strategy) -> Result<Pass, DescriptionError> {
+        let name = which.field();
+        let f = |s: &str| format!("{name}.{s}");
+        let m = self.machine;
+        let wanted = match which {
+            Strategy::Finishing => ToolKind::Ball,
+            _ => ToolKind::Flat,
+        };
+        let tool = match &spec.tool {
+            Some(id) => match m.tool(id.value) {
+                Some(t) => t.clone(),
+                None => {
+                    let listed: Vec<String> =
+                        m.tools.iter().map(|t| format!("T{}", t.id)).collect();
+                    return self.r.fail(
+                        &id.referenced,
+                        &f("tool"),
+                        format!("T{} is not in the machine's tool list", id.value),
+                        format!("the machine has {}", listed.join(", ")),
+                    );
+                }
+            },
+            None => match m.tools.iter().find(|t| t.cutter.kind == wanted) {
+                Some(t) => t.clone(),
+                None => {
+                    return self.r.fail(
+                        &self.top,
+                        &f("tool"),
+                        format!(
+                            "is not given and the machine lists no {} tool",
+                            wanted.name()
+                        ),
+                        "add the tool to the machine profile or name one here",
+                    );
+                }
+            },
+        };
+        let at = |s: &Option<Spanned<u32>>| s.as_ref().map_or(self.top, |s| s.referenced);
+        if which == Strategy::Finishing && tool.cutter.kind != ToolKind::Ball {
+            return self.r.fail(
+                &at(&spec.tool),
+                &f("tool"),
+                format!(
+                    "T{} is a {} tool; finishing needs a ball-end tool",
+                    tool.id,
+                    tool.cutter.kind.name()
+                ),
+                "name a ball-end tool",
+            );
+        }
+        if which != Strategy::Finishing && tool.cutter.kind == ToolKind::Ball {
+            return self.r.fail(
+                &at(&spec.tool),
+                &f("tool"),
+                format!("T{} is a ball-end tool; {name} cuts flat levels and needs a flat or bull-nose end mill", tool.id),
+                "name a flat or bull-nose tool",
+            );
+        }
+        let d = 2.0 * tool.cutter.radius;
+        let default_stepdown = match which {
+            Strategy::Roughing => 25.0_f64,
+            Strategy::Outline => 12.0,
+            Strategy::Finishing => tool.max_stepdown,
+        }
+        .min(tool.max_stepdown);
+        let stepdown = match &spec.stepdown {
+            Some(v) => {
+                let x = v.value.0.to_mm(self.r.unit);
+                if !(x >= MIN_STEPDOWN && x <= tool.max_stepdown) {
+                    return self.r.fail(
+                        &v.referenced,
+                        &f("stepdown"),
+                        format!("is {}; it must be at least {} (finer levels only multiply the run time) and T{} allows at most {} a pass", mm_text(x), mm_text(MIN_STEPDOWN), tool.id, mm_text(tool.max_stepdown)),
+                        "e.g. 10 mm for roughing foam; check the tool's max_stepdown in the machine profile",
+                    );
+                }
+                x
+            }
+            None => default_stepdown,
+        };
+        let stepover = match &spec.stepover {
+            Some(v) => {
+                let x = match v.value {
+                    StepoverValue::Length(l) => l.0.to_mm(self.r.unit),
+                    StepoverValue::Share(s) => s * d,
+                };
+                let least = min_stepover(d);
+                if !(x >= least && x <= 0.5 * d) {
+                    return self.r.fail(
+                        &v.referenced,
+                        &f("stepover"),
+                        format!("is {}; it must be at least {} (2 % of the tool diameter, and 0.2 mm: finer passes only multiply the run time) and at most half the tool diameter ({}), so no pass cuts full width", mm_text(x), mm_text(least), mm_text(0.5 * d)),
+                        "e.g. 40% or 50%",
+                    );
+                }
+                x
+            }
+            None => 0.5 * d,
+        };
+        let default_leave = if which == Strategy::Roughing {
+            1.5
+        } else {
+            0.0
+        };
+        let leave = self.length_or(
+            &spec.leave,
+            default_leave,
+            &f("leave"),
+            0.0,
+            20.0,
+            "stock left for the next strategy",
+        )?;
+        let feed_default = match which {
+            Strategy::Roughing => 8000.0_f64,
+            Strategy::Outline => 5000.0,
+            Strategy::Finishing => 10000.0,
+        }
+        .min(m.max_feed_xy);
+        let feed = match &spec.feed {
+            Some(v) => self.r.feed(
+                v,
+                &f("feed"),
+                m.max_feed_xy,
+                &format!(
+                    "the machine allows at most {:.0} mm/min in X and Y",
+                    m.max_feed_xy
+                ),
+            )?,
+            None => feed_default,
+        };
+        let plunge_feed = match &spec.plunge_feed {
+            Some(v) => self.r.feed(
+                v,
+                &f("plunge_feed"),
+                m.max_feed_z,
+                &format!("the machine allows at most {:.0} mm/min in Z", m.max_feed_z),
+            )?,
+            None => 2000f64.min(m.max_feed_z),
+        };
+        let spindle = match &spec.spindle {
+            Some(v) => self.r.number(
+                v,
+                &f("spindle"),
+                m.spindle_min.max(1.0),
+                m.spindle_max,
+                "rpm within the machine's spindle range",
+            )?,
+            None => 18000f64.clamp(m.spindle_min.max(1.0), m.spindle_max),
+        };
+        Ok(Pass {
+            tool,
+            stepdown,
+            stepover,
+            leave,
+            feed,
+            plunge_feed,
+            spindle,
+            climb: spec.direction != Some(Direction::Conventional),
+        })
+    }
+
+    fn forbid<T>(
+        &self,
+        v: &Option<Spanned<T>>,
+        field: &str,
+        why: &str,
+    ) -> Result<(), DescriptionError> {
+        match v {
+            Some(s) => self.r.fail(
+                &s.referenced,
+                field,
+                format!("does not apply: {why}"),
+                "remove the field",
+            ),
+            None => Ok(()),
+        }
+    }
+}
+
+/// A pre-rockered blank from its stations.
+fn rockered_blank(
+    r: &Reader,
+    b: &BlockSpec,
+    st: &Spanned<Vec<Spanned<BlankStationSpec>>>,
+    length: f64,
+    width: f64,
+) -> Result<Block, DescriptionError> {
+    if let Some(t) = &b.thickness {
+        return r.fail(
+            &t.referenced,
+            "stock.thickness",
+            "is set by the rocker stations of a rockered blank",
+            "leave it out: the blank's thickness at each station is deck - bottom",
+        );
+    }
+    let list = &st.value;
+    if list.len() < 2 {
+        return r.fail(
+            &st.referenced,
+            "stock.rocker",
+            format!(
+                "has {} station(s); a blank's curves need at least 2",
+                list.len()
+            ),
+            "give {at, bottom, deck} at both ends of the blank and every 300 mm or so between",
+        );
+    }
+    let mut stations: Vec<[f64; 3]> = Vec::new();
+    for (k, sp) in list.iter().enumerate() {
+        let v = &sp.value;
+        let field = |f: &str| format!("stock.rocker[{k}].{f}");
+        let at = v.at.value.0.to_mm(r.unit);
+        let bottom = v.bottom.value.0.to_mm(r.unit);
+        let deck = v.deck.value.0.to_mm(r.unit);
+        for (val, f, loc) in [
+            (at, "at", &v.at.referenced),
+            (bottom, "bottom", &v.bottom.referenced),
+            (deck, "deck", &v.deck.referenced),
+        ] {
+            if !(0.0..=20_000.0).contains(&val) {
+                return r.fail(
+                    loc,
+                    &field(f),
+                    format!("is {}; it must be from 0 to 20 m", mm_text(val)),
+                    "heights are above the table the blank lies on, bottom down; `at` is from the blank's nose end",
+                );
+            }
+        }
+        if let Some(prev) = stations.last()
+            && at <= prev[0]
+        {
+            return r.fail(
+                &v.at.referenced,
+                &field("at"),
+                format!(
+                    "is {}; stations must increase along the blank (the one before is at {})",
+                    mm_text(at),
+                    mm_text(prev[0])
+                ),
+                "list the stations from the nose end",
+            );
+        }
+        if deck < bottom + 10.0 {
+            return r.fail(
+                &v.deck.referenced,
+                &field("deck"),
+                format!(
+                    "is {} over a bottom of {}; the blank must be at least 10 mm thick",
+                    mm_text(deck),
+                    mm_text(bottom)
+                ),
+                "heights of the deck and the bottom above the table, at the same station",
+            );
+        }
+        stations.push([at, bottom, deck]);
+    }
+    let (first, last) = (stations[0][0], stations[stations.len() - 1][0]);
+    if first > 0.5 || (last - length).abs() > 0.5 {
+        return r.fail(
+            &st.referenced,
+            "stock.rocker",
+            format!(
+                "runs from {} to {}; it must run from 0 to the blank's length, {}",
+                mm_text(first),
+                mm_text(last),
+                mm_text(length)
+            ),
+            "measure the blank at both its ends",
+        );
+    }
+    // Heights from the lowest bottom point. The curves do not overshoot
+    // their stations, so the box runs from the lowest bottom station to
+    // the highest deck station.
+    let lo = stations.iter().map(|s| s[1]).fold(f64::INFINITY, f64::min);
+    let hi = stations
+        .iter()
+        .map(|s| s[2])
+        .fold(f64::NEG_INFINITY, f64::max);
+    for s in &mut stations {
+        s[1] -= lo;
+        s[2] -= lo;
+    }
+    let curve = |k: usize| {
+        Curve::new(&stations.iter().map(|s| (s[0], s[k])).collect::<Vec<_>>())
+            .expect("stations checked: finite and increasing")
+    };
+    let (bottom, deck) = (curve(1), curve(2));
+    // Between stations the two curves may come closer than at any station.
+    let n = length.ceil() as usize;
+    let thin = (0..=n)
+        .map(|k| {
+            let x = (k as f64).min(length);
+            deck.eval(x) - bottom.eval(x)
+        })
+        .fold(f64::INFINITY, f64::min);
+    if thin < 10.0 {
+        return r.fail(
+            &st.referenced,
+            "stock.rocker",
+            format!(
+                "makes the blank {} thick between stations; it must be at least 10 mm",
+                mm_text(thin)
+            ),
+            "add stations where the curves come close",
+        );
+    }
+    let allowance = match &b.allowance {
+        None => 5.0,
+        Some(a) => r.length_or_zero(
+            a,
+            "stock.allowance",
+            0.0,
+            50.0,
+            "how far the real blank may stand proud of its measured curves, e.g. 5 mm",
+        )?,
+    };
+    Ok(Block {
+        length,
+        width,
+        thickness: hi - lo,
+        rocker: Some(BlankRocker::new(stations, bottom, deck, allowance)),
+    })
+}
+
+fn resolve(
+    raw: JobFile,
+    text: &str,
+    file: &str,
+    machine: &Machine,
+) -> Result<Job, DescriptionError> {
+    let unit = raw.units.as_ref().map_or(Unit::Mm, |u| u.value);
+    let jr = JobReader {
+        r: Reader { text, file, unit },
+        machine,
+        top: Location::UNKNOWN,
+    };
+    let r = &jr.r;
+    let stock = match &raw.stock {
+        None => None,
+        Some(b) => {
+            let need = |v: &Option<Spanned<LengthValue>>,
+                        name: &str,
+                        hi: f64|
+             -> Result<f64, DescriptionError> {
+                match v {
+                    Some(v) => r.length(v, &format!("stock.{name}"), 0.0, hi, "the block's size"),
+                    None => r.fail(&Location::UNKNOWN, &format!("stock.{name}"), "is missing", "give length, width and thickness, or leave out `stock:` to size the block from the board"),
+                }
+            };
+            let length = need(&b.length, "length", 20_000.0)?;
+            let width = need(&b.width, "width", 20_000.0)?;
+            match &b.rocker {
+                None => {
+                    if let Some(a) = &b.allowance {
+                        return r.fail(
+                            &a.referenced,
+                            "stock.allowance",
+                            "is only for a rockered blank",
+                            "a flat block's faces are flat; leave it out, or give `rocker:` stations",
+                        );
+                    }
+                    Some(Block::flat(
+                        length,
+                        width,
+                        need(&b.thickness, "thickness", 2000.0)?,
+                    ))
+                }
+                Some(st) => Some(rockered_blank(r, b, st, length, width)?),
+            }
+        }
+    };
+    let tp = raw.table_position.unwrap_or_default();
+    let table_position = [
+        jr.length_or(
+            &tp.x,
+            0.0,
+            "table_position.x",
+            0.0,
+            machine.travel[0],
+            "machine X of the block's front-left corner",
+        )?,
+        jr.length_or(
+            &tp.y,
+            0.0,
+            "table_position.y",
+            0.0,
+            machine.travel[1],
+            "machine Y of the block's front-left corner",
+        )?,
+    ];
+    let placement = raw.placement.unwrap_or_default();
+    let pitch = match &placement.pitch {
+        None => Pitch::Auto,
+        Some(p) => match &p.value {
+            PitchSpec::Word(w) if w == "auto" => Pitch::Auto,
+            PitchSpec::Degrees(d) if d.is_finite() && d.abs() <= 15.0 => Pitch::Degrees(*d),
+            _ => {
+                return r.fail(
+                    &p.referenced,
+                    "placement.pitch",
+                    "must be `auto` or a tilt in degrees within ±15",
+                    "e.g. pitch: auto",
+                );
+            }
+        },
+    };
+    let skin = jr.length_or(
+        &placement.skin,
+        3.0,
+        "placement.skin",
+        0.0,
+        100.0,
+        "least foam kept above the deck and below the bottom",
+    )?;
+    let roughing = jr.pass(&raw.roughing.unwrap_or_default(), Strategy::Roughing)?;
+    let outline_spec = raw.outline.unwrap_or_default();
+    let outline = jr.pass(&outline_spec, Strategy::Outline)?;
+    let fin_spec = raw.finishing.unwrap_or_default();
+    jr.forbid(
+        &fin_spec.stepdown,
+        "finishing.stepdown",
+        "finishing follows the surface; its stepover comes from `scallop`",
+    )?;
+    jr.forbid(
+        &fin_spec.stepover,
+        "finishing.stepover",
+        "the stepover follows from `scallop`",
+    )?;
+    let pass = jr.pass(&fin_spec, Strategy::Finishing)?;
+    let radius = pass.tool.cutter.radius;
+    let scallop = jr.length_or(
+        &fin_spec.scallop,
+        0.1,
+        "finishing.scallop",
+        0.001,
+        radius,
+        "the cusp height left between passes, e.g. 0.1 mm",
+    )?;
+    if scallop <= 0.0 {
+        return r.fail(
+            &fin_spec.scallop.as_ref().unwrap().referenced,
+            "finishing.scallop",
+            "must be more than 0",
+            "e.g. 0.1 mm",
+        );
+    }
+    let steep_angle = match &fin_spec.steep_angle {
+        Some(v) => r.number(
+            v,
+            "finishing.steep_angle",
+            20.0,
+            70.0,
+            "degrees; the rail band above this slope is finished by Z levels",
+        )?,
+        None => 45.0,
+    };
+    let tolerance = jr.length_or(
+        &fin_spec.tolerance,
+        0.02,
+        "finishing.tolerance",
+        0.001,
+        1.0,
+        "the chord tolerance along a pass",
+    )?;
+    {
+        let (name, spec) = ("outline", &outline_spec);
+        jr.forbid(
+            &spec.scallop,
+            &format!("{name}.scallop"),
+            "only finishing has a scallop target",
+        )?;
+    }
+    let d_rough = 2.0 * roughing.tool.cutter.radius;
+    let frame_default = (2.0 * d_rough).max(40.0);
+    let frame = jr.length_or(
+        &raw.frame,
+        frame_default,
+        "frame",
+        0.0,
+        1000.0,
+        "the width of the band cut around the outline",
+    )?;
+    let need_frame = d_rough.max(2.0 * outline.tool.cutter.radius) + 1.0;
+    if frame < need_frame {
+        return r.fail(
+            &raw.frame
+                .as_ref()
+                .map_or(Location::UNKNOWN, |f| f.referenced),
+            "frame",
+            format!(
+                "is {}; it must be wider than the roughing tool ({})",
+                mm_text(frame),
+                mm_text(need_frame)
+            ),
+            "widen the band",
+        );
+    }
+    let overlap = jr.length_or(
+        &raw.parting_overlap,
+        1.0,
+        "parting_overlap",
+        0.0,
+        10.0,
+        "how far each side cuts past the parting surface",
+    )?;
+    let tabs = raw.tabs.unwrap_or_default();
+    let tab_w = jr.length_or(
+        &tabs.width,
+        30.0,
+        "tabs.width",
+        5.0,
+        200.0,
+        "tab width across the board",
+    )?;
+    let tab_h = jr.length_or(
+        &tabs.height,
+        10.0,
+        "tabs.height",
+        2.0 * overlap + 1.0,
+        100.0,
+        "tab height; more than twice the parting overlap",
+    )?;
+    let holes = raw.registration.unwrap_or_default();
+    let hole_diameter = jr.length_or(
+        &holes.diameter,
+        25.4,
+        "registration.diameter",
+        d_rough,
+        100.0,
+        "at least the roughing tool's diameter; the holes are bored with it",
+    )?;
+    let hole_gap = jr.length_or(
+        &holes.gap,
+        frame + d_rough + 10.0,
+        "registration.gap",
+        frame + d_rough,
+        1000.0,
+        "from each tip to its hole; beyond the cut band",
+    )?;
+    let pin_depth = jr.length_or(
+        &holes.pin_depth,
+        machine.spoilboard_allowance.min(4.0),
+        "registration.pin_depth",
+        0.0,
+        machine.spoilboard_allowance,
+        "how far the holes go into the spoilboard; at most the machine's spoilboard_allowance",
+    )?;
+    Ok(Job {
+        stock,
+        table_position,
+        pitch,
+        frame,
+        overlap,
+        tabs: [tab_w, tab_h],
+        hole_diameter,
+        hole_gap,
+        pin_depth,
+        skin,
+        roughing,
+        outline,
+        finishing: Finish {
+            pass,
+            scallop,
+            steep_angle,
+            tolerance,
+        },
+    })
+}
+
+/// Reads a job from its text against a machine.
+pub fn job_from_str(text: &str, file: &str, machine: &Machine) -> Result<Job, DescriptionError> {
+    let raw: JobFile = description::read_yaml(text, file)?;
+    resolve(raw, text, file, machine)
+}
+
+/// Reads a job file against a machine.
+pub fn load_job(path: &Path, machine: &Machine) -> Result<Job, DescriptionError> {
+    let (text, file) = read_text(path)?;
+    job_from_str(&text, &file, machine)
+}
+
+/// The default job for a machine: every field at its default.
+pub fn default_job(machine: &Machine) -> Result<Job, DescriptionError> {
+    resolve(JobFile::default(), "", "(default job)", machine)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::profiles::machine::generic_machine;
+
+    #[test]
+    fn default_job_uses_the_machine_tools() {
+        let m = generic_machine();
+        let j = default_job(&m).unwrap();
+        assert_eq!(j.roughing.tool.id, 1);
+        assert_eq!(j.finishing.pass.tool.id, 2);
+        assert!(j.roughing.stepdown <= j.roughing.tool.max_stepdown);
+    }
+
+    #[test]
+    fn job_errors_are_located() {
+        let m = generic_machine();
+        let e = job_from_str("roughing:\n  stepdown: 80\n", "j.yaml", &m).unwrap_err();
+        assert_eq!(e.location(), Some((2, 13)));
+        assert!(e.to_string().contains("roughing.stepdown"), "{e}");
+        let e = job_from_str("finishing:\n  tool: 1\n", "j.yaml", &m).unwrap_err();
+        assert!(e.to_string().contains("ball-end"), "{e}");
+        let e = job_from_str("roughing:\n  feed: 30000mm/min\n", "j.yaml", &m).unwrap_err();
+        assert!(e.to_string().contains("at most 15000"), "{e}");
+    }
+}

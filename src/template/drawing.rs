@@ -1,0 +1,531 @@
+//! Full-size shop templates as drawings in millimetres: the half outline
+//! from the stringer, the rocker over a straight baseline, female section
+//! templates, and the shaping sheet. A drawing knows nothing of paper; the
+//! tiling stage lays it onto pages, and it can be written as one SVG.
+
+use crate::model::board::Board;
+use crate::model::mesh::Mesh;
+use crate::slice::plane::{Axis, slice_many};
+use crate::svg::Svg;
+use crate::units::{self, MM_PER_INCH};
+use crate::volume::report::Report;
+
+/// What a line is for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Role {
+    /// The edge to cut or trace: the template itself.
+    Cut,
+    /// Stringer, baseline, station ticks, frames.
+    Guide,
+}
+
+/// One thing drawn, in drawing millimetres (y up).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Item {
+    /// A polyline.
+    Line {
+        /// Points, mm.
+        points: Vec<[f64; 2]>,
+        /// Closed back to the first point.
+        closed: bool,
+        /// Cut edge or guide.
+        role: Role,
+    },
+    /// A line of text (ASCII), its baseline starting at `at`.
+    Text {
+        /// Where, mm.
+        at: [f64; 2],
+        /// Height, mm.
+        size: f64,
+        /// The words.
+        text: String,
+    },
+}
+
+/// A template at full size.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Drawing {
+    /// Short name: outline, rocker, sections.
+    pub kind: &'static str,
+    /// Title line.
+    pub title: String,
+    /// Extent, mm (the drawing spans 0..width, 0..height).
+    pub width: f64,
+    /// Extent, mm.
+    pub height: f64,
+    /// What is drawn.
+    pub items: Vec<Item>,
+}
+
+/// Space around every drawing, mm.
+pub const BORDER: f64 = 20.0;
+
+/// The board's curves at the stringer, sampled along the length.
+pub struct Side {
+    /// Name of the board.
+    pub name: String,
+    /// Station spacing for ticks and heights: 6 in, or 150 mm for a mm board.
+    pub step: f64,
+    /// Stations, mm from the nose.
+    pub x: Vec<f64>,
+    /// Half-width.
+    pub half_width: Vec<f64>,
+    /// Bottom (rocker) at the stringer.
+    pub bottom: Vec<f64>,
+    /// Deck at the stringer.
+    pub deck: Vec<f64>,
+}
+
+/// Samples a board description finely (the mesher's own stations at a
+/// 0.05 mm chord tolerance, plus every 5 mm).
+pub fn side_of(board: &Board) -> Side {
+    let mut x: Vec<f64> = crate::meshing::mesher::plan(board, 0.05)
+        .map(|p| p.stations().to_vec())
+        .unwrap_or_default();
+    x.extend(
+        (0..)
+            .map(|i| i as f64 * 5.0)
+            .take_while(|&v| v < board.length),
+    );
+    x.push(board.length);
+    x.sort_by(f64::total_cmp);
+    x.dedup_by(|a, b| (*a - *b).abs() < 1e-6);
+    let half_width = x.iter().map(|&v| board.half_width(v)).collect();
+    let bottom: Vec<f64> = x.iter().map(|&v| board.rocker.eval(v)).collect();
+    let deck = x
+        .iter()
+        .zip(&bottom)
+        .map(|(&v, b)| b + board.thickness(v))
+        .collect();
+    Side {
+        name: board.name.clone(),
+        step: station_step(board),
+        x,
+        half_width,
+        bottom,
+        deck,
+    }
+}
+
+/// Samples a mesh (x along the board) by slicing it.
+pub fn side_of_mesh(name: &str, mesh: &Mesh) -> Side {
+    let p = crate::resize::overlay::profile(name, mesh, 400);
+    let n = p.x.len();
+    // The profile's tips have no height; take their neighbours'.
+    let fix = |v: &[f64]| -> Vec<f64> {
+        (0..n)
+            .map(|i| {
+                if v[i].is_finite() {
+                    v[i]
+                } else {
+                    v[if i == 0 {
+                        1.min(n - 1)
+                    } else {
+                        n.saturating_sub(2)
+                    }]
+                }
+            })
+            .collect()
+    };
+    Side {
+        name: name.to_string(),
+        step: 6.0 * MM_PER_INCH,
+        x: p.x.clone(),
+        half_width: p.half_width.clone(),
+        bottom: fix(&p.bottom),
+        deck: fix(&p.deck),
+    }
+}
+
+impl Side {
+    /// Length, mm.
+    pub fn length(&self) -> f64 {
+        self.x.last().copied().unwrap_or(0.0)
+    }
+
+    /// Half-width, bottom and deck at `x`, interpolated linearly.
+    pub fn at(&self, x: f64) -> [f64; 3] {
+        let i = self
+            .x
+            .partition_point(|&v| v < x)
+            .clamp(1, self.x.len().max(2) - 1);
+        let (x0, x1) = (self.x[i - 1], self.x[i]);
+        let t = if x1 > x0 {
+            ((x - x0) / (x1 - x0)).clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        let lerp = |v: &[f64]| v[i - 1] + t * (v[i] - v[i - 1]);
+        [lerp(&self.half_width), lerp(&self.bottom), lerp(&self.deck)]
+    }
+
+    /// Where the half-width is greatest.
+    pub fn wide_point(&self) -> f64 {
+        let i = (0..self.x.len())
+            .max_by(|&a, &b| self.half_width[a].total_cmp(&self.half_width[b]))
+            .unwrap_or(0);
+        self.x[i]
+    }
+}
+
+fn label(mm: f64) -> String {
+    // Templates speak both systems; ASCII only (PDF base fonts).
+    format!("{:.1} mm / {}", mm, units::inches(mm))
+}
+
+fn station_step(board: &Board) -> f64 {
+    if crate::description::write::unit_of(board) == units::Unit::In {
+        6.0 * MM_PER_INCH
+    } else {
+        150.0
+    }
+}
+
+/// The half outline from the stringer, with station ticks, the half-width
+/// written at each, the wide point, and the nose and tail ends.
+pub fn outline(side: &Side) -> Drawing {
+    let b = BORDER;
+    let l = side.length();
+    let w_max = side.half_width.iter().fold(0.0f64, |m, &v| m.max(v));
+    let mut items = vec![];
+    let mut cut: Vec<[f64; 2]> = side
+        .x
+        .iter()
+        .zip(&side.half_width)
+        .map(|(&x, &w)| [b + x, b + w])
+        .collect();
+    // Close the template along the stringer so it can be cut out.
+    cut.push([b + l, b]);
+    cut.push([b, b]);
+    items.push(Item::Line {
+        points: cut,
+        closed: true,
+        role: Role::Cut,
+    });
+    items.push(Item::Line {
+        points: vec![[b - 10.0, b], [b + l + 10.0, b]],
+        closed: false,
+        role: Role::Guide,
+    });
+    items.push(Item::Text {
+        at: [b + 5.0, b - 6.0],
+        size: 4.0,
+        text: "STRINGER (centreline): flip the template here for the other side".into(),
+    });
+    let step = side.step;
+    let mut x = step;
+    while x < l - 1.0 {
+        let w = side.at(x)[0];
+        items.push(Item::Line {
+            points: vec![[b + x, b], [b + x, b + w + 4.0]],
+            closed: false,
+            role: Role::Guide,
+        });
+        items.push(Item::Text {
+            at: [b + x + 1.0, b + w + 6.0],
+            size: 3.0,
+            text: format!("{} from nose", units::inches(x)),
+        });
+        items.push(Item::Text {
+            at: [b + x + 1.0, b + 3.0],
+            size: 3.0,
+            text: format!("half {}", label(w)),
+        });
+        x += step;
+    }
+    let xw = side.wide_point();
+    let ww = side.at(xw)[0];
+    items.push(Item::Line {
+        points: vec![[b + xw, b], [b + xw, b + ww + 12.0]],
+        closed: false,
+        role: Role::Guide,
+    });
+    items.push(Item::Text {
+        at: [b + xw + 1.0, b + ww + 13.0],
+        size: 3.5,
+        text: format!(
+            "WIDE POINT {} from nose, half-width {}",
+            units::Both(xw),
+            label(ww)
+        ),
+    });
+    for (at, name) in [(0.0, "NOSE"), (l, "TAIL")] {
+        items.push(Item::Line {
+            points: vec![[b + at, b - 8.0], [b + at, b + 8.0]],
+            closed: false,
+            role: Role::Guide,
+        });
+        items.push(Item::Text {
+            at: [b + at - 6.0, b - 12.0],
+            size: 3.5,
+            text: name.into(),
+        });
+    }
+    Drawing {
+        kind: "outline",
+        title: format!("{}: half outline, full size", side.name),
+        width: l + 2.0 * b,
+        height: w_max + 2.0 * b + 15.0,
+        items,
+    }
+}
+
+/// The bottom and deck at the stringer over a straight baseline (the flat
+/// the board rests on), with heights at stations, nose and tail rocker and
+/// the tail exit angle.
+pub fn rocker(side: &Side) -> Drawing {
+    let b = BORDER;
+    let l = side.length();
+    let zmin = side.bottom.iter().fold(0.0f64, |m, &v| m.min(v));
+    let top = side.deck.iter().fold(0.0f64, |m, &v| m.max(v));
+    let base = b - zmin;
+    let mut items = vec![];
+    let bottom: Vec<[f64; 2]> = side
+        .x
+        .iter()
+        .zip(&side.bottom)
+        .map(|(&x, &z)| [b + x, base + z])
+        .collect();
+    let deck: Vec<[f64; 2]> = side
+        .x
+        .iter()
+        .zip(&side.deck)
+        .map(|(&x, &z)| [b + x, base + z])
+        .collect();
+    items.push(Item::Line {
+        points: bottom,
+        closed: false,
+        role: Role::Cut,
+    });
+    items.push(Item::Line {
+        points: deck,
+        closed: false,
+        role: Role::Guide,
+    });
+    items.push(Item::Line {
+        points: vec![[b - 10.0, base], [b + l + 10.0, base]],
+        closed: false,
+        role: Role::Guide,
+    });
+    items.push(Item::Text {
+        at: [b + 5.0, base - 6.0],
+        size: 4.0,
+        text: "BASELINE: the flat the board rests on".into(),
+    });
+    let step = side.step;
+    let mut x = step;
+    while x < l - 1.0 {
+        let z = side.at(x)[1];
+        items.push(Item::Line {
+            points: vec![[b + x, base], [b + x, base + z]],
+            closed: false,
+            role: Role::Guide,
+        });
+        items.push(Item::Text {
+            at: [b + x + 1.0, base + z + 3.0],
+            size: 3.0,
+            text: label(z),
+        });
+        x += step;
+    }
+    let n = side.x.len();
+    let exit = if n >= 3 {
+        let (a, b2) = (n - 3, n - 2);
+        ((side.bottom[b2] - side.bottom[a]) / (side.x[b2] - side.x[a]))
+            .atan()
+            .to_degrees()
+    } else {
+        0.0
+    };
+    items.push(Item::Text {
+        at: [b, base + top + 8.0],
+        size: 4.0,
+        text: format!(
+            "nose rocker {}, tail rocker {}, tail exit angle {:.1} deg; solid line: bottom (cut edge), thin: deck",
+            label(side.bottom[0]),
+            label(side.bottom[side.bottom.len() - 1]),
+            exit
+        ),
+    });
+    Drawing {
+        kind: "rocker",
+        title: format!("{}: rocker at the stringer, full size", side.name),
+        width: l + 2.0 * b,
+        height: top - zmin + 2.0 * b + 12.0,
+        items,
+    }
+}
+
+/// Female section templates at `stations` (mm from the nose), side by side:
+/// each the section outline inside a frame, cut out along the outline.
+pub fn sections(name: &str, mesh: &Mesh, stations: &[f64]) -> Drawing {
+    let b = BORDER;
+    let frame = 30.0;
+    let (lo, _) = mesh.bounding_box().unwrap_or(([0.0; 3], [0.0; 3]));
+    let xs: Vec<f64> = stations.iter().map(|s| lo[0] + s).collect();
+    let slices = slice_many(mesh, Axis::X, &xs);
+    let mut items = vec![];
+    let mut left = b;
+    let mut height: f64 = 0.0;
+    for (s, &at) in slices.iter().zip(stations) {
+        let pts: Vec<[f64; 2]> = s.loops.iter().flatten().copied().collect();
+        if pts.is_empty() {
+            continue;
+        }
+        let (mut ylo, mut yhi, mut zlo, mut zhi) = (
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+        );
+        for p in &pts {
+            ylo = ylo.min(p[0]);
+            yhi = yhi.max(p[0]);
+            zlo = zlo.min(p[1]);
+            zhi = zhi.max(p[1]);
+        }
+        let ox = left + frame - ylo;
+        let oz = b + frame - zlo;
+        let (fw, fh) = (yhi - ylo + 2.0 * frame, zhi - zlo + 2.0 * frame);
+        items.push(Item::Line {
+            points: vec![
+                [left, b],
+                [left + fw, b],
+                [left + fw, b + fh],
+                [left, b + fh],
+            ],
+            closed: true,
+            role: Role::Guide,
+        });
+        for l in &s.loops {
+            items.push(Item::Line {
+                points: l.iter().map(|p| [ox + p[0], oz + p[1]]).collect(),
+                closed: true,
+                role: Role::Cut,
+            });
+        }
+        items.push(Item::Line {
+            points: vec![[ox, b], [ox, b + fh]],
+            closed: false,
+            role: Role::Guide,
+        });
+        // Thickness at the stringer: where the section crosses y = 0.
+        let (mut tb, mut td) = (f64::INFINITY, f64::NEG_INFINITY);
+        for l in &s.loops {
+            for k in 0..l.len() {
+                let (p, q) = (l[k], l[(k + 1) % l.len()]);
+                if (p[0] <= 0.0) != (q[0] <= 0.0) {
+                    let z = p[1] + (q[1] - p[1]) * (0.0 - p[0]) / (q[0] - p[0]);
+                    tb = tb.min(z);
+                    td = td.max(z);
+                }
+            }
+        }
+        let thick = if tb.is_finite() { td - tb } else { zhi - zlo };
+        items.push(Item::Text {
+            at: [left + 3.0, b + fh + 4.0],
+            size: 3.5,
+            text: format!("SECTION {} from nose", units::Both(at)),
+        });
+        items.push(Item::Text {
+            at: [left + 3.0, b + fh + 9.0],
+            size: 3.0,
+            text: format!(
+                "thickness at stringer {}; width {}",
+                label(thick),
+                label(yhi - ylo)
+            ),
+        });
+        items.push(Item::Text {
+            at: [left + 3.0, b + 4.0],
+            size: 3.0,
+            text: "cut along the section line; the frame is the template".into(),
+        });
+        left += fw + b;
+        height = height.max(fh + 12.0);
+    }
+    Drawing {
+        kind: "sections",
+        title: format!("{name}: female section templates, full size"),
+        width: left,
+        height: height + 2.0 * b,
+        items,
+    }
+}
+
+/// The shaping sheet's lines: measurements at stations, the volume
+/// certificate, and how to print.
+pub fn sheet(report: &Report) -> Vec<String> {
+    let mut lines = vec![
+        format!("{}: shaping sheet", report.name),
+        String::new(),
+        format!("length {} (flat); width {}; thickness {}", units::Both(report.length_mm), units::Both(report.width_mm), units::Both(report.thickness_mm)),
+        format!(
+            "nose width {} and tail width {}, {} from the tips; tail {}",
+            units::Both(report.nose_width_mm),
+            units::Both(report.tail_width_mm),
+            units::Both(report.tip_station_mm),
+            report.tail
+        ),
+        format!(
+            "volume {:.2} L (mesh {:.4} L, shape integral {:.4} L, error estimate {:.4} L{})",
+            report.volume_litres,
+            report.volume_litres,
+            report.volume_litres_surface,
+            report.volume_error_estimate_litres,
+            if report.certified { ", certified" } else { ", NOT CERTIFIED" }
+        ),
+        String::new(),
+        "from nose            width              thickness          bottom (rocker)    deck               rail apex".into(),
+    ];
+    for r in &report.stations {
+        let cell = |v: f64| format!("{:<19}", format!("{:.1} {}", v, units::inches(v)));
+        lines.push(format!(
+            "{:<21}{}{}{}{}{}",
+            format!(
+                "{:.0} mm {}",
+                r.from_nose_mm,
+                units::feet_inches(r.from_nose_mm)
+            ),
+            cell(r.width_mm),
+            cell(r.thickness_mm),
+            cell(r.bottom_mm),
+            cell(r.deck_mm),
+            cell(r.apex_mm)
+        ));
+    }
+    lines.extend([
+        String::new(),
+        "Heights are above the flat the board rests on, at the stringer.".into(),
+        "Printing: print at 100 % (actual size, no fit-to-page); measure the 100 mm and 4 in bars"
+            .into(),
+        "on every page before cutting anything. Trim each tile on its dashed cut lines, lay the"
+            .into(),
+        "tiles by the assembly map, match the alignment crosses, and tape.".into(),
+    ]);
+    lines
+}
+
+/// A drawing as one true-scale SVG (mm), y turned down for SVG.
+pub fn to_svg(d: &Drawing) -> String {
+    let mut doc = Svg::new(d.width, d.height);
+    let flip = |p: &[f64; 2]| [p[0], d.height - p[1]];
+    doc.text([BORDER, 8.0], 4.0, &d.title);
+    for item in &d.items {
+        match item {
+            Item::Line {
+                points,
+                closed,
+                role,
+            } => {
+                let pts: Vec<[f64; 2]> = points.iter().map(flip).collect();
+                match role {
+                    Role::Cut => doc.path(&pts, *closed, "black", 0.5, None),
+                    Role::Guide => doc.path(&pts, *closed, "#777777", 0.25, None),
+                }
+            }
+            Item::Text { at, size, text } => doc.text(flip(at), *size, text),
+        }
+    }
+    doc.finish()
+}

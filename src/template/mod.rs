@@ -1,0 +1,4 @@
+//! Full-size templates: drawings in millimetres, tiled onto paper.
+
+pub mod drawing;
+pub mod tiling;

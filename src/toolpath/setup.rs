@@ -1,0 +1,561 @@
+//! Where the board sits in the stock, the parting surface through its rail
+//! apex, the tabs and registration holes, and the flip between the setups.
+//!
+//! Setup coordinates: X along the block (nose towards X 0), Y across, Z
+//! down from the block's top face; zero at the top face's front-left
+//! corner. The second setup is the block turned over about the X axis,
+//! and its zero is again the top front-left corner.
+
+use crate::model::job::{Block, Job, Pitch};
+use crate::model::mesh::Mesh;
+use crate::profiles::machine::mm_text;
+use crate::units;
+
+/// Why a job cannot be cut.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum CamError {
+    /// The board does not fit the stock or the machine.
+    #[error("the board does not fit: {0}")]
+    Fit(String),
+    /// The work would take unbounded time or memory.
+    #[error("over a limit: {0}")]
+    Limit(String),
+    /// A safety gate refused the program.
+    #[error("refused: {0}")]
+    Refused(String),
+}
+
+/// Which side is up.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Side {
+    /// Setup 1: deck up.
+    Deck,
+    /// Setup 2: after the flip, bottom up.
+    Bottom,
+}
+
+impl Side {
+    /// `deck` or `bottom`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Side::Deck => "deck",
+            Side::Bottom => "bottom",
+        }
+    }
+    /// 1 or 2.
+    pub fn number(self) -> u32 {
+        match self {
+            Side::Deck => 1,
+            Side::Bottom => 2,
+        }
+    }
+}
+
+/// How much room the board has.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Margins {
+    /// Least foam over the deck, and the X where it is least.
+    pub top: (f64, f64),
+    /// Least foam under the bottom, and where.
+    pub bottom: (f64, f64),
+    /// From the block's front end to the nose.
+    pub nose: f64,
+    /// From the tail to the block's back end.
+    pub tail: f64,
+    /// From each long side of the block to the board.
+    pub side: f64,
+}
+
+/// The board placed in its block, ready for toolpaths.
+#[derive(Debug, Clone)]
+pub struct Placement {
+    /// The block.
+    pub block: Block,
+    /// Tilt about Y applied, degrees.
+    pub pitch: f64,
+    /// The board in setup-1 coordinates.
+    pub part: Mesh,
+    /// Parting surface (rail apex) height along X, setup-1 coordinates, every 2 mm.
+    pub parting: Vec<[f64; 2]>,
+    /// Board's X extent.
+    pub x_range: [f64; 2],
+    /// Board's half-width at its widest.
+    pub half_width: f64,
+    /// Centreline Y (the stringer).
+    pub centre_y: f64,
+    /// Registration hole centres (X, Y), setup-1 coordinates.
+    pub holes: [[f64; 2]; 2],
+    /// Tab blocks in setup-1 coordinates.
+    pub tabs: Vec<Mesh>,
+    /// Room around the board.
+    pub margins: Margins,
+}
+
+/// Turns a setup-1 point into setup-2 coordinates (and back: the flip is
+/// its own inverse): a half turn about the X axis through the block's
+/// middle, (x, y, z) -> (x, W - y, -T - z).
+pub fn flip(p: [f64; 3], block: &Block) -> [f64; 3] {
+    [p[0], block.width - p[1], -block.thickness - p[2]]
+}
+
+/// A mesh turned over with the block.
+pub fn flip_mesh(mesh: &Mesh, block: &Block) -> Mesh {
+    Mesh {
+        vertices: mesh.vertices.iter().map(|&v| flip(v, block)).collect(),
+        triangles: mesh.triangles.clone(),
+    }
+}
+
+fn rotate_y(v: [f64; 3], deg: f64) -> [f64; 3] {
+    // Nose (low x) up for positive pitch.
+    let (s, c) = deg.to_radians().sin_cos();
+    [v[0] * c + v[2] * s, v[1], -v[0] * s + v[2] * c]
+}
+
+fn z_extent(vs: &[[f64; 3]], deg: f64) -> f64 {
+    let (s, c) = deg.to_radians().sin_cos();
+    let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+    for v in vs {
+        let z = -v[0] * s + v[2] * c;
+        lo = lo.min(z);
+        hi = hi.max(z);
+    }
+    hi - lo
+}
+
+/// Places the board (any closed mesh, nose at low X, stringer along X) in
+/// the job's block. `apex` is the rail apex line (x, 0, z) in the mesh's
+/// coordinates when the shape is known; otherwise it is read off the mesh.
+pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Placement, CamError> {
+    let Some((lo, hi)) = board.bounding_box() else {
+        return Err(CamError::Fit("the mesh is empty".into()));
+    };
+    // Pitch: the tilt within ±8° that needs the least thickness (sampled
+    // every 0.1°, then refined), kept only if it saves more than 1 mm.
+    let rockered = job.stock.as_ref().filter(|b| b.rocker.is_some());
+    let pitch = match (job.pitch, rockered) {
+        (Pitch::Degrees(d), _) => d,
+        (Pitch::Auto, Some(b)) => blank_pitch(board, lo, hi, b),
+        (Pitch::Auto, None) => {
+            let hull: Vec<[f64; 3]> = board.vertices.clone();
+            let mut best = (z_extent(&hull, 0.0), 0.0);
+            for k in -80..=80 {
+                let d = k as f64 * 0.1;
+                let e = z_extent(&hull, d);
+                if e < best.0 - 1e-9 {
+                    best = (e, d);
+                }
+            }
+            if z_extent(&hull, 0.0) - best.0 > 1.0 {
+                best.1
+            } else {
+                0.0
+            }
+        }
+    };
+    let centre = [
+        (lo[0] + hi[0]) / 2.0,
+        (lo[1] + hi[1]) / 2.0,
+        (lo[2] + hi[2]) / 2.0,
+    ];
+    let turned: Vec<[f64; 3]> = board
+        .vertices
+        .iter()
+        .map(|v| {
+            rotate_y(
+                [v[0] - centre[0], v[1] - centre[1], v[2] - centre[2]],
+                pitch,
+            )
+        })
+        .collect();
+    let (mut tlo, mut thi) = ([f64::INFINITY; 3], [f64::NEG_INFINITY; 3]);
+    for v in &turned {
+        for a in 0..3 {
+            tlo[a] = tlo[a].min(v[a]);
+            thi[a] = thi[a].max(v[a]);
+        }
+    }
+    let size = [thi[0] - tlo[0], thi[1] - tlo[1], thi[2] - tlo[2]];
+    let r_rough = job.roughing.tool.cutter.radius;
+    let end_need = job.hole_gap + job.hole_diameter + 10.0;
+    let side_need = job.frame + 2.0 * r_rough + 5.0;
+    let block = match &job.stock {
+        Some(b) => b.clone(),
+        None => {
+            let up = |v: f64, step: f64| (v / step).ceil() * step;
+            Block::flat(
+                up(size[0] + 2.0 * end_need, 10.0),
+                up(size[1] + 2.0 * side_need, 10.0),
+                up(size[2] + 2.0 * job.skin, 5.0),
+            )
+        }
+    };
+    let mut short = Vec::new();
+    let need_len = size[0] + 2.0 * end_need;
+    if block.length < need_len {
+        short.push(format!(
+            "length: the block is {} long, the board with room for its holes and frame needs {} ({} short)",
+            both(block.length),
+            both(need_len),
+            both(need_len - block.length)
+        ));
+    }
+    let need_w = size[1] + 2.0 * side_need;
+    if block.width < need_w {
+        short.push(format!(
+            "width: the block is {} wide, the board with its cut band and frame needs {} ({} short)",
+            both(block.width),
+            both(need_w),
+            both(need_w - block.width)
+        ));
+    }
+    let need_t = size[2] + 2.0 * job.skin;
+    // Where the thickness is tightest: the X of the highest and lowest points.
+    let at_top = turned
+        .iter()
+        .max_by(|a, b| a[2].total_cmp(&b[2]))
+        .map_or(0.0, |v| v[0] - tlo[0]);
+    // A rockered blank: the room between its curves at each X, with the
+    // board centred along it and raised to balance the room over and under.
+    let blank_fit = rockered.map(|b| {
+        let sx = b.length / 2.0 - (tlo[0] + thi[0]) / 2.0;
+        vertical_room(&turned, sx, b)
+    });
+    if let Some(f) = &blank_fit
+        && f.margin < job.skin
+    {
+        let room = if f.margin >= 0.0 {
+            format!(
+                "leaves at most {} of foam over the deck and under the bottom",
+                both(f.margin)
+            )
+        } else {
+            format!("stands {} out of the blank's curves", both(-f.margin))
+        };
+        short.push(format!(
+            "rocker: tilted {pitch:.1}°, the board {room} at the tightest, {} from the blank's nose end; it needs {} skin ({} short)",
+            both(if f.over.0 < f.under.0 { f.over.1 } else { f.under.1 }),
+            mm_text(job.skin),
+            both(job.skin - f.margin)
+        ));
+    } else if blank_fit.is_none() && block.thickness < need_t {
+        short.push(format!(
+            "thickness: the block is {} thick, the board tilted {pitch:.1}° needs {} with {} skin ({} short), tightest {} from the nose",
+            both(block.thickness),
+            both(need_t),
+            mm_text(job.skin),
+            both(need_t - block.thickness),
+            both(at_top)
+        ));
+    }
+    if !short.is_empty() {
+        return Err(CamError::Fit(short.join("; ")));
+    }
+    let shift = [
+        block.length / 2.0 - (tlo[0] + thi[0]) / 2.0,
+        block.width / 2.0 - (tlo[1] + thi[1]) / 2.0,
+        match &blank_fit {
+            Some(f) => f.lift,
+            None => -block.thickness / 2.0 - (tlo[2] + thi[2]) / 2.0,
+        },
+    ];
+    let part = Mesh {
+        vertices: turned
+            .iter()
+            .map(|v| [v[0] + shift[0], v[1] + shift[1], v[2] + shift[2]])
+            .collect(),
+        triangles: board.triangles.clone(),
+    };
+    let x_range = [tlo[0] + shift[0], thi[0] + shift[0]];
+    let centre_y = block.width / 2.0;
+    // Parting surface: in each 2 mm slab along X, the middle of the height
+    // range of the points within 0.2 mm of the widest (a rail is nearly
+    // vertical at its apex, so the single widest point is not a steady guide).
+    let bins = ((x_range[1] - x_range[0]) / 2.0).ceil().max(1.0) as usize;
+    let bin_of = |x: f64| (((x - x_range[0]) / 2.0).round().max(0.0) as usize).min(bins);
+    let mut widest = vec![f64::NEG_INFINITY; bins + 1];
+    let mut half_width: f64 = 0.0;
+    for v in &part.vertices {
+        let w = (v[1] - centre_y).abs();
+        half_width = half_width.max(w);
+        let k = bin_of(v[0]);
+        widest[k] = widest[k].max(w);
+    }
+    let mut band = vec![(f64::INFINITY, f64::NEG_INFINITY); bins + 1];
+    for v in &part.vertices {
+        let k = bin_of(v[0]);
+        if (v[1] - centre_y).abs() >= widest[k] - 0.2 {
+            band[k] = (band[k].0.min(v[2]), band[k].1.max(v[2]));
+        }
+    }
+    let mut parting: Vec<[f64; 2]> = band
+        .iter()
+        .enumerate()
+        .filter(|(_, b)| b.0 <= b.1)
+        .map(|(k, b)| [x_range[0] + 2.0 * k as f64, 0.5 * (b.0 + b.1)])
+        .collect();
+    if let Some(line) = apex {
+        parting = line
+            .iter()
+            .map(|v| {
+                let t = rotate_y(
+                    [v[0] - centre[0], v[1] - centre[1], v[2] - centre[2]],
+                    pitch,
+                );
+                [t[0] + shift[0], t[2] + shift[2]]
+            })
+            .collect();
+        parting.sort_by(|a, b| a[0].total_cmp(&b[0]));
+    }
+    if parting.is_empty() {
+        parting.push([x_range[0], -block.thickness / 2.0]);
+    }
+    let (top, bottom) = match &blank_fit {
+        Some(f) => (
+            (f.over.0 - f.lift, f.over.1 - x_range[0]),
+            (f.under.0 + f.lift, f.under.1 - x_range[0]),
+        ),
+        None => {
+            let at_bottom = turned
+                .iter()
+                .min_by(|a, b| a[2].total_cmp(&b[2]))
+                .map_or(0.0, |v| v[0] + shift[0]);
+            (
+                (
+                    -(thi[2] + shift[2]),
+                    at_top + tlo[0] + shift[0] - x_range[0],
+                ),
+                (tlo[2] + shift[2] + block.thickness, at_bottom - x_range[0]),
+            )
+        }
+    };
+    let hr = job.hole_diameter / 2.0;
+    let holes = [
+        [x_range[0] - job.hole_gap - hr, centre_y],
+        [x_range[1] + job.hole_gap + hr, centre_y],
+    ];
+    // Tabs: from 5 mm inside each tip out past the cut band, centred on the
+    // parting height at the tip.
+    let tab = |x0: f64, x1: f64, z: f64| {
+        Mesh::cuboid(
+            [x0, centre_y - job.tabs[0] / 2.0, z - job.tabs[1] / 2.0],
+            [x1 - x0, job.tabs[0], job.tabs[1]],
+        )
+    };
+    let z_nose = parting.first().map_or(0.0, |p| p[1]);
+    let z_tail = parting.last().map_or(0.0, |p| p[1]);
+    let reach = job.frame + 2.0 * r_rough + 5.0;
+    let tabs = vec![
+        tab(x_range[0] - reach, x_range[0] + 5.0, z_nose),
+        tab(x_range[1] - 5.0, x_range[1] + reach, z_tail),
+    ];
+    let tail = block.length - x_range[1];
+    Ok(Placement {
+        block,
+        pitch,
+        part,
+        parting,
+        x_range,
+        half_width,
+        centre_y,
+        holes,
+        tabs,
+        margins: Margins {
+            top,
+            bottom,
+            nose: x_range[0],
+            tail,
+            side: centre_y - half_width,
+        },
+    })
+}
+
+/// Room for a board in a rockered blank.
+struct Room {
+    /// Least of (deck − point) over the board before lifting, and its X.
+    over: (f64, f64),
+    /// Least of (point − bottom) before lifting, and its X.
+    under: (f64, f64),
+    /// The lift that balances the two.
+    lift: f64,
+    /// The foam left over and under after the lift.
+    margin: f64,
+}
+
+/// The room between the blank's curves for `points` (centred, turned)
+/// moved `sx` along X: exact on the curves.
+fn vertical_room(points: &[[f64; 3]], sx: f64, b: &Block) -> Room {
+    let (mut over, mut under) = ((f64::INFINITY, 0.0), (f64::INFINITY, 0.0));
+    for v in points {
+        let x = v[0] + sx;
+        let (d, bt) = b.deck_bottom_z(x);
+        if d - v[2] < over.0 {
+            over = (d - v[2], x);
+        }
+        if v[2] - bt < under.0 {
+            under = (v[2] - bt, x);
+        }
+    }
+    let lift = (over.0 - under.0) / 2.0;
+    Room {
+        over,
+        under,
+        lift,
+        margin: (over.0 + under.0) / 2.0,
+    }
+}
+
+/// The tilt within ±8° (every 0.1°) that leaves the most foam over and
+/// under the board in a rockered blank; level unless a tilt gains more
+/// than 1 mm. The search reads the curves off a 1 mm table and takes at
+/// most 20,000 of the board's points.
+fn blank_pitch(board: &Mesh, lo: [f64; 3], hi: [f64; 3], b: &Block) -> f64 {
+    let centre = [
+        (lo[0] + hi[0]) / 2.0,
+        (lo[1] + hi[1]) / 2.0,
+        (lo[2] + hi[2]) / 2.0,
+    ];
+    let step = board.vertices.len().div_ceil(20_000).max(1);
+    let pts: Vec<[f64; 3]> = board
+        .vertices
+        .iter()
+        .step_by(step)
+        .map(|v| [v[0] - centre[0], v[1] - centre[1], v[2] - centre[2]])
+        .collect();
+    let n = b.length.ceil() as usize;
+    let table: Vec<(f64, f64)> = (0..=n).map(|k| b.deck_bottom_z(k as f64)).collect();
+    let at = |x: f64| {
+        let x = x.clamp(0.0, n as f64);
+        let k = (x.floor() as usize).min(n.saturating_sub(1));
+        let t = x - k as f64;
+        let (a, c) = (table[k], table[(k + 1).min(n)]);
+        (a.0 + t * (c.0 - a.0), a.1 + t * (c.1 - a.1))
+    };
+    let margin = |deg: f64| {
+        let turned: Vec<[f64; 3]> = pts.iter().map(|&v| rotate_y(v, deg)).collect();
+        let (mut x0, mut x1) = (f64::INFINITY, f64::NEG_INFINITY);
+        for v in &turned {
+            x0 = x0.min(v[0]);
+            x1 = x1.max(v[0]);
+        }
+        let sx = b.length / 2.0 - (x0 + x1) / 2.0;
+        let (mut over, mut under) = (f64::INFINITY, f64::INFINITY);
+        for v in &turned {
+            let (d, bt) = at(v[0] + sx);
+            over = over.min(d - v[2]);
+            under = under.min(v[2] - bt);
+        }
+        (over + under) / 2.0
+    };
+    let level = margin(0.0);
+    let mut best = (level, 0.0);
+    for k in -80..=80 {
+        let d = k as f64 * 0.1;
+        let m = margin(d);
+        if m > best.0 + 1e-9 {
+            best = (m, d);
+        }
+    }
+    if best.0 - level > 1.0 { best.1 } else { 0.0 }
+}
+
+impl Placement {
+    /// Parting height at X in setup-1 coordinates (held level past the tips).
+    pub fn parting_at(&self, x: f64) -> f64 {
+        let p = &self.parting;
+        if x <= p[0][0] {
+            return p[0][1];
+        }
+        if x >= p[p.len() - 1][0] {
+            return p[p.len() - 1][1];
+        }
+        let k = p.partition_point(|q| q[0] <= x).clamp(1, p.len() - 1);
+        let (a, b) = (p[k - 1], p[k]);
+        a[1] + (b[1] - a[1]) * (x - a[0]) / (b[0] - a[0]).max(1e-12)
+    }
+
+    /// The part and tabs as the tool sees them in a setup.
+    pub fn guard(&self, side: Side) -> Vec<Mesh> {
+        let mut all = vec![self.part.clone()];
+        all.extend(self.tabs.iter().cloned());
+        match side {
+            Side::Deck => all,
+            Side::Bottom => all.iter().map(|m| flip_mesh(m, &self.block)).collect(),
+        }
+    }
+
+    /// Lowest height a tool tip may reach outside the part at X in a setup:
+    /// the parting surface, less the overlap.
+    pub fn floor_at(&self, side: Side, x: f64, overlap: f64) -> f64 {
+        let zp = self.parting_at(x);
+        match side {
+            Side::Deck => zp - overlap,
+            Side::Bottom => -self.block.thickness - zp - overlap,
+        }
+    }
+
+    /// Text lines on the fit, for reports and the setup sheet.
+    pub fn fit_lines(&self) -> Vec<String> {
+        let m = &self.margins;
+        let b = &self.block;
+        vec![
+            match &b.rocker {
+                None => format!(
+                    "block {} x {} x {} (L x W x T)",
+                    both(b.length),
+                    both(b.width),
+                    both(b.thickness)
+                ),
+                Some(r) => format!(
+                    "rockered blank {} x {}, {} high overall, {} stations (allowance {})",
+                    both(b.length),
+                    both(b.width),
+                    both(b.thickness),
+                    r.stations.len(),
+                    mm_text(r.allowance)
+                ),
+            },
+            format!("board tilted {:.1}° about Y to fit the rocker", self.pitch),
+            format!(
+                "foam over the deck: at least {} ({} from the nose)",
+                both(m.top.0),
+                both(m.top.1.max(0.0))
+            ),
+            format!(
+                "foam under the bottom: at least {} ({} from the nose)",
+                both(m.bottom.0),
+                both(m.bottom.1.max(0.0))
+            ),
+            format!(
+                "block end to nose {}, tail to block end {}, each side {}",
+                both(m.nose),
+                both(m.tail),
+                both(m.side)
+            ),
+        ]
+    }
+}
+
+fn both(mm: f64) -> String {
+    units::Both(mm).to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_flip_maps_the_registration_holes_onto_themselves() {
+        // A half turn about the X axis through the block's middle keeps any
+        // point on the centreline's vertical plane at the same X and Y.
+        let block = Block::flat(2000.0, 600.0, 150.0);
+        for x in [40.0, 1960.0] {
+            let p = [x, 300.0, -37.0];
+            let q = flip(p, &block);
+            assert_eq!([q[0], q[1]], [p[0], p[1]]);
+            assert_eq!(flip(q, &block), p);
+        }
+        // And it is a rotation: the top front-left corner goes to the bottom back-left.
+        assert_eq!(flip([0.0, 0.0, 0.0], &block), [0.0, 600.0, -150.0]);
+    }
+}
