@@ -21,9 +21,9 @@
 //! 3. [`volume`]: mesh volume, shape integrals, the certificate, the report.
 //! 4. [`stl`]: STL in and out.
 //! 5. [`inspect`]: meshes from elsewhere checked, and compared with a design.
-//! 6. [`slice`]: sections and waterlines.
-//! 7. [`template`]: full-size templates on paper.
-//! 8. [`resize`]: boards scaled to a size, a volume or other water; overlays.
+//! 6. [`slice`](mod@slice): sections and waterlines.
+//! 7. [`resize`]: boards scaled to a size, a volume or other water; overlays.
+//! 8. [`template`]: full-size templates on paper.
 //! 9. [`profiles`]: machine and job profiles read.
 //! 10. [`toolpath`]: placement in the stock and each setup's toolpaths.
 //! 11. [`gcode`]: G-code read and written; the programs of a cut.
@@ -31,23 +31,23 @@
 //! 13. [`page`]: the report pages.
 //! 14. [`jobs`]: the commands' work, without the command line.
 
-pub mod description;
-pub mod gcode;
-pub mod geom;
-pub mod input;
-pub mod inspect;
-pub mod jobs;
-pub mod meshing;
-pub mod model;
-pub mod output;
-pub mod page;
-pub mod profiles;
-pub mod resize;
-pub mod slice;
-pub mod stl;
-pub mod svg;
-pub mod template;
-pub mod toolpath;
 pub mod units;
-pub mod verify;
+pub mod input;
+pub mod output;
+pub mod svg;
+pub mod model;
+pub mod geom;
+pub mod description;
+pub mod meshing;
 pub mod volume;
+pub mod stl;
+pub mod inspect;
+pub mod slice;
+pub mod resize;
+pub mod template;
+pub mod profiles;
+pub mod toolpath;
+pub mod gcode;
+pub mod verify;
+pub mod page;
+pub mod jobs;

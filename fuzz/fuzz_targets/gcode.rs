@@ -3,7 +3,7 @@
 #![no_main]
 
 use blanksmith::model::job::Block;
-use blanksmith::profiles::machine::self;
+use blanksmith::profiles::machine as profile;
 use blanksmith::model::machine::Cutter;
 use blanksmith::toolpath::setup::Side;
 use blanksmith::verify::simulate::{self as verify, ProgramSource, Setting, VerifyOptions};
@@ -13,11 +13,12 @@ fuzz_target!(|data: &[u8]| {
     let machine = profile::generic_machine();
     let setting = Setting {
         machine: &machine,
-        block: Block { length: 60.0, width: 40.0, thickness: 20.0 },
+        block: Block { length: 60.0, width: 40.0, thickness: 20.0, rocker: None },
         table_position: [0.0, 0.0],
         default_tool: Some(Cutter::ball(6.0)),
         design: None,
         keep: vec![],
+        floor: None,
     };
     let sources = vec![ProgramSource { name: "fuzz.nc".into(), side: Side::Deck, reader: Box::new(data) }];
     let _ = verify::verify(sources, &setting, VerifyOptions { cell: 1.0, ..Default::default() }, &|_| {});

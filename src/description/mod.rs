@@ -3,7 +3,7 @@
 //! Reading is two steps. The YAML reader (serde-saphyr) turns the text into
 //! the raw fields below, refusing unknown fields, wrong types and unreadable
 //! lengths with their line and column. [`resolve`] then checks the shape
-//! rules and builds the continuous [`Board`](crate::model::board::Board).
+//! rules and builds the continuous [`Board`].
 
 pub mod demo;
 mod resolve;

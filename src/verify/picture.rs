@@ -16,7 +16,7 @@ fn block(map: &DeviationMap) -> usize {
     map.dims[0].max(map.dims[1]).div_ceil(MAX_PIXELS).max(1)
 }
 
-/// The map as a PNG, one pixel per [`block`] of cells, rows top-down.
+/// The map as a PNG, one pixel per `block` of cells, rows top-down.
 pub fn png(map: &DeviationMap, scale: f64) -> Vec<u8> {
     let [nx, ny] = map.dims;
     let f = block(map);
