@@ -662,6 +662,7 @@ pub fn cut(
 ) -> Result<(CutPlan, Vec<PathBuf>), JobError> {
     let design = load_design(path)?;
     let (machine, job) = cut_profiles(args)?;
+    output::ready(dir)?;
     let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
     let litres = crate::volume::measure::volume(&mesh) / 1e6;
     let (plan, _, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
@@ -853,6 +854,7 @@ pub fn slice(
     z_step: Option<f64>,
     dir: &Path,
 ) -> Result<Sliced, JobError> {
+    output::ready(dir)?;
     let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
     let (lo, hi) = mesh
         .bounding_box()
@@ -945,6 +947,7 @@ pub fn compare(
 ) -> Result<(Comparison, Vec<PathBuf>), JobError> {
     let d = load_design(design)?;
     let c = load_design(cut)?;
+    output::ready(dir)?;
     if matches!(c, Design::Board(_)) {
         return Err(JobError::Option(format!(
             "{}: the cut must be an STL file",
@@ -1034,6 +1037,9 @@ pub fn resize(
     out: Option<&Path>,
 ) -> Result<ResizeOutcome, JobError> {
     let board = description::load(path)?;
+    if let Some(dest) = out {
+        output::ready(dest.parent().unwrap_or(Path::new("")))?;
+    }
     let unit = description::write::unit_of(&board);
     let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
     let old_cert = certificate::certify(&board, tol)?;
@@ -1172,6 +1178,7 @@ pub struct Diff {
 pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
     let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
     let designs = [load_design(a)?, load_design(b)?];
+    output::ready(dir)?;
     let meshes = [designs[0].mesh(tol)?, designs[1].mesh(tol)?];
     let names = [designs[0].name().to_string(), designs[1].name().to_string()];
     let lengths = [0, 1].map(|i| {
@@ -1253,6 +1260,7 @@ pub fn templates(
     stations: &[f64],
     dir: &Path,
 ) -> Result<Templates, JobError> {
+    output::ready(dir)?;
     let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
     let (mesh, report) = match design {
         Design::Board(b) => {
@@ -1497,6 +1505,9 @@ pub fn verify_programs(
     dir: Option<&Path>,
     progress: &dyn Fn(&str),
 ) -> Result<(Verification, Vec<PathBuf>), JobError> {
+    if let Some(d) = dir {
+        output::ready(d)?;
+    }
     let machine = profile::load_machine(&args.machine)?;
     if !(args.cell.is_finite() && (0.05..=10.0).contains(&args.cell)) {
         return Err(JobError::Option(format!(
