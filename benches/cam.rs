@@ -15,7 +15,9 @@ use blanksmith::model::machine::Cutter;
 use blanksmith::model::mesh::Mesh;
 use blanksmith::profiles::job;
 use blanksmith::profiles::machine as profile;
-use blanksmith::{description, description::demo, jobs, meshing::mesher, volume::certificate};
+use blanksmith::{
+    commands as jobs, description, description::demo, meshing::mesher, volume::certificate,
+};
 use divan::black_box;
 
 fn main() {

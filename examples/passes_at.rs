@@ -12,8 +12,8 @@
 //! The point is the `leftover_reachable_at` or `gouge_at` of `verify`'s
 //! JSON (X, Y in the setup's coordinates, and the setup).
 
+use blanksmith::commands;
 use blanksmith::geom::dropcutter::DropCutter;
-use blanksmith::jobs;
 use blanksmith::model::toolpath::Step;
 use blanksmith::profiles::{job, machine as profile};
 use blanksmith::toolpath::setup::Side;
@@ -56,8 +56,8 @@ fn main() {
         None => job::default_job(&machine),
     }
     .unwrap_or_else(|e| fail(&e));
-    let design = jobs::load_design(std::path::Path::new(&args[0])).unwrap_or_else(|e| fail(&e));
-    let plan = jobs::plan_design(&design, &machine, &job, &|_| {}).unwrap_or_else(|e| fail(&e));
+    let design = commands::load_design(std::path::Path::new(&args[0])).unwrap_or_else(|e| fail(&e));
+    let plan = commands::plan_design(&design, &machine, &job, &|_| {}).unwrap_or_else(|e| fail(&e));
     let k = if side == Side::Deck { 0 } else { 1 };
     let place = &plan.placement;
     let guard = place.guard(side);

@@ -29,7 +29,7 @@
 //! 11. [`gcode`]: G-code read and written; the programs of a cut.
 //! 12. [`verify`]: simulation of programs, deviation pictures.
 //! 13. [`page`]: the report pages.
-//! 14. [`jobs`]: the commands' work, without the command line.
+//! 14. [`commands`]: the commands' work, one file a command, without the command line.
 
 pub mod units;
 pub mod input;
@@ -50,4 +50,4 @@ pub mod toolpath;
 pub mod gcode;
 pub mod verify;
 pub mod page;
-pub mod jobs;
+pub mod commands;

@@ -30,8 +30,8 @@ macro_rules! sayln {
     ($($t:tt)*) => { emit(&(format!($($t)*) + "\n")) };
 }
 
+use blanksmith::commands::{self as jobs, Input, JobError, Meshed, StlKind};
 use blanksmith::description::values::parse_position;
-use blanksmith::jobs::{self, Input, JobError, Meshed, StlKind};
 use blanksmith::meshing::mesher::DEFAULT_TOLERANCE;
 use blanksmith::slice::contours;
 use blanksmith::units::{self, Unit};

@@ -5,8 +5,8 @@ use std::sync::OnceLock;
 
 use rayon::prelude::*;
 
+use blanksmith::commands;
 use blanksmith::gcode::program::{self, CutPlan, Program};
-use blanksmith::jobs;
 use blanksmith::model::job::Job;
 use blanksmith::model::machine::Machine;
 use blanksmith::model::toolpath::Step;
@@ -33,8 +33,8 @@ fn case_with(file: &str, machine: Machine, job: Job) -> Case {
     let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
         .join("fixtures")
         .join(file);
-    let design = jobs::load_design(&path).unwrap();
-    let plan = jobs::plan_design(&design, &machine, &job, &|_| {}).unwrap();
+    let design = commands::load_design(&path).unwrap();
+    let plan = commands::plan_design(&design, &machine, &job, &|_| {}).unwrap();
     Case { plan, machine, job }
 }
 
@@ -345,7 +345,7 @@ fn own_programs_verify_clean_for_every_fixture() {
         (&case("check-box.yaml"), true),
         (&longboard, false),
     ] {
-        let v = jobs::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
+        let v = commands::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
         assert!(!v.has_findings(), "{}", v.text());
         let g = v.gouge_max_mm.unwrap();
         assert!(g <= 0.05, "gouge {g}");
@@ -491,9 +491,9 @@ fn each_safety_gate_trips() {
 fn a_block_too_long_for_the_machine_is_refused_with_the_numbers() {
     let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("fixtures/longboard.yaml");
     let dir = tempfile::tempdir().unwrap();
-    let e = jobs::cut(
+    let e = commands::cut(
         &path,
-        &jobs::CutArgs {
+        &commands::CutArgs {
             machine: None,
             job: None,
         },
@@ -628,7 +628,7 @@ fn rockered_blank_rapids_clear_the_blank_beneath_them() {
 #[test]
 fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
     let c = rockered();
-    let v = jobs::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
+    let v = commands::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
     assert!(!v.has_findings(), "{}", v.text());
     assert!(v.gouge_max_mm.unwrap() <= 0.05);
     let target = c.job.finishing.scallop + c.job.finishing.tolerance;

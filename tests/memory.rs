@@ -29,7 +29,7 @@ fn welding_a_crowd_of_near_duplicates_stays_under_200_mb() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("crowd.stl");
     std::fs::write(&path, &bytes).unwrap();
-    let inspection = blanksmith::jobs::check(&path, None).expect("reads");
+    let inspection = blanksmith::commands::check(&path, None).expect("reads");
     assert!(!inspection.is_clean());
     let mut usage: libc::rusage = unsafe { std::mem::zeroed() };
     // SAFETY: getrusage fills the struct it is given.

@@ -2,7 +2,7 @@
 //! the PDF (lopdf), tiles reassembled into the outline, the SVG outline
 //! against the board (roxmltree).
 
-use blanksmith::jobs::{self, Design};
+use blanksmith::commands::{self as jobs, Design};
 use blanksmith::template::drawing::{self as template, Item, Role};
 use blanksmith::template::tiling::{self, CUT_WIDTH, PT_PER_MM};
 use lopdf::{Document, Object, content::Content};

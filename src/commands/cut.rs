@@ -1,0 +1,275 @@
+//! `cut`: router programs and setup sheet for both setups, simulated
+//! before anything is written.
+
+use super::*;
+use crate::gcode::program::{self, CutPlan};
+use crate::model::job::Job;
+use crate::model::machine::Machine;
+use crate::model::mesh::Mesh;
+use crate::output;
+use crate::profiles::job;
+use crate::profiles::machine as profile;
+use crate::verify::picture;
+use crate::verify::simulate::{
+    self as simulate, ProgramSource, Setting, Verification, VerifyOptions,
+};
+use std::path::{Path, PathBuf};
+
+/// A board's cutting outputs (programs for any tool, setup sheet,
+/// simulation report and pictures), so an earlier run's program for a tool
+/// no longer used goes with the set it belonged to.
+pub(crate) fn cut_family(name: &str) -> impl Fn(&str) -> bool + '_ {
+    move |n: &str| {
+        if n == format!("{name}.setup.txt")
+            || n.strip_prefix(name)
+                .is_some_and(|r| r.starts_with(".verify."))
+        {
+            return true;
+        }
+        let Some(rest) = n.strip_prefix(name).and_then(|r| r.strip_prefix('-')) else {
+            return false;
+        };
+        let rest = rest
+            .strip_suffix(".deviation.svg")
+            .or_else(|| rest.strip_suffix(".nc"))
+            .unwrap_or("");
+        let mut parts = rest.split('-');
+        let setup = matches!(
+            (parts.next(), parts.next()),
+            (Some("1"), Some("deck")) | (Some("2"), Some("bottom"))
+        );
+        let tool = match parts.next() {
+            None => true,
+            Some(t) => t
+                .strip_prefix('T')
+                .is_some_and(|d| !d.is_empty() && d.bytes().all(|b| b.is_ascii_digit())),
+        };
+        setup && tool && parts.next().is_none()
+    }
+}
+
+/// Machine and job for the cutting stage: files, or the shipped machine
+/// and the default job.
+#[derive(Debug, Clone, Default)]
+pub struct CutArgs {
+    /// Machine profile; the shipped generic gantry router when `None`.
+    pub machine: Option<PathBuf>,
+    /// Job profile; every default when `None`.
+    pub job: Option<PathBuf>,
+}
+
+/// Reads the machine and job a cut runs with.
+pub fn cut_profiles(args: &CutArgs) -> Result<(Machine, Job), JobError> {
+    let machine = match &args.machine {
+        Some(p) => profile::load_machine(p)?,
+        None => profile::generic_machine(),
+    };
+    let job = match &args.job {
+        Some(p) => job::load_job(p, &machine)?,
+        None => job::default_job(&machine)?,
+    };
+    Ok((machine, job))
+}
+
+/// The cutting stage in memory: programs and setup sheet for a design.
+pub fn cut_files(
+    design: &Design,
+    mesh: &Mesh,
+    litres: f64,
+    machine: &Machine,
+    job: &Job,
+    dir: &Path,
+    progress: &(dyn Fn(&str) + Sync),
+) -> Result<(CutPlan, Verification, Files), JobError> {
+    let apex = match design {
+        Design::Board(b) => Some(program::apex_line(b)),
+        Design::Mesh { .. } => None,
+    };
+    let plan = program::plan(
+        design.name(),
+        litres,
+        mesh,
+        apex.as_deref(),
+        machine,
+        job,
+        progress,
+    )?;
+    // The last gate: simulate the programs as written against the board.
+    let verification = verify_plan(&plan, machine, job, progress)?;
+    if verification.has_findings() {
+        return Err(JobError::Cam(crate::toolpath::setup::CamError::Refused(
+            format!(
+                "the simulation of the programs found problems, so none is written:\n{}",
+                verification.text()
+            ),
+        )));
+    }
+    let mut files: Files = plan
+        .programs
+        .iter()
+        .map(|p| (dir.join(&p.file_name), p.text.clone().into_bytes()))
+        .collect();
+    files.push((
+        dir.join(format!("{}.setup.txt", design.name())),
+        plan.sheet.clone().into_bytes(),
+    ));
+    files.extend(verification_files(&verification, design.name(), dir));
+    Ok((plan, verification, files))
+}
+
+/// `cut`: reads a design (description or STL), writes its programs and
+/// setup sheet into `dir`, or nothing if any gate refuses.
+pub fn cut(
+    path: &Path,
+    args: &CutArgs,
+    dir: &Path,
+    progress: &(dyn Fn(&str) + Sync),
+) -> Result<(CutPlan, Vec<PathBuf>), JobError> {
+    let design = load_design(path)?;
+    let (machine, job) = cut_profiles(args)?;
+    output::ready(dir)?;
+    let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
+    let litres = crate::volume::measure::volume(&mesh) / 1e6;
+    let (plan, _, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
+        .map_err(|e| with_profiles(e, path, args))?;
+    let inputs: Vec<&Path> = [Some(path), args.machine.as_deref(), args.job.as_deref()]
+        .into_iter()
+        .flatten()
+        .collect();
+    let written = write_all(&files, &cut_family(design.name()), &inputs)?;
+    Ok((plan, written))
+}
+
+/// Plans both setups' programs for a design at the default mesh
+/// tolerance, without writing or simulating anything.
+pub fn plan_design(
+    design: &Design,
+    machine: &Machine,
+    job: &Job,
+    progress: &(dyn Fn(&str) + Sync),
+) -> Result<CutPlan, JobError> {
+    let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
+    let litres = crate::volume::measure::volume(&mesh) / 1e6;
+    let apex = match design {
+        Design::Board(b) => Some(program::apex_line(b)),
+        Design::Mesh { .. } => None,
+    };
+    Ok(program::plan(
+        design.name(),
+        litres,
+        &mesh,
+        apex.as_deref(),
+        machine,
+        job,
+        progress,
+    )?)
+}
+
+/// Names the files a fit or gate error came from.
+pub(crate) fn with_profiles(e: JobError, design: &Path, args: &CutArgs) -> JobError {
+    match e {
+        JobError::Cam(c) => {
+            let job = args
+                .job
+                .as_ref()
+                .map_or("the default job".to_string(), |p| p.display().to_string());
+            let machine = args
+                .machine
+                .as_ref()
+                .map_or("the shipped machine".to_string(), |p| {
+                    p.display().to_string()
+                });
+            JobError::Cut {
+                context: format!("{}: with {job} on {machine}", design.display()),
+                source: Box::new(JobError::Cam(c)),
+            }
+        }
+        other => other,
+    }
+}
+
+/// Simulates a plan's own programs against its placed board.
+pub fn verify_plan(
+    plan: &CutPlan,
+    machine: &Machine,
+    job: &Job,
+    progress: &dyn Fn(&str),
+) -> Result<Verification, JobError> {
+    verify_plan_with(plan, machine, job, VerifyOptions::default(), progress)
+}
+
+/// [`verify_plan`] with other options (a finer height map, say).
+pub fn verify_plan_with(
+    plan: &CutPlan,
+    machine: &Machine,
+    job: &Job,
+    options: VerifyOptions,
+    progress: &dyn Fn(&str),
+) -> Result<Verification, JobError> {
+    let sources = plan
+        .programs
+        .iter()
+        .map(|p| ProgramSource {
+            name: p.file_name.clone(),
+            side: p.side,
+            reader: Box::new(p.text.as_bytes()),
+        })
+        .collect();
+    let setting = Setting {
+        machine,
+        block: plan.placement.block.clone(),
+        table_position: job.table_position,
+        default_tool: None,
+        design: Some(&plan.placement.part),
+        keep: tab_rectangles(&plan.placement, job),
+        floor: Some((&plan.placement, job.overlap)),
+    };
+    simulate::verify(sources, &setting, options, progress).map_err(JobError::Gcode)
+}
+
+/// The tabs' plan rectangles, grown by the finishing tool's radius plus
+/// 1 mm: the ball cannot reach closer to a tab's side, and that foam goes
+/// with the tab when it is cut off and sanded.
+pub(crate) fn tab_rectangles(
+    place: &crate::toolpath::setup::Placement,
+    job: &Job,
+) -> Vec<[[f64; 2]; 2]> {
+    let g = job.finishing.pass.tool.cutter.radius + 1.0;
+    place
+        .tabs
+        .iter()
+        .filter_map(|t| t.bounding_box())
+        .map(|(lo, hi)| [[lo[0] - g, lo[1] - g], [hi[0] + g, hi[1] + g]])
+        .collect()
+}
+
+/// The verification's JSON, text and pictures, in memory.
+pub(crate) fn verification_files(v: &Verification, name: &str, dir: &Path) -> Files {
+    let mut files: Files = vec![
+        (
+            dir.join(format!("{name}.verify.json")),
+            v.to_json().into_bytes(),
+        ),
+        (
+            dir.join(format!("{name}.verify.txt")),
+            v.text().into_bytes(),
+        ),
+    ];
+    let scale = v.leftover_p95_mm.unwrap_or(0.1).max(v.gouge_tolerance_mm) * 4.0;
+    for m in &v.maps {
+        let title = format!(
+            "{name}: setup {} ({} up), stock left (blue) and gouges (red), plan view from above",
+            m.side.number(),
+            m.side.name()
+        );
+        files.push((
+            dir.join(format!(
+                "{name}-{}-{}.deviation.svg",
+                m.side.number(),
+                m.side.name()
+            )),
+            picture::svg(m, scale, &title).into_bytes(),
+        ));
+    }
+    files
+}

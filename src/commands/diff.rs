@@ -1,0 +1,85 @@
+//! `diff`: two boards side by side.
+
+use super::*;
+use crate::output;
+use crate::slice::plane::Axis;
+use std::path::{Path, PathBuf};
+
+/// Measurements of two designs side by side, and the overlay written.
+pub struct Diff {
+    /// Names.
+    pub names: [String; 2],
+    /// Rows: from the nose, then (width, thickness, bottom, deck) of each, mm.
+    pub rows: Vec<(f64, [[f64; 4]; 2])>,
+    /// Volumes, litres.
+    pub litres: [f64; 2],
+    /// Lengths, mm.
+    pub lengths: [f64; 2],
+    /// Files written.
+    pub written: Vec<PathBuf>,
+}
+
+/// Compares two designs (descriptions or closed STL) station by station.
+pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
+    let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
+    let designs = [load_design(a)?, load_design(b)?];
+    output::ready(dir)?;
+    let meshes = [designs[0].mesh(tol)?, designs[1].mesh(tol)?];
+    let names = [designs[0].name().to_string(), designs[1].name().to_string()];
+    let lengths = [0, 1].map(|i| {
+        meshes[i]
+            .bounding_box()
+            .map_or(0.0, |(lo, hi)| hi[0] - lo[0])
+    });
+    let step = 6.0 * crate::units::MM_PER_INCH;
+    let longest = lengths[0].max(lengths[1]);
+    let xs: Vec<f64> = (1..)
+        .map(|i| i as f64 * step)
+        .take_while(|&x| x < longest)
+        .collect();
+    // Each design measured the same way: the extents of its sections.
+    let measure = |i: usize| -> Vec<[f64; 4]> {
+        let lo = meshes[i].bounding_box().map_or(0.0, |(lo, _)| lo[0]);
+        let at: Vec<f64> = xs.iter().map(|x| lo + x).collect();
+        crate::slice::plane::slice_many(&meshes[i], Axis::X, &at)
+            .iter()
+            .map(|s| {
+                let (mut w, mut zb, mut zd) = (0.0f64, f64::INFINITY, f64::NEG_INFINITY);
+                for q in s.loops.iter().flatten() {
+                    w = w.max(q[0].abs());
+                    zb = zb.min(q[1]);
+                    zd = zd.max(q[1]);
+                }
+                if zb.is_finite() {
+                    [2.0 * w, zd - zb, zb, zd]
+                } else {
+                    [0.0, 0.0, f64::NAN, f64::NAN]
+                }
+            })
+            .collect()
+    };
+    let (ma, mb) = (measure(0), measure(1));
+    let rows = xs
+        .iter()
+        .zip(ma.iter().zip(&mb))
+        .map(|(&x, (p, q))| (x, [*p, *q]))
+        .collect();
+    let litres = [0, 1].map(|i| crate::volume::measure::volume(&meshes[i]) * 1e-6);
+    let svg = crate::resize::overlay::svg(
+        &format!("{} against {}", names[1], names[0]),
+        &crate::resize::overlay::profile(&names[0], &meshes[0], 200),
+        &crate::resize::overlay::profile(&names[1], &meshes[1], 200),
+    );
+    let files = [(
+        dir.join(format!("{}-vs-{}.overlay.svg", names[1], names[0])),
+        svg.into_bytes(),
+    )];
+    let written = write_all(&files, &exactly(&files), &[a, b])?;
+    Ok(Diff {
+        names,
+        rows,
+        litres,
+        lengths,
+        written,
+    })
+}
