@@ -31,10 +31,9 @@ macro_rules! sayln {
 }
 
 use blanksmith::commands::{self as jobs, Input, JobError, Meshed, StlKind};
-use blanksmith::description::values::parse_position;
 use blanksmith::meshing::mesher::DEFAULT_TOLERANCE;
 use blanksmith::slice::contours;
-use blanksmith::units::{self, Unit};
+use blanksmith::units;
 
 #[derive(Parser)]
 #[command(
@@ -311,229 +310,6 @@ fn finish(m: &Meshed, print_table: bool) -> ExitCode {
     }
 }
 
-fn comparison_text(c: &blanksmith::inspect::compare::Comparison) -> String {
-    use std::fmt::Write as _;
-    let mut s = String::new();
-    if let Some(a) = &c.alignment {
-        let _ = writeln!(
-            s,
-            "alignment: rotated {:.3}°, {:.3}°, {:.3}° about x, y, z and moved {:.3}, {:.3}, {:.3} mm ({} iterations; RMS {:.3} → {:.3} mm)",
-            a.rotation_xyz_deg[0],
-            a.rotation_xyz_deg[1],
-            a.rotation_xyz_deg[2],
-            a.translation_mm[0],
-            a.translation_mm[1],
-            a.translation_mm[2],
-            a.iterations,
-            a.rms_before_mm,
-            a.rms_after_mm
-        );
-    }
-    let _ = writeln!(s, "largest distance (Hausdorff) {:.3} mm", c.hausdorff_mm);
-    for (what, side) in [
-        ("design to cut", &c.design_to_cut),
-        ("cut to design", &c.cut_to_design),
-    ] {
-        let _ = writeln!(
-            s,
-            "  {what}: max {:.3} mm, mean {:.3} mm, RMS {:.3} mm over {} points",
-            side.max_mm, side.mean_mm, side.rms_mm, side.points
-        );
-    }
-    let _ = writeln!(
-        s,
-        "largest deviations on the design (+ stock left, − gouge):"
-    );
-    for w in &c.worst {
-        let _ = writeln!(
-            s,
-            "  {:+.3} mm at ({:.1}, {:.1}, {:.1}) mm",
-            w.deviation_mm, w.at_mm[0], w.at_mm[1], w.at_mm[2]
-        );
-    }
-    let _ = writeln!(
-        s,
-        "volume: design {:.3} L, cut {:.3} L, difference {:+.3} L",
-        c.design_volume_litres, c.cut_volume_litres, c.volume_difference_litres
-    );
-    s
-}
-
-fn resize_text(r: &jobs::ResizeOutcome) -> String {
-    use blanksmith::units::Both;
-    use std::fmt::Write as _;
-    let mut s = String::new();
-    let (o, n) = (&r.old, &r.new);
-    let _ = writeln!(s, "{:<22}  {:<28}  {:<28}", "", o.name, n.name);
-    let row = |s: &mut String, what: &str, a: String, b: String| {
-        let _ = writeln!(s, "{what:<22}  {a:<28}  {b:<28}");
-    };
-    let lengths = [
-        ("length", o.length_mm, n.length_mm),
-        ("width", o.width_mm, n.width_mm),
-        ("thickness", o.thickness_mm, n.thickness_mm),
-        ("nose width (N12)", o.nose_width_mm, n.nose_width_mm),
-        ("tail width (T12)", o.tail_width_mm, n.tail_width_mm),
-    ];
-    for (what, a, b) in lengths {
-        row(&mut s, what, Both(a).to_string(), Both(b).to_string());
-    }
-    row(
-        &mut s,
-        "volume",
-        format!("{:.2} L", o.volume_litres),
-        format!(
-            "{:.2} L ({:+.2} L)",
-            n.volume_litres,
-            n.volume_litres - o.volume_litres
-        ),
-    );
-    row(
-        &mut s,
-        "centre of volume",
-        Both(o.centre_of_volume_from_nose_mm).to_string(),
-        Both(n.centre_of_volume_from_nose_mm).to_string(),
-    );
-    let per_foot = |r: &blanksmith::volume::report::Report| {
-        r.litres_per_foot
-            .iter()
-            .map(|p| format!("{:.1}", p.litres))
-            .collect::<Vec<_>>()
-            .join(" ")
-    };
-    row(&mut s, "litres per foot", per_foot(o), per_foot(n));
-    let _ = writeln!(
-        s,
-        "scaled by {:.4} along, {:.4} across, {:.4} in height",
-        r.factors[0], r.factors[1], r.factors[2]
-    );
-    if let Some((what, target)) = &r.solved {
-        let _ = writeln!(s, "adjusted {what} to hold {target:.2} L");
-    }
-    if let Some((from, to)) = r.water {
-        let _ = writeln!(
-            s,
-            "water: from {from} kg/m³ to {to} kg/m³ (Archimedes: volume × {:.4})",
-            from / to
-        );
-    }
-    let (fresh, salt) = (
-        blanksmith::resize::scale::FRESH_WATER,
-        blanksmith::resize::scale::SALT_WATER,
-    );
-    for (what, litres) in [("old", o.volume_litres), ("new", n.volume_litres)] {
-        let (nf, kf) = blanksmith::resize::scale::buoyancy(litres, fresh);
-        let (ns, ks) = blanksmith::resize::scale::buoyancy(litres, salt);
-        let _ = writeln!(
-            s,
-            "{what} board fully under water holds up {kf:.1} kg ({nf:.0} N) in fresh, {ks:.1} kg ({ns:.0} N) in salt water ({:.1} % less in fresh)",
-            100.0 * (1.0 - kf / ks)
-        );
-    }
-    if let Some((kg, _)) = r.rider {
-        // What the new board holds up beyond the rider, fully under water
-        // (the board's own weight is not known here: subtract it).
-        let (_, kf) = blanksmith::resize::scale::buoyancy(n.volume_litres, fresh);
-        let (_, ks) = blanksmith::resize::scale::buoyancy(n.volume_litres, salt);
-        let _ = writeln!(
-            s,
-            "rider {kg:.1} kg plus board: the new board fully under water holds up {:.1} kg more than the rider in fresh water, {:.1} kg in salt (less the board's own weight)",
-            kf - kg,
-            ks - kg
-        );
-    }
-    if let Some((kg, litres)) = r.rider {
-        let _ = writeln!(
-            s,
-            "rider {kg:.1} kg: the rule of thumb asked for gives {litres:.2} L (a rule of thumb, not a measurement)"
-        );
-    }
-    for p in &r.written {
-        let _ = writeln!(s, "wrote {}", p.display());
-    }
-    s
-}
-
-fn diff_text(d: &jobs::Diff) -> String {
-    use blanksmith::units::{Both, feet_inches, inches};
-    use std::fmt::Write as _;
-    let mut s = String::new();
-    let _ = writeln!(
-        s,
-        "A = {}, B = {}  (section extents: width, thickness, bottom and deck heights; mm and inches)",
-        d.names[0], d.names[1]
-    );
-    let _ = writeln!(
-        s,
-        "length: A {}, B {}",
-        Both(d.lengths[0]),
-        Both(d.lengths[1])
-    );
-    let _ = writeln!(
-        s,
-        "{:>16}  {:>17} {:>17} {:>9}  {:>17} {:>17} {:>9}",
-        "from nose", "width A", "width B", "B − A", "thickness A", "thickness B", "B − A"
-    );
-    for (x, [a, b]) in &d.rows {
-        let cell = |v: f64| format!("{v:.1} {}", inches(v));
-        let _ = writeln!(
-            s,
-            "{:>16}  {:>17} {:>17} {:>+9.1}  {:>17} {:>17} {:>+9.1}",
-            format!("{:.0} mm {}", x, feet_inches(*x)),
-            cell(a[0]),
-            cell(b[0]),
-            b[0] - a[0],
-            cell(a[1]),
-            cell(b[1]),
-            b[1] - a[1]
-        );
-    }
-    let _ = writeln!(
-        s,
-        "volume: A {:.2} L, B {:.2} L, B − A {:+.2} L",
-        d.litres[0],
-        d.litres[1],
-        d.litres[1] - d.litres[0]
-    );
-    for p in &d.written {
-        let _ = writeln!(s, "wrote {}", p.display());
-    }
-    s
-}
-
-fn parse_unit(units: &str) -> Result<Unit, JobError> {
-    match units {
-        "in" => Ok(Unit::In),
-        "mm" => Ok(Unit::Mm),
-        other => Err(JobError::Option(format!(
-            "--units {other}: use `in` or `mm`"
-        ))),
-    }
-}
-
-fn design_length(d: &jobs::Design) -> f64 {
-    match d {
-        jobs::Design::Board(b) => b.length,
-        jobs::Design::Mesh { mesh, .. } => {
-            mesh.bounding_box().map_or(0.0, |(lo, hi)| hi[0] - lo[0])
-        }
-    }
-}
-
-fn parse_stations(list: Option<&str>, length: f64, unit: Unit) -> Result<Vec<f64>, JobError> {
-    let mut xs = vec![];
-    for item in list
-        .iter()
-        .flat_map(|s| s.split(','))
-        .map(str::trim)
-        .filter(|s| !s.is_empty())
-    {
-        let p = parse_position(item).map_err(|e| JobError::Option(format!("--stations: {e}")))?;
-        xs.push(p.from_nose(length, unit));
-    }
-    Ok(xs)
-}
-
 fn run(cli: Cli) -> Result<ExitCode, JobError> {
     match cli.command {
         Command::Mesh {
@@ -589,9 +365,9 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             units,
             out,
         } => {
-            let unit = parse_unit(&units)?;
+            let unit = jobs::parse_unit(&units)?;
             let d = jobs::load_design(&design)?;
-            let xs = parse_stations(stations.as_deref(), design_length(&d), unit)?;
+            let xs = jobs::parse_stations(stations.as_deref(), jobs::design_length(&d), unit)?;
             let step = match z_step {
                 None => None,
                 Some(t) => Some(
@@ -628,7 +404,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                     serde_json::to_string_pretty(&c).expect("serialisable")
                 );
             } else {
-                say!("{}", comparison_text(&c));
+                say!("{}", jobs::comparison_text(&c));
                 for p in &written {
                     sayln!("wrote {}", p.display());
                 }
@@ -662,12 +438,12 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 name,
             };
             let r = jobs::resize(&board, &args, out.as_deref())?;
-            say!("{}", resize_text(&r));
+            say!("{}", jobs::resize_text(&r));
             Ok(ExitCode::SUCCESS)
         }
         Command::Diff { a, b, out } => {
             let d = jobs::diff(&a, &b, &out)?;
-            say!("{}", diff_text(&d));
+            say!("{}", jobs::diff_text(&d));
             Ok(ExitCode::SUCCESS)
         }
         Command::Templates {
@@ -678,10 +454,10 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             units,
             out,
         } => {
-            let unit = parse_unit(&units)?;
+            let unit = jobs::parse_unit(&units)?;
             let paper = blanksmith::template::tiling::paper(&paper).map_err(JobError::Option)?;
             let d = jobs::load_design(&design)?;
-            let xs = parse_stations(stations.as_deref(), design_length(&d), unit)?;
+            let xs = jobs::parse_stations(stations.as_deref(), jobs::design_length(&d), unit)?;
             let only: Vec<String> = only
                 .iter()
                 .flat_map(|o| o.split(','))

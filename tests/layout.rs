@@ -114,7 +114,9 @@ fn the_layout_table_matches_the_tree() {
                 .display()
                 .to_string()
         })
-        .filter(|f| !f.ends_with("mod.rs") || f.starts_with("description/") || f.starts_with("commands/"))
+        .filter(|f| {
+            !f.ends_with("mod.rs") || f.starts_with("description/") || f.starts_with("commands/")
+        })
         .filter(|f| f != "lib.rs")
         .collect();
     let missing: Vec<_> = tree.difference(&named).collect();

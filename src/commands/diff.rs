@@ -83,3 +83,51 @@ pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
         written,
     })
 }
+
+/// The diff as `diff` prints it: every 6 in, both units.
+pub fn diff_text(d: &super::Diff) -> String {
+    use crate::units::{Both, feet_inches, inches};
+    use std::fmt::Write as _;
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "A = {}, B = {}  (section extents: width, thickness, bottom and deck heights; mm and inches)",
+        d.names[0], d.names[1]
+    );
+    let _ = writeln!(
+        s,
+        "length: A {}, B {}",
+        Both(d.lengths[0]),
+        Both(d.lengths[1])
+    );
+    let _ = writeln!(
+        s,
+        "{:>16}  {:>17} {:>17} {:>9}  {:>17} {:>17} {:>9}",
+        "from nose", "width A", "width B", "B − A", "thickness A", "thickness B", "B − A"
+    );
+    for (x, [a, b]) in &d.rows {
+        let cell = |v: f64| format!("{v:.1} {}", inches(v));
+        let _ = writeln!(
+            s,
+            "{:>16}  {:>17} {:>17} {:>+9.1}  {:>17} {:>17} {:>+9.1}",
+            format!("{:.0} mm {}", x, feet_inches(*x)),
+            cell(a[0]),
+            cell(b[0]),
+            b[0] - a[0],
+            cell(a[1]),
+            cell(b[1]),
+            b[1] - a[1]
+        );
+    }
+    let _ = writeln!(
+        s,
+        "volume: A {:.2} L, B {:.2} L, B − A {:+.2} L",
+        d.litres[0],
+        d.litres[1],
+        d.litres[1] - d.litres[0]
+    );
+    for p in &d.written {
+        let _ = writeln!(s, "wrote {}", p.display());
+    }
+    s
+}

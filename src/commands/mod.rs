@@ -31,6 +31,7 @@ use crate::model::board::Board;
 use crate::model::mesh::Mesh;
 use crate::output;
 use crate::stl;
+use crate::units::Unit;
 use std::path::{Path, PathBuf};
 
 /// Where a board comes from.
@@ -247,3 +248,38 @@ pub fn load_design(path: &Path) -> Result<Design, JobError> {
 
 /// Files to write: paths and bytes.
 pub(crate) type Files = Vec<(PathBuf, Vec<u8>)>;
+
+/// `--units in|mm`.
+pub fn parse_unit(units: &str) -> Result<Unit, JobError> {
+    match units {
+        "in" => Ok(Unit::In),
+        "mm" => Ok(Unit::Mm),
+        other => Err(JobError::Option(format!(
+            "--units {other}: use `in` or `mm`"
+        ))),
+    }
+}
+
+/// A design's length along X, mm.
+pub fn design_length(d: &Design) -> f64 {
+    match d {
+        Design::Board(b) => b.length,
+        Design::Mesh { mesh, .. } => mesh.bounding_box().map_or(0.0, |(lo, hi)| hi[0] - lo[0]),
+    }
+}
+
+/// `--stations` text to distances from the nose, mm.
+pub fn parse_stations(list: Option<&str>, length: f64, unit: Unit) -> Result<Vec<f64>, JobError> {
+    let mut xs = vec![];
+    for item in list
+        .iter()
+        .flat_map(|s| s.split(','))
+        .map(str::trim)
+        .filter(|s| !s.is_empty())
+    {
+        let p = crate::description::values::parse_position(item)
+            .map_err(|e| JobError::Option(format!("--stations: {e}")))?;
+        xs.push(p.from_nose(length, unit));
+    }
+    Ok(xs)
+}

@@ -199,3 +199,99 @@ pub fn resize(
         written,
     })
 }
+
+/// The resize as `resize` prints it: old against new, both units.
+pub fn resize_text(r: &super::ResizeOutcome) -> String {
+    use crate::units::Both;
+    use std::fmt::Write as _;
+    let mut s = String::new();
+    let (o, n) = (&r.old, &r.new);
+    let _ = writeln!(s, "{:<22}  {:<28}  {:<28}", "", o.name, n.name);
+    let row = |s: &mut String, what: &str, a: String, b: String| {
+        let _ = writeln!(s, "{what:<22}  {a:<28}  {b:<28}");
+    };
+    let lengths = [
+        ("length", o.length_mm, n.length_mm),
+        ("width", o.width_mm, n.width_mm),
+        ("thickness", o.thickness_mm, n.thickness_mm),
+        ("nose width (N12)", o.nose_width_mm, n.nose_width_mm),
+        ("tail width (T12)", o.tail_width_mm, n.tail_width_mm),
+    ];
+    for (what, a, b) in lengths {
+        row(&mut s, what, Both(a).to_string(), Both(b).to_string());
+    }
+    row(
+        &mut s,
+        "volume",
+        format!("{:.2} L", o.volume_litres),
+        format!(
+            "{:.2} L ({:+.2} L)",
+            n.volume_litres,
+            n.volume_litres - o.volume_litres
+        ),
+    );
+    row(
+        &mut s,
+        "centre of volume",
+        Both(o.centre_of_volume_from_nose_mm).to_string(),
+        Both(n.centre_of_volume_from_nose_mm).to_string(),
+    );
+    let per_foot = |r: &crate::volume::report::Report| {
+        r.litres_per_foot
+            .iter()
+            .map(|p| format!("{:.1}", p.litres))
+            .collect::<Vec<_>>()
+            .join(" ")
+    };
+    row(&mut s, "litres per foot", per_foot(o), per_foot(n));
+    let _ = writeln!(
+        s,
+        "scaled by {:.4} along, {:.4} across, {:.4} in height",
+        r.factors[0], r.factors[1], r.factors[2]
+    );
+    if let Some((what, target)) = &r.solved {
+        let _ = writeln!(s, "adjusted {what} to hold {target:.2} L");
+    }
+    if let Some((from, to)) = r.water {
+        let _ = writeln!(
+            s,
+            "water: from {from} kg/m³ to {to} kg/m³ (Archimedes: volume × {:.4})",
+            from / to
+        );
+    }
+    let (fresh, salt) = (
+        crate::resize::scale::FRESH_WATER,
+        crate::resize::scale::SALT_WATER,
+    );
+    for (what, litres) in [("old", o.volume_litres), ("new", n.volume_litres)] {
+        let (nf, kf) = crate::resize::scale::buoyancy(litres, fresh);
+        let (ns, ks) = crate::resize::scale::buoyancy(litres, salt);
+        let _ = writeln!(
+            s,
+            "{what} board fully under water holds up {kf:.1} kg ({nf:.0} N) in fresh, {ks:.1} kg ({ns:.0} N) in salt water ({:.1} % less in fresh)",
+            100.0 * (1.0 - kf / ks)
+        );
+    }
+    if let Some((kg, _)) = r.rider {
+        // What the new board holds up beyond the rider, fully under water
+        // (the board's own weight is not known here: subtract it).
+        let (_, kf) = crate::resize::scale::buoyancy(n.volume_litres, fresh);
+        let (_, ks) = crate::resize::scale::buoyancy(n.volume_litres, salt);
+        let _ = writeln!(
+            s,
+            "rider {kg:.1} kg plus board: the new board fully under water holds up {:.1} kg more than the rider in fresh water, {:.1} kg in salt (less the board's own weight)",
+            kf - kg,
+            ks - kg
+        );
+    }
+    if let Some((kg, litres)) = r.rider {
+        let _ = writeln!(
+            s,
+            "rider {kg:.1} kg: the rule of thumb asked for gives {litres:.2} L (a rule of thumb, not a measurement)"
+        );
+    }
+    for p in &r.written {
+        let _ = writeln!(s, "wrote {}", p.display());
+    }
+    s
+}
