@@ -1,6 +1,7 @@
 //! The `blanksmith` command: parses arguments, calls the library, prints
-//! once. Exit codes: 0 done, 1 findings (the volume certificate failed, or
-//! `check` found problems), 2 bad input or a system error.
+//! once. Exit codes: 0 done, 1 findings (the volume certificate failed,
+//! `check` found problems, or `make` could make no programs), 2 bad input
+//! or a system error.
 
 use std::path::PathBuf;
 use std::process::ExitCode;
