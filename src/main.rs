@@ -373,7 +373,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 None => None,
                 Some(t) => Some(
                     units::parse_length(&t)
-                        .map_err(|e| JobError::Option(format!("--z-step: {e}")))?
+                        .map_err(|e| JobError::Flag(format!("--z-step: {e}")))?
                         .to_mm(unit),
                 ),
             };
@@ -456,7 +456,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             out,
         } => {
             let unit = jobs::parse_unit(&units)?;
-            let paper = blanksmith::template::tiling::paper(&paper).map_err(JobError::Option)?;
+            let paper = blanksmith::template::tiling::paper(&paper).map_err(JobError::Flag)?;
             let d = jobs::load_design(&design)?;
             let xs = jobs::parse_stations(stations.as_deref(), jobs::design_length(&d), unit)?;
             let only: Vec<String> = only

@@ -16,7 +16,7 @@ pub fn compare(
     let c = load_design(cut)?;
     output::ready(dir)?;
     if matches!(c, Design::Board(_)) {
-        return Err(JobError::Option(format!(
+        return Err(JobError::WrongKind(format!(
             "{}: the cut must be an STL file",
             cut.display()
         )));

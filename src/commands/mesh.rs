@@ -16,7 +16,7 @@ pub fn check(path: &Path, weld: Option<f64>) -> Result<Inspection, JobError> {
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("yaml") || e.eq_ignore_ascii_case("yml"))
     {
-        return Err(JobError::Option(format!(
+        return Err(JobError::WrongKind(format!(
             "{}: `check` inspects STL files; for a board description use `blanksmith report` (its mesh is checked there)",
             path.display()
         )));
@@ -28,9 +28,7 @@ pub fn check(path: &Path, weld: Option<f64>) -> Result<Inspection, JobError> {
     if let Some(w) = weld
         && !(w.is_finite() && (0.0..=10.0).contains(&w))
     {
-        return Err(JobError::Option(format!(
-            "--weld {w} mm is outside 0..10 mm"
-        )));
+        return Err(JobError::Flag(format!("--weld {w} mm is outside 0..10 mm")));
     }
     Ok(inspect::inspect_soup(&soup, weld).1)
 }

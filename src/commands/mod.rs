@@ -60,9 +60,24 @@ pub enum JobError {
         /// What is wrong with it.
         source: stl::StlError,
     },
-    /// A command-line value is out of range.
+    /// A command-line value is unreadable, out of range, or missing.
     #[error("{0}")]
-    Option(String),
+    Flag(String),
+    /// A file is not of the kind the command takes (a description where
+    /// an STL is wanted), or holds nothing to work on.
+    #[error("{0}")]
+    WrongKind(String),
+    /// A file could not be read.
+    #[error("{path}: cannot read: {message}")]
+    Read {
+        /// The file.
+        path: String,
+        /// What the system said.
+        message: String,
+    },
+    /// The resize asked for cannot be made.
+    #[error("{0}")]
+    ResizeRequest(#[from] crate::resize::scale::ResizeError),
     /// A program could not be read.
     #[error("{0}")]
     Gcode(crate::gcode::read::GcodeError),
@@ -254,9 +269,7 @@ pub fn parse_unit(units: &str) -> Result<Unit, JobError> {
     match units {
         "in" => Ok(Unit::In),
         "mm" => Ok(Unit::Mm),
-        other => Err(JobError::Option(format!(
-            "--units {other}: use `in` or `mm`"
-        ))),
+        other => Err(JobError::Flag(format!("--units {other}: use `in` or `mm`"))),
     }
 }
 
@@ -278,7 +291,7 @@ pub fn parse_stations(list: Option<&str>, length: f64, unit: Unit) -> Result<Vec
         .filter(|s| !s.is_empty())
     {
         let p = crate::description::values::parse_position(item)
-            .map_err(|e| JobError::Option(format!("--stations: {e}")))?;
+            .map_err(|e| JobError::Flag(format!("--stations: {e}")))?;
         xs.push(p.from_nose(length, unit));
     }
     Ok(xs)

@@ -62,7 +62,7 @@ pub(crate) fn water_density(text: &str) -> Result<f64, JobError> {
             .parse::<f64>()
         {
             Ok(d) if (900.0..=1300.0).contains(&d) => Ok(d),
-            _ => Err(JobError::Option(format!(
+            _ => Err(JobError::Flag(format!(
                 "water `{text}`: use fresh, salt, or a density in kg/m³ (900 to 1300, e.g. 1010)"
             ))),
         },
@@ -89,7 +89,7 @@ pub fn resize(
             .map(|t| {
                 crate::units::parse_length(t)
                     .map(|l| l.to_mm(unit))
-                    .map_err(|e| JobError::Option(format!("--{name}: {e}")))
+                    .map_err(|e| JobError::Flag(format!("--{name}: {e}")))
             })
             .transpose()
     };
@@ -106,7 +106,7 @@ pub fn resize(
             "width" => keep.width = true,
             "thickness" => keep.thickness = true,
             other => {
-                return Err(JobError::Option(format!(
+                return Err(JobError::Flag(format!(
                     "--keep {other}: use length, width or thickness, separated by commas"
                 )));
             }
@@ -134,7 +134,7 @@ pub fn resize(
         }
         (None, None) => None,
         _ => {
-            return Err(JobError::Option(
+            return Err(JobError::Flag(
                 "give --rider-kg (0 to 400) and --litres-per-kg (0 to 5) together".into(),
             ));
         }
@@ -147,8 +147,7 @@ pub fn resize(
         keep,
         water,
     };
-    let r = crate::resize::scale::resize(&board, &request, old.width_mm, old.thickness_mm, tol)
-        .map_err(|e| JobError::Option(e.to_string()))?;
+    let r = crate::resize::scale::resize(&board, &request, old.width_mm, old.thickness_mm, tol)?;
     let mut new_board = r.board;
     new_board.name = match &args.name {
         Some(n) => n.clone(),
@@ -176,8 +175,8 @@ pub fn resize(
     .map_err(|e| JobError::Resize(Box::new(e)))?;
     let back_litres = crate::volume::integrals::profile(&back).volume() * 1e-6;
     if (back_litres - new.volume_litres_surface).abs() > 1e-6 {
-        return Err(JobError::Option(format!(
-            "internal: the written description holds {back_litres:.6} L, not {:.6} L; nothing written",
+        return Err(JobError::Internal(format!(
+            "the written description holds {back_litres:.6} L, not {:.6} L; nothing written",
             new.volume_litres_surface
         )));
     }

@@ -49,7 +49,7 @@ pub fn slice(
     let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
     let (lo, hi) = mesh
         .bounding_box()
-        .ok_or_else(|| JobError::Option("the mesh is empty".into()))?;
+        .ok_or_else(|| JobError::WrongKind("the mesh is empty".into()))?;
     let length = hi[0] - lo[0];
     let section_at: Vec<f64> = if stations.is_empty() {
         default_stations(design, length)
@@ -57,7 +57,7 @@ pub fn slice(
         stations.to_vec()
     };
     if let Some(&bad) = section_at.iter().find(|&&x| !(0.0..=length).contains(&x)) {
-        return Err(JobError::Option(format!(
+        return Err(JobError::Flag(format!(
             "station {} is off the board, which runs 0 to {} from the nose",
             crate::units::Both(bad),
             crate::units::Both(length)
@@ -70,7 +70,7 @@ pub fn slice(
         Some(step) => {
             let height = hi[2] - lo[2];
             if !(step.is_finite() && step > 0.0 && height / step <= 1000.0) {
-                return Err(JobError::Option(format!(
+                return Err(JobError::Flag(format!(
                     "--z-step {step} mm gives more than 1000 waterlines (or is not positive)"
                 )));
             }

@@ -62,7 +62,7 @@ pub(crate) fn template_files(
     let all = ["outline", "rocker", "sections", "sheet"];
     for o in only {
         if !all.contains(&o.as_str()) {
-            return Err(JobError::Option(format!(
+            return Err(JobError::Flag(format!(
                 "--only {o}: choose from outline, rocker, sections, sheet"
             )));
         }
@@ -79,7 +79,7 @@ pub(crate) fn template_files(
         stations.to_vec()
     };
     if let Some(&bad) = section_at.iter().find(|&&x| !(0.0 < x && x < length)) {
-        return Err(JobError::Option(format!(
+        return Err(JobError::Flag(format!(
             "station {} is off the board (0 to {})",
             crate::units::Both(bad),
             crate::units::Both(length)

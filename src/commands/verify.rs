@@ -39,7 +39,7 @@ pub struct VerifyArgs {
 /// end applies to the bare numbers, mm when there is none).
 pub fn parse_block(text: &str) -> Result<Block, JobError> {
     let bad = |why: String| {
-        JobError::Option(format!(
+        JobError::Flag(format!(
             "--stock {text}: {why}; write LxWxT, e.g. 2100x650x120mm"
         ))
     };
@@ -81,7 +81,7 @@ pub fn verify_programs(
     }
     let machine = profile::load_machine(&args.machine)?;
     if !(args.cell.is_finite() && (0.05..=10.0).contains(&args.cell)) {
-        return Err(JobError::Option(format!(
+        return Err(JobError::Flag(format!(
             "--cell {} mm is outside 0.05..10 mm",
             args.cell
         )));
@@ -89,7 +89,7 @@ pub fn verify_programs(
     let default_tool = match &args.tool {
         Some(t) => Some(
             crate::model::machine::parse_cutter(t)
-                .map_err(|e| JobError::Option(format!("--tool {e}")))?,
+                .map_err(|e| JobError::Flag(format!("--tool {e}")))?,
         ),
         None => None,
     };
@@ -127,7 +127,7 @@ pub fn verify_programs(
             None => match &j.stock {
                 Some(b) => (b.clone(), j.table_position, None, vec![], None),
                 None => {
-                    return Err(JobError::Option(
+                    return Err(JobError::Flag(
                         "the job sizes its block from the board: give --design, or --stock LxWxT"
                             .into(),
                     ));
@@ -135,7 +135,7 @@ pub fn verify_programs(
             },
         },
         (None, None) => {
-            return Err(JobError::Option(
+            return Err(JobError::Flag(
                 "give --stock LxWxT (e.g. 300x200x50mm) or --job JOB.yaml".into(),
             ));
         }
@@ -143,8 +143,10 @@ pub fn verify_programs(
     let mut sources = Vec::new();
     let count = args.programs.len();
     for (k, path) in args.programs.iter().enumerate() {
-        let file = std::fs::File::open(path)
-            .map_err(|e| JobError::Option(format!("{}: cannot read: {e}", path.display())))?;
+        let file = std::fs::File::open(path).map_err(|e| JobError::Read {
+            path: path.display().to_string(),
+            message: e.to_string(),
+        })?;
         let mut reader = std::io::BufReader::new(file);
         let side = match args.flip_after {
             Some(n) if k < n => Side::Deck,
