@@ -1,0 +1,158 @@
+//! Passes made true to the surface: resampled, refined where a chord
+//! would dig in, simplified where it would not; the scallop stepover.
+
+use super::*;
+
+pub(super) fn resample(points: &[[f64; 2]], step: f64, closed: bool) -> Vec<[f64; 2]> {
+    let mut out = vec![points[0]];
+    let mut pts = points.to_vec();
+    if closed {
+        pts.push(points[0]);
+    }
+    let mut carry = 0.0;
+    for w in pts.windows(2) {
+        let l = ((w[1][0] - w[0][0]).powi(2) + (w[1][1] - w[0][1]).powi(2)).sqrt();
+        let mut t = step - carry;
+        while t < l {
+            let f = t / l;
+            out.push([
+                w[0][0] + f * (w[1][0] - w[0][0]),
+                w[0][1] + f * (w[1][1] - w[0][1]),
+            ]);
+            t += step;
+        }
+        carry = l - (t - step);
+    }
+    if !closed {
+        out.push(points[points.len() - 1]);
+    }
+    out
+}
+
+/// Scallop stepover on a flat for a ball of radius `r` and cusp height
+/// `h`: s = 2·√(2rh − h²) (standard machining geometry: the chord of a
+/// circle of radius r at depth h).
+pub fn scallop_stepover(r: f64, h: f64) -> f64 {
+    2.0 * (2.0 * r * h - h * h).max(0.0).sqrt()
+}
+
+/// Refines a run of dropped points so no straight move between neighbours
+/// digs in. A ball running off an edge otherwise cuts the corner between
+/// two exact positions: the drop height jumps at the edge, and a straight
+/// move across the jump passes through the edge.
+///
+/// A steep move (rising or falling more than four times its run) becomes
+/// a dog-leg: straight up, across at the highest drop height found every
+/// 0.05 mm along the way, straight down; moving straight up from a contact
+/// or straight down to one cannot dig in. Other moves are split at the
+/// quarter points where the drop-cutter stands more than `tol` above the
+/// straight line, down to steps of 0.005 mm.
+pub fn refine(run: &[[f64; 3]], height: &dyn Fn(f64, f64) -> f64, tol: f64) -> Vec<[f64; 3]> {
+    let mut out = Vec::with_capacity(run.len());
+    if run.is_empty() {
+        return out;
+    }
+    out.push(run[0]);
+    for w in run.windows(2) {
+        let mut stack = vec![(w[0], w[1], 0u32)];
+        while let Some((a, b, depth)) = stack.pop() {
+            let run_xy = ((b[0] - a[0]).powi(2) + (b[1] - a[1]).powi(2)).sqrt();
+            let rise = b[2] - a[2];
+            let at = |t: f64| [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])];
+            if rise.abs() > 4.0 * run_xy && run_xy > 1e-9 {
+                let n = (run_xy / 0.05).ceil().max(1.0) as usize;
+                let top = (0..=n)
+                    .map(|k| {
+                        let p = at(k as f64 / n as f64);
+                        height(p[0], p[1])
+                    })
+                    .fold(a[2].max(b[2]), f64::max);
+                if top > a[2] {
+                    out.push([a[0], a[1], top]);
+                }
+                out.push([b[0], b[1], top]);
+                if top > b[2] {
+                    out.push(b);
+                }
+                continue;
+            }
+            // A gentle move is checked at its middle; a steeper one, where
+            // a small edge could hide, at its quarter points.
+            let probes: &[f64] = if rise.abs() <= run_xy {
+                &[0.5]
+            } else {
+                &[0.25, 0.5, 0.75]
+            };
+            let worst = probes
+                .iter()
+                .map(|&t| {
+                    let p = at(t);
+                    (height(p[0], p[1]) - (a[2] + t * rise), t)
+                })
+                .fold(
+                    (f64::NEG_INFINITY, 0.5),
+                    |m, v| if v.0 > m.0 { v } else { m },
+                );
+            if worst.0 > tol && run_xy > 0.005 && depth < 16 {
+                let p = at(worst.1);
+                let m = [p[0], p[1], height(p[0], p[1])];
+                // Second half first: the stack pops the first half next.
+                stack.push((m, b, depth + 1));
+                stack.push((a, m, depth + 1));
+            } else {
+                out.push(b);
+            }
+        }
+    }
+    out
+}
+
+/// Simplifies a pass: drops points within `tol` of the line through their
+/// neighbours (Douglas–Peucker, Cartographica 10, 1973), in 3D.
+pub fn simplify(points: &[[f64; 3]], tol: f64) -> Vec<[f64; 3]> {
+    if points.len() < 3 {
+        return points.to_vec();
+    }
+    let mut keep = vec![false; points.len()];
+    keep[0] = true;
+    keep[points.len() - 1] = true;
+    let mut stack = vec![(0usize, points.len() - 1)];
+    while let Some((a, b)) = stack.pop() {
+        let (pa, pb) = (points[a], points[b]);
+        let d = [pb[0] - pa[0], pb[1] - pa[1], pb[2] - pa[2]];
+        let dd = d[0] * d[0] + d[1] * d[1] + d[2] * d[2];
+        let mut worst = (0.0, a);
+        for (k, p) in points.iter().enumerate().take(b).skip(a + 1) {
+            let w = [p[0] - pa[0], p[1] - pa[1], p[2] - pa[2]];
+            let t = if dd > 0.0 {
+                ((w[0] * d[0] + w[1] * d[1] + w[2] * d[2]) / dd).clamp(0.0, 1.0)
+            } else {
+                0.0
+            };
+            let q = lerp3(pa, pb, t);
+            // On a steep chord a small distance off the line is a larger
+            // height error; measure the error as a height.
+            let cos = if dd > 0.0 {
+                ((d[0] * d[0] + d[1] * d[1]) / dd).sqrt().max(0.05)
+            } else {
+                1.0
+            };
+            let e = ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt()
+                / cos;
+            if e > worst.0 {
+                worst = (e, k);
+            }
+        }
+        if worst.0 > tol {
+            keep[worst.1] = true;
+            stack.push((a, worst.1));
+            stack.push((worst.1, b));
+        }
+    }
+    points
+        .iter()
+        .zip(keep)
+        .filter(|(_, k)| *k)
+        .map(|(p, _)| *p)
+        .collect()
+}

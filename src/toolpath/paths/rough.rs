@@ -1,0 +1,291 @@
+//! The flat-level strategies: registration holes, Z-level roughing and
+//! the outline (separation) pass with tabs.
+
+use super::*;
+use crate::geom::dropcutter::DropCutter;
+use crate::geom::field::{self, Field, Line};
+use crate::model::machine::Cutter;
+use crate::model::toolpath::{Step, Toolpath};
+
+/// Bores each registration hole through the block and `pin_depth` into
+/// the spoilboard with a helix of the roughing tool.
+pub(super) fn holes(ctx: &Ctx) -> Toolpath {
+    let job = ctx.job;
+    let pass = job.roughing.clone();
+    let r = pass.tool.cutter.radius;
+    let helix = (job.hole_diameter / 2.0 - r).max(0.0);
+    let pitch = (pass.stepdown / 4.0).clamp(1.0, 5.0);
+    let mut steps = Vec::new();
+    for h in ctx.place.holes {
+        // From the stock's top there (a rockered blank's, with its
+        // allowance) through its underside and into what it rests on.
+        let top = ctx.stock_top_at(h[0]);
+        let bottom = ctx.place.block.top_under(true, h[0]).1 - job.pin_depth;
+        steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
+        steps.push(Step::Rapid([h[0], h[1], top + 2.0]));
+        if helix < 0.05 {
+            // The hole is the tool's size: peck straight down.
+            let mut z = top;
+            while z > bottom {
+                z = (z - pitch).max(bottom);
+                steps.push(Step::Plunge([h[0], h[1], z]));
+                steps.push(Step::Rapid([h[0], h[1], top + 2.0]));
+                steps.push(Step::Rapid([h[0], h[1], z + 0.5]));
+            }
+            steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
+            continue;
+        }
+        let start = [h[0] + helix, h[1], top];
+        steps.push(Step::Plunge([h[0], h[1], top]));
+        steps.push(Step::Cut(start));
+        let mut z = top;
+        while z > bottom {
+            z = (z - pitch).max(bottom);
+            steps.push(Step::Arc {
+                to: [start[0], start[1], z],
+                centre: h,
+                cw: false,
+            });
+        }
+        // A last full turn at the bottom, then back to the centre.
+        steps.push(Step::Arc {
+            to: [start[0], start[1], bottom],
+            centre: h,
+            cw: false,
+        });
+        steps.push(Step::Cut([h[0], h[1], bottom]));
+        steps.push(Step::Rapid([h[0], h[1], ctx.clear]));
+    }
+    Toolpath {
+        label: "registration holes",
+        pass,
+        steps,
+    }
+}
+
+/// Orients a closed line clockwise (climb milling round material on its
+/// right with the spindle turning clockwise; common practice, from memory)
+/// or counter-clockwise.
+pub(super) fn orient(mut l: Line, clockwise: bool) -> Line {
+    if l.closed && (field::signed_area(&l.points) < 0.0) != clockwise {
+        l.points.reverse();
+    }
+    l
+}
+
+pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
+    let job = ctx.job;
+    let pass = job.roughing.clone();
+    let r = pass.tool.cutter.radius;
+    let (lo, hi) = ctx.region();
+    let cell = 2.0;
+    let grid = Field::new(lo, hi, cell, 0.0);
+    // The tool as the grid must see it: grown by the stock to leave and by
+    // the farthest a path point can be from a grid node, so every point of
+    // every path is at least the stock to leave away from the part.
+    let grow = pass.leave + std::f64::consts::FRAC_1_SQRT_2 * cell;
+    let dc = DropCutter::new(
+        &ctx.guard.iter().collect::<Vec<_>>(),
+        Cutter::flat(2.0 * (r + grow)),
+    );
+    let nodes = grid.nodes();
+    let floor: Vec<f64> = nodes.iter().map(|p| ctx.floor(p[0])).collect();
+    let high: Vec<f64> = dc
+        .drop_many(&nodes)
+        .into_iter()
+        .zip(&floor)
+        .map(|(d, &f)| d.map_or(f, |d| (d + pass.leave).max(f)))
+        .collect();
+    // The band the roughing may clear: tool centres within frame - r of the outline.
+    let band_limit = job.frame - r;
+    let in_band: Vec<bool> = nodes
+        .iter()
+        .map(|p| ctx.outside.at(*p) <= band_limit)
+        .collect();
+    let lowest = high
+        .iter()
+        .zip(&in_band)
+        .filter(|(_, b)| **b)
+        .map(|(h, _)| *h)
+        .fold(f64::INFINITY, f64::min);
+    let mut levels = Vec::new();
+    let mut z = 0.0;
+    while z - pass.stepdown > lowest + 1e-6 {
+        z -= pass.stepdown;
+        levels.push(z);
+    }
+    if lowest < z - 1e-6 {
+        levels.push(lowest);
+    }
+    let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
+    let mut prev_z: f64 = 0.0;
+    for &level in &levels {
+        let blocked: Vec<bool> = high
+            .iter()
+            .zip(&in_band)
+            .map(|(h, b)| *h > level + 1e-9 || !b)
+            .collect();
+        let dist = field::distance_to(&grid, &blocked);
+        let first = 1.5 * cell;
+        let mut rings = Vec::new();
+        let max_d = dist
+            .values
+            .iter()
+            .copied()
+            .filter(|v| v.is_finite())
+            .fold(0.0, f64::max);
+        let mut d = first;
+        let mut ds = Vec::new();
+        while d <= max_d {
+            ds.push(d);
+            d += pass.stepover;
+        }
+        // Outermost first: from the band's wall in towards the part.
+        for &d in ds.iter().rev() {
+            for l in field::contours(&dist, d) {
+                rings.push(orient(l, pass.climb));
+            }
+        }
+        for ring in rings {
+            if ring.points.len() < 2 {
+                continue;
+            }
+            let pts: Vec<[f64; 3]> = ring.points.iter().map(|p| [p[0], p[1], level]).collect();
+            for (piece, closed) in with_stock_above(ctx, pts, ring.closed, level, r) {
+                // Enter from the level above, or from above the stock
+                // where a rockered blank's top is lower than that.
+                let x = piece[0][0];
+                let above = prev_z.min(ctx.stock_top_at(x).max(level));
+                entry(&mut steps, ctx, &piece, closed, above, level);
+            }
+        }
+        prev_z = level;
+    }
+    steps.push(Step::Rapid(last_xy(&steps, ctx.clear)));
+    Toolpath {
+        label: "roughing",
+        pass,
+        steps,
+    }
+}
+
+/// The parts of a ring at `level` that have stock above them within the
+/// tool's reach (the whole ring, as given, in a flat block; a rockered
+/// blank's top dips below the upper levels along its middle). A closed ring
+/// that is broken comes out as open pieces, each starting where the stock begins.
+pub(super) fn with_stock_above(
+    ctx: &Ctx,
+    pts: Vec<[f64; 3]>,
+    closed: bool,
+    level: f64,
+    r: f64,
+) -> Vec<(Vec<[f64; 3]>, bool)> {
+    if ctx.place.block.rocker.is_none() {
+        return vec![(pts, closed)];
+    }
+    // Foam under any part of the tool. The blank's top depends on X alone
+    // and is monotone between stations, so across the tool it is highest
+    // at one of its ends or at a station in between; the ends and the
+    // middle are checked, and the allowance covers a crest between them.
+    let cuts = |p: &[f64; 3]| {
+        [p[0] - r, p[0], p[0] + r]
+            .iter()
+            .any(|&x| ctx.stock_top_at(x) > level)
+    };
+    let keep: Vec<bool> = pts.iter().map(cuts).collect();
+    if keep.iter().all(|k| *k) {
+        return vec![(pts, closed)];
+    }
+    // Start a closed ring just after a gap so no piece wraps round.
+    let n = pts.len();
+    let start = if closed {
+        (0..n).find(|&k| !keep[k]).map_or(0, |k| k + 1) % n
+    } else {
+        0
+    };
+    let mut pieces = Vec::new();
+    let mut run: Vec<[f64; 3]> = Vec::new();
+    // A closed ring starts right after a gap, so one lap ends in the gap.
+    for s in 0..n {
+        let k = (start + s) % n;
+        if keep[k] {
+            if run.is_empty() && (s > 0 || closed) {
+                // Start one point before the stock's edge.
+                run.push(pts[(k + n - 1) % n]);
+            }
+            run.push(pts[k]);
+        } else if !run.is_empty() {
+            // And carry the cut one point past it.
+            run.push(pts[k]);
+            pieces.push((std::mem::take(&mut run), false));
+        }
+    }
+    if run.len() > 1 {
+        pieces.push((run, false));
+    }
+    pieces
+}
+
+/// The separation pass: round the outline at the parting surface, in a
+/// spiral that descends one outline stepdown a lap from above the deepest
+/// roughing stair, lifted over the tabs by the drop-cutter.
+pub(super) fn outline(ctx: &Ctx) -> Toolpath {
+    let job = ctx.job;
+    let pass = job.outline.clone();
+    let r = pass.tool.cutter.radius;
+    // The distance field measures to the nearest grid node inside the
+    // outline; the outline itself may lie up to a node spacing beyond it.
+    let loops = field::contours(&ctx.outside, r + 0.6 + ctx.outside.cell);
+    let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), pass.tool.cutter);
+    let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
+    for l in loops.into_iter().filter(|l| l.closed && l.points.len() > 8) {
+        let l = orient(l, pass.climb);
+        // Resample to 2 mm along the loop.
+        let pts = resample(&l.points, 2.0, true);
+        // Start 1 mm above the highest stock the roughing left on the loop.
+        let rise = pts
+            .iter()
+            .map(|p| ctx.stock_top(p[0], p[1], r + 1.0) - ctx.floor(p[0]))
+            .fold(0.0, f64::max)
+            + 1.0;
+        let laps = (rise / pass.stepdown).ceil().max(1.0) as usize;
+        let n = pts.len();
+        let lap_len = n as f64;
+        let z_of = |k: usize, lap: usize| {
+            let p = pts[k];
+            let floor = ctx.floor(p[0]);
+            let descent = rise * (1.0 - ((lap * n + k) as f64 / (laps as f64 * lap_len)).min(1.0));
+            let z = floor + descent;
+            dc.drop(p[0], p[1]).map_or(z, |d| z.max(d))
+        };
+        let s = pts[0];
+        steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
+        let z0 = z_of(0, 0);
+        steps.push(Step::Rapid([s[0], s[1], z0 + 2.0]));
+        steps.push(Step::Plunge([s[0], s[1], z0]));
+        let mut spiral = vec![[s[0], s[1], z0]];
+        for lap in 0..=laps {
+            for (k, p) in pts.iter().enumerate() {
+                let z = if lap == laps {
+                    ctx.floor(p[0]).max(dc.drop(p[0], p[1]).unwrap_or(f64::MIN))
+                } else {
+                    z_of(k, lap)
+                };
+                spiral.push([p[0], p[1], z]);
+            }
+        }
+        let z = ctx.floor(s[0]).max(dc.drop(s[0], s[1]).unwrap_or(f64::MIN));
+        spiral.push([s[0], s[1], z]);
+        // Where the path climbs over a tab, keep the straight moves clear of it.
+        let h = |x: f64, y: f64| dc.drop(x, y).unwrap_or(f64::MIN);
+        for p in refine(&spiral, &h, 0.01).into_iter().skip(1) {
+            steps.push(Step::Cut(p));
+        }
+        steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
+    }
+    Toolpath {
+        label: "outline",
+        pass,
+        steps,
+    }
+}
