@@ -413,27 +413,6 @@ fn exchange(a: &Path, b: &Path) -> io::Result<()> {
     fs::rename(&aside, a)
 }
 
-/// Writes one file atomically (a temporary file in the same folder, synced,
-/// then renamed over the destination), creating the folder if needed.
-pub fn write_atomic(path: &Path, bytes: &[u8]) -> io::Result<()> {
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    fs::create_dir_all(&dir)?;
-    let tmp = dir.join(stage_name());
-    let result = (|| {
-        let mut f = fs::File::create(&tmp)?;
-        f.write_all(bytes)?;
-        f.sync_all()?;
-        fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = fs::remove_file(&tmp);
-    }
-    result
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -452,16 +431,6 @@ mod tests {
             .iter()
             .map(|(n, b)| (n.to_string(), b.as_bytes().to_vec()))
             .collect()
-    }
-
-    #[test]
-    fn writes_whole_files_and_leaves_no_temporaries() {
-        let dir = tempfile::tempdir().unwrap();
-        let p = dir.path().join("sub").join("a.txt");
-        write_atomic(&p, b"one").unwrap();
-        write_atomic(&p, b"two").unwrap();
-        assert_eq!(fs::read(&p).unwrap(), b"two");
-        assert_eq!(names(p.parent().unwrap()), ["a.txt"]);
     }
 
     #[test]
