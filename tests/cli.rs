@@ -220,7 +220,7 @@ const BAD: &[(&str, &str, &str)] = &[
     ),
     (
         "two-documents.yaml",
-        ":41:1:",
+        ":43:1:",
         "more than one YAML document",
     ),
     (
@@ -234,12 +234,12 @@ const BAD: &[(&str, &str, &str)] = &[
     (
         "contour-too-deep.yaml",
         "bottom[1].depth",
-        "the bottom would cross the rail",
+        "the bottom would meet the deck",
     ),
     (
         "deck-crosses-bottom.yaml",
         "deck.dome",
-        "deck would cross the bottom",
+        "it must stay under half the thickness",
     ),
     ("empty-board.yaml", ":1:1:", "missing field `units`"),
     (
@@ -264,14 +264,20 @@ const BAD: &[(&str, &str, &str)] = &[
         "deeper than that the tail allows no notch",
     ),
     (
-        "tail-block-too-wide.yaml",
-        "outline.tail_block",
+        "tail-end-too-wide.yaml",
+        "outline.tail_end_width",
         "not narrower than the tail width",
     ),
     (
         "tips-fill-the-notch.yaml",
         "outline.tip_width",
         "leave no notch",
+    ),
+    ("rail-too-thin.yaml", "rails.thickness", "can make it only"),
+    (
+        "roll-too-wide.yaml",
+        "rails.roll",
+        "within 80 % of the half-width",
     ),
     ("unclosed-list.yaml", ":18:3:", "invalid type: sequence"),
     (
@@ -556,11 +562,15 @@ fn resize_writes_a_description_the_other_commands_accept() {
     assert_eq!(v["name"], "short-5-8");
     // 5'8" = 68 in = 1727.2 mm (1 in = 25.4 mm, NIST SP 811).
     assert!((v["length_mm"].as_f64().unwrap() - 1727.2).abs() < 1e-9);
+    // The diff quotes each board's volume as its own report does.
+    let o = run(&["report", board.to_str().unwrap(), "--json"], dir.path());
+    let a: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let a_litres = format!("volume: A {:.2} L", a["volume_litres"].as_f64().unwrap());
     let o = run(&["diff", board.to_str().unwrap(), "short.yaml"], dir.path());
     assert!(o.status.success(), "{}", text(&o.stderr));
     assert!(
-        text(&o.stdout).contains("volume: A 35.25 L"),
-        "{}",
+        text(&o.stdout).contains(&a_litres),
+        "{a_litres}\n{}",
         text(&o.stdout)
     );
     for bad in [
@@ -644,12 +654,12 @@ const BAD_PROFILES: &[(&str, &str, &str)] = &[
     (
         "job/rocker-too-little-room.yaml",
         "rocker-too-little-room.yaml on",
-        "stands 4.1 mm (3/16\") out of the blank's curves",
+        "stands 5.9 mm (1/4\") out of the blank's curves",
     ),
     (
         "job/block-too-thin.yaml",
         "block-too-thin.yaml on",
-        "46.1 mm (1 13/16\") short",
+        "41.8 mm (1 5/8\") short",
     ),
     (
         "job/feed-beyond-machine.yaml",

@@ -54,7 +54,7 @@ fn spec() -> impl Strategy<Value = Spec> {
             -100.0..100.0f64,
             0.6..0.9f64,
             0.6..0.9f64,
-            0.0..0.2f64,
+            0.0..0.1f64,
         ),
         (
             0.3..0.6f64,
@@ -91,21 +91,21 @@ fn yaml(s: &Spec) -> String {
     match tail {
         "squash" => {
             tail_fields = format!(
-                "  tail_block: {block}\n  corner_radius: {}\n",
+                "  tail_end_width: {block}\n  corner_radius: {}\n",
                 5.0 + s.extra * (0.25 * block - 5.0).max(0.0)
             )
         }
-        "square" => tail_fields = format!("  tail_block: {block}\n"),
+        "square" => tail_fields = format!("  tail_end_width: {block}\n"),
         "swallow" => {
             tail_fields = format!(
-                "  tail_block: {block}\n  notch_depth: {}\n  tip_width: {}\n",
+                "  tail_end_width: {block}\n  notch_depth: {}\n  tip_width: {}\n",
                 40.0 + 160.0 * s.extra,
                 8.0 + 12.0 * s.extra
             )
         }
         "diamond" => {
             tail_fields = format!(
-                "  tail_block: {block}\n  point_length: {}\n  tip_width: {}\n",
+                "  tail_end_width: {block}\n  point_length: {}\n  tip_width: {}\n",
                 30.0 + 120.0 * s.extra,
                 8.0 + 12.0 * s.extra
             )
@@ -121,7 +121,7 @@ fn yaml(s: &Spec) -> String {
 rocker:\n  nose: {rn}\n  tail: {rt}\n  low_point: {low} behind\n  nose_curve: {pn}\n  tail_curve: {pt}\n\
 thickness:\n  max: {tmax}\n  at: {tat} ahead\n  nose: {n12}\n  tail: {t12}\n\
 deck:\n  dome: {d}\n\
-rails:\n  apex: {{nose: {a1}, middle: {a2}, tail: {a2}}}\n  softness: {{nose: {s1}, middle: {s2}, tail: {s1}}}\n  tuck: {{nose: {k1}, middle: {k2}, tail: {k2}}}\n\
+rails:\n  thickness: {{nose: {rn1}%, middle: {rm1}%, tail: 60%}}\n  apex: {{nose: {an}, middle: {am}, tail: 0}}\n  tuck: {{nose: {kn}, middle: {km}, tail: 0}}\n  edge: {{nose: {s1}, middle: {s2}, tail: hard}}\n  roll: {{nose: {ron}, middle: {rom}, tail: 70}}\n\
 bottom:\n  - {{contour: single_concave, from: 300, to: 200 from tail, depth: {single}}}\n  - {{contour: double_concave, from: 700 from tail, to: 150 from tail, depth: {double}}}\n  - {{contour: vee, from: 500 from tail, to: 60 from tail, depth: {vee}}}\n",
         l = s.length,
         w = s.width,
@@ -131,6 +131,14 @@ bottom:\n  - {{contour: single_concave, from: 300, to: 200 from tail, depth: {si
         n12 = tn * tmax,
         t12 = tt * tmax,
         d = dome * tmax,
+        rn1 = 60.0 + 12.0 * k1,
+        rm1 = 52.0 + 20.0 * k2,
+        an = 40.0 * (a1 - 0.3),
+        am = 30.0 * (a2 - 0.3),
+        kn = 60.0 * (a1 - 0.3),
+        km = 45.0 * (a2 - 0.3),
+        ron = (0.5 + 0.25 * s1) * 0.5 * s.nose_frac * s.width,
+        rom = 90.0 + 60.0 * s2,
     )
 }
 
@@ -158,9 +166,9 @@ fn wide() -> impl Strategy<Value = String> {
             let w = wf * l.min(1000.0);
             let tail = TAILS[tail];
             let block = match tail {
-                "squash" | "square" => format!("  tail_block: {}\n", 0.5 * tf * w),
-                "swallow" => format!("  tail_block: {}\n  notch_depth: {}\n  tip_width: {}\n", 0.5 * tf * w, 10.0 + 0.1 * l * nf, 2.0 + 10.0 * tf),
-                "diamond" => format!("  tail_block: {}\n  point_length: {}\n  tip_width: {}\n", 0.5 * tf * w, 10.0 + 0.1 * l * nf, 2.0 + 10.0 * tf),
+                "squash" | "square" => format!("  tail_end_width: {}\n", 0.5 * tf * w),
+                "swallow" => format!("  tail_end_width: {}\n  notch_depth: {}\n  tip_width: {}\n", 0.5 * tf * w, 10.0 + 0.1 * l * nf, 2.0 + 10.0 * tf),
+                "diamond" => format!("  tail_end_width: {}\n  point_length: {}\n  tip_width: {}\n", 0.5 * tf * w, 10.0 + 0.1 * l * nf, 2.0 + 10.0 * tf),
                 _ => String::new(),
             };
             let (tmax_frac, rocker, tip_n, tip_t, dome) = t;
@@ -172,7 +180,7 @@ fn wide() -> impl Strategy<Value = String> {
 rocker:\n  nose: {rocker}\n  tail: {rt}\n  low_point: {lp} behind\n\
 thickness:\n  max: {tmax}\n  at: centre\n  nose: {n12}\n  tail: {t12}\n  nose_tip: {tn}\n  tail_tip: {tt}\n\
 deck:\n  dome: {d}\n\
-rails:\n  apex: {{nose: {a1p}, middle: {a2p}, tail: {a2p}}}\n  softness: {{nose: {s1}, middle: {s2}, tail: {s1}}}\n  tuck: {{nose: {k1}, middle: {k2}, tail: {k2}}}\n\
+rails:\n  thickness: {{nose: {th1}%, middle: {th2}%, tail: {th2}%}}\n  apex: {{nose: {a1p}, middle: {a2p}, tail: 0}}\n  tuck: {{nose: {k1p}, middle: {k2p}, tail: 0}}\n  edge: {{nose: {s1}, middle: {s2}, tail: {k1}}}\n  roll: {{nose: {r1}, middle: {r2}, tail: {r2}}}\n\
 bottom:\n  - {{contour: single_concave, from: {f}, to: {tt2} from tail, depth: {single}}}\n  - {{contour: vee, from: {f2} from tail, to: 10 from tail, depth: {vee}}}\n",
                 nw = (0.2 + 0.75 * nf) * w,
                 tw = (0.2 + 0.75 * tf) * w,
@@ -183,8 +191,14 @@ bottom:\n  - {{contour: single_concave, from: {f}, to: {tt2} from tail, depth: {
                 tn = tip_n * 0.5 * tmax,
                 tt = tip_t * 0.5 * tmax,
                 d = dome * 0.3 * tmax,
-                a1p = 0.2 + a1,
-                a2p = 0.2 + a2,
+                th1 = 30.0 + 60.0 * s1,
+                th2 = 30.0 + 60.0 * s2,
+                a1p = 60.0 * a1,
+                a2p = 60.0 * a2,
+                k1p = 100.0 * a1 * k2,
+                k2p = 100.0 * a2 * k1,
+                r1 = 10.0 + 200.0 * k1,
+                r2 = 10.0 + 200.0 * k2,
                 f = 10.0 + from * 0.3 * l,
                 tt2 = 10.0 + to * 0.3 * l,
                 f2 = 20.0 + from * 0.3 * l,

@@ -19,7 +19,7 @@ use serde_saphyr::Spanned;
 use crate::model::board::{Board, ContourKind, TailShape};
 use crate::units::Unit;
 pub use resolve::{MAX_LENGTH, MIN_LENGTH, resolve};
-use values::{Blend, LengthValue, Position};
+use values::{Along, Edge, LengthValue, Position, RailSize};
 
 /// A board description file, field for field.
 #[derive(Debug, Clone, Deserialize)]
@@ -32,6 +32,9 @@ pub struct BoardFile {
     /// Free text for the shop (ignored by the shape).
     #[serde(default)]
     pub notes: Option<String>,
+    /// How far from each tip nose and tail widths and thicknesses are
+    /// measured (default 12 in, in inch and mm files alike).
+    pub tip_station: Option<Spanned<LengthValue>>,
     /// Plan shape.
     pub outline: OutlineSpec,
     /// Bottom curve in side view.
@@ -61,22 +64,28 @@ pub struct OutlineSpec {
     pub wide_point: Option<Spanned<Position>>,
     /// Width 12 in (300 mm in a mm file) from the nose: N12.
     pub nose_width: Option<Spanned<LengthValue>>,
-    /// Width 12 in (300 mm) from the tail: T12.
+    /// Width 12 in from the tail: T12.
     pub tail_width: Option<Spanned<LengthValue>>,
     /// Nose tip in plan: `round` or `pointed`.
     #[serde(default)]
     pub nose: NoseShape,
+    /// Width halfway from the nose to the nose-width station (6 in from the
+    /// nose), as a share of `nose_width`: how full the nose is.
+    pub nose_fullness: Option<Spanned<f64>>,
+    /// Width halfway from the tail to the tail-width station, as a share of
+    /// `tail_width` (tails that close to a point).
+    pub tail_fullness: Option<Spanned<f64>>,
     /// Tail shape.
     pub tail: Spanned<TailShape>,
-    /// Tail block width (squash, square, swallow, diamond).
-    pub tail_block: Option<Spanned<LengthValue>>,
+    /// Width across the tail's end (squash, square, swallow, diamond).
+    pub tail_end_width: Option<Spanned<LengthValue>>,
     /// Squash corner radius (across the board).
     pub corner_radius: Option<Spanned<LengthValue>>,
     /// How far along the board the squash corner runs (default: the radius).
     pub corner_length: Option<Spanned<LengthValue>>,
     /// Swallow notch depth, from the tail to the notch apex.
     pub notch_depth: Option<Spanned<LengthValue>>,
-    /// Diamond: from the tail block corners to the tail.
+    /// Diamond: from the corners of the tail's end to the tail.
     pub point_length: Option<Spanned<LengthValue>>,
     /// Width of the blunt tip of each swallow point, or of the diamond point.
     pub tip_width: Option<Spanned<LengthValue>>,
@@ -175,7 +184,8 @@ pub struct ThicknessAt {
 #[derive(Debug, Clone, Default, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct DeckSpec {
-    /// Dome (crown) at the thickest point.
+    /// Dome (crown) at the thickest point: how far the stringer stands above
+    /// the deck where it starts to roll into the rail.
     pub dome: Option<Spanned<LengthValue>>,
 }
 
@@ -186,12 +196,19 @@ pub struct RailsSpec {
     /// `rounded` (default) or `square`.
     #[serde(default)]
     pub profile: RailProfileSpec,
-    /// Apex height as a fraction of the rail band, or a split like 60/40.
-    pub apex: Option<Spanned<Blend>>,
-    /// 0 boxy .. 1 round, above the apex.
-    pub softness: Option<Spanned<Blend>>,
-    /// 0 soft .. 1 hard tucked edge, below the apex.
-    pub tuck: Option<Spanned<Blend>>,
+    /// Rail thickness `measured_at` in from the edge: a length or a share of
+    /// the stringer thickness.
+    pub thickness: Option<Spanned<Along<RailSize>>>,
+    /// How far in from the edge the rail thickness is measured (default 1 in).
+    pub measured_at: Option<Spanned<LengthValue>>,
+    /// Height of the rail's outermost point above the bottom edge.
+    pub apex: Option<Spanned<Along<LengthValue>>>,
+    /// How far in under the outermost point the bottom edge sits.
+    pub tuck: Option<Spanned<Along<LengthValue>>>,
+    /// The edge: soft (0) to hard (1).
+    pub edge: Option<Spanned<Along<Edge>>>,
+    /// How far in from the edge the deck starts to roll down into the rail.
+    pub roll: Option<Spanned<Along<LengthValue>>>,
 }
 
 /// Rail family.
@@ -375,7 +392,29 @@ pub fn read_yaml<T: serde::de::DeserializeOwned>(
 
 /// The YAML reader's messages that speak of its own settings, in the
 /// user's words; any other message is kept as it is.
+/// Fields of earlier descriptions and what took their place.
+const RENAMED: [(&str, &str); 3] = [
+    (
+        "tail_block",
+        "`tail_block` is now `tail_end_width` (the width across the tail's end)",
+    ),
+    (
+        "softness",
+        "rails are now described by `thickness`, `apex`, `tuck`, `edge` and `roll` (see the README)",
+    ),
+    (
+        "tuck",
+        "rails are now described by `thickness`, `apex`, `tuck`, `edge` and `roll` (see the README)",
+    ),
+];
+
 fn plain_words(message: &str) -> String {
+    if let Some(rest) = message.strip_prefix("unknown field `")
+        && let Some((name, _)) = rest.split_once('`')
+        && let Some((_, now)) = RENAMED.iter().find(|(old, _)| *old == name)
+    {
+        return format!("{message}; {now}");
+    }
     if let Some(rest) = message.strip_prefix("duplicate mapping key: ") {
         let key = rest.split(',').next().unwrap_or(rest).trim();
         return format!("`{key}` is given twice here; give each field once");

@@ -152,75 +152,62 @@ impl<'de> serde::Deserialize<'de> for Position {
     }
 }
 
-/// A rail value along the board: one number for the whole length, or
-/// `{nose: .., middle: .., tail: ..}` blended smoothly between them.
+/// A rail value along the board: one value for the whole length, or
+/// `{nose: .., middle: .., tail: ..}`, which a board holds at the nose-width
+/// station, the wide point and the tail-width station and blends smoothly
+/// between them.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Blend {
-    /// At the nose tip.
-    pub nose: f64,
-    /// At the middle of the length.
-    pub middle: f64,
-    /// At the tail.
-    pub tail: f64,
+pub struct Along<T> {
+    /// At the nose-width station (and on to the nose).
+    pub nose: T,
+    /// At the wide point.
+    pub middle: T,
+    /// At the tail-width station (and on to the tail).
+    pub tail: T,
 }
 
-/// Reads `0.4`, or a rail split `60/40` (60 parts above the apex, 40 below:
-/// the apex at 0.4 of the rail band).
-fn blend_number(v: &str) -> Result<f64, String> {
-    let t = v.trim();
-    if let Some((above, below)) = t.split_once('/') {
-        let a: f64 = above
-            .trim()
-            .parse()
-            .map_err(|_| format!("`{t}` is not a rail split like 60/40"))?;
-        let b: f64 = below
-            .trim()
-            .parse()
-            .map_err(|_| format!("`{t}` is not a rail split like 60/40"))?;
-        if a > 0.0 && b > 0.0 && a.is_finite() && b.is_finite() {
-            return Ok(b / (a + b));
-        }
-        return Err(format!(
-            "`{t}`: both parts of a rail split must be positive"
-        ));
-    }
-    t.parse::<f64>()
-        .ok()
-        .filter(|x| x.is_finite())
-        .ok_or_else(|| format!("`{t}` is not a number or a rail split like 60/40"))
-}
-
-struct BlendVisitor;
-
-impl<'de> Visitor<'de> for BlendVisitor {
-    type Value = Blend;
-    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-        f.write_str("a number, a rail split like 60/40, or {nose: .., middle: .., tail: ..}")
-    }
-    fn visit_f64<E: de::Error>(self, v: f64) -> Result<Blend, E> {
-        if !v.is_finite() {
-            return Err(E::custom("must be a finite number"));
-        }
-        Ok(Blend {
+impl<T: Copy> Along<T> {
+    /// The same value all along.
+    pub fn all(v: T) -> Along<T> {
+        Along {
             nose: v,
             middle: v,
             tail: v,
-        })
+        }
     }
-    fn visit_i64<E: de::Error>(self, v: i64) -> Result<Blend, E> {
-        self.visit_f64(v as f64)
+
+    /// The three values with their names.
+    pub fn parts(&self) -> [(&'static str, T); 3] {
+        [
+            ("nose", self.nose),
+            ("middle", self.middle),
+            ("tail", self.tail),
+        ]
     }
-    fn visit_u64<E: de::Error>(self, v: u64) -> Result<Blend, E> {
-        self.visit_f64(v as f64)
+}
+
+struct AlongVisitor<T>(std::marker::PhantomData<T>);
+
+impl<'de, T: serde::Deserialize<'de> + Copy> Visitor<'de> for AlongVisitor<T> {
+    type Value = Along<T>;
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str("one value for the whole board, or {nose: .., middle: .., tail: ..}")
     }
-    fn visit_str<E: de::Error>(self, v: &str) -> Result<Blend, E> {
-        let x = blend_number(v).map_err(E::custom)?;
-        self.visit_f64(x)
+    fn visit_f64<E: de::Error>(self, v: f64) -> Result<Along<T>, E> {
+        T::deserialize(de::value::F64Deserializer::<E>::new(v)).map(Along::all)
     }
-    fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Blend, A::Error> {
+    fn visit_i64<E: de::Error>(self, v: i64) -> Result<Along<T>, E> {
+        T::deserialize(de::value::I64Deserializer::<E>::new(v)).map(Along::all)
+    }
+    fn visit_u64<E: de::Error>(self, v: u64) -> Result<Along<T>, E> {
+        T::deserialize(de::value::U64Deserializer::<E>::new(v)).map(Along::all)
+    }
+    fn visit_str<E: de::Error>(self, v: &str) -> Result<Along<T>, E> {
+        T::deserialize(de::value::StrDeserializer::<E>::new(v)).map(Along::all)
+    }
+    fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Along<T>, A::Error> {
         let (mut nose, mut middle, mut tail) = (None, None, None);
         while let Some(key) = map.next_key::<String>()? {
-            let value: BlendScalar = map.next_value()?;
             let slot = match key.as_str() {
                 "nose" => &mut nose,
                 "middle" => &mut middle,
@@ -229,12 +216,13 @@ impl<'de> Visitor<'de> for BlendVisitor {
                     return Err(de::Error::unknown_field(other, &["nose", "middle", "tail"]));
                 }
             };
-            if slot.replace(value.0).is_some() {
+            let value: T = map.next_value()?;
+            if slot.replace(value).is_some() {
                 return Err(de::Error::custom(format!("`{key}` is given twice")));
             }
         }
         match (nose, middle, tail) {
-            (Some(nose), Some(middle), Some(tail)) => Ok(Blend { nose, middle, tail }),
+            (Some(nose), Some(middle), Some(tail)) => Ok(Along { nose, middle, tail }),
             (None, _, _) => Err(de::Error::missing_field("nose")),
             (_, None, _) => Err(de::Error::missing_field("middle")),
             (_, _, None) => Err(de::Error::missing_field("tail")),
@@ -242,37 +230,106 @@ impl<'de> Visitor<'de> for BlendVisitor {
     }
 }
 
-impl<'de> serde::Deserialize<'de> for Blend {
+impl<'de, T: serde::Deserialize<'de> + Copy> serde::Deserialize<'de> for Along<T> {
     fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
-        d.deserialize_any(BlendVisitor)
+        d.deserialize_any(AlongVisitor(std::marker::PhantomData))
     }
 }
 
-/// One number of a blend (a plain number or a rail split).
-struct BlendScalar(f64);
+/// A rail thickness: a length (`1 1/8`, `28mm`) or a share of the
+/// thickness at the stringer (`55%`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum RailSize {
+    /// A length.
+    Length(Length),
+    /// A fraction of the stringer thickness (`55%` is 0.55).
+    Share(f64),
+}
 
-impl<'de> serde::Deserialize<'de> for BlendScalar {
-    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
-        struct V;
-        impl<'de> Visitor<'de> for V {
-            type Value = f64;
-            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-                f.write_str("a number or a rail split like 60/40")
-            }
-            fn visit_f64<E: de::Error>(self, v: f64) -> Result<f64, E> {
-                Ok(v)
-            }
-            fn visit_i64<E: de::Error>(self, v: i64) -> Result<f64, E> {
-                Ok(v as f64)
-            }
-            fn visit_u64<E: de::Error>(self, v: u64) -> Result<f64, E> {
-                Ok(v as f64)
-            }
-            fn visit_str<E: de::Error>(self, v: &str) -> Result<f64, E> {
-                blend_number(v).map_err(E::custom)
-            }
+struct RailSizeVisitor;
+
+impl<'de> Visitor<'de> for RailSizeVisitor {
+    type Value = RailSize;
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str(
+            "a length such as 1 1/8 or 28mm, or a share of the stringer thickness such as 55%",
+        )
+    }
+    fn visit_f64<E: de::Error>(self, v: f64) -> Result<RailSize, E> {
+        LengthVisitor.visit_f64(v).map(RailSize::Length)
+    }
+    fn visit_i64<E: de::Error>(self, v: i64) -> Result<RailSize, E> {
+        self.visit_f64(v as f64)
+    }
+    fn visit_u64<E: de::Error>(self, v: u64) -> Result<RailSize, E> {
+        self.visit_f64(v as f64)
+    }
+    fn visit_str<E: de::Error>(self, v: &str) -> Result<RailSize, E> {
+        let t = v.trim();
+        if let Some(p) = t.strip_suffix('%') {
+            return match p.trim().parse::<f64>() {
+                Ok(x) if x.is_finite() => Ok(RailSize::Share(x / 100.0)),
+                _ => Err(E::custom(format!("`{t}` is not a percentage like 55%"))),
+            };
         }
-        d.deserialize_any(V).map(BlendScalar)
+        units::parse_length(t)
+            .map(RailSize::Length)
+            .map_err(E::custom)
+    }
+}
+
+impl<'de> serde::Deserialize<'de> for RailSize {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(RailSizeVisitor)
+    }
+}
+
+/// How hard the edge under a rail is: a number from 0 (soft: the bottom
+/// rolls into the rail) to 1 (hard: a crisp edge), or `soft` or `hard`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Edge(pub f64);
+
+struct EdgeVisitor;
+
+impl<'de> Visitor<'de> for EdgeVisitor {
+    type Value = Edge;
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        f.write_str("`soft`, `hard` or a number from 0 (soft) to 1 (hard)")
+    }
+    fn visit_f64<E: de::Error>(self, v: f64) -> Result<Edge, E> {
+        if v.is_finite() {
+            Ok(Edge(v))
+        } else {
+            Err(E::custom("must be a finite number"))
+        }
+    }
+    fn visit_i64<E: de::Error>(self, v: i64) -> Result<Edge, E> {
+        self.visit_f64(v as f64)
+    }
+    fn visit_u64<E: de::Error>(self, v: u64) -> Result<Edge, E> {
+        self.visit_f64(v as f64)
+    }
+    fn visit_str<E: de::Error>(self, v: &str) -> Result<Edge, E> {
+        match v.trim().to_ascii_lowercase().as_str() {
+            "soft" => Ok(Edge(0.0)),
+            "hard" => Ok(Edge(1.0)),
+            t => t
+                .parse::<f64>()
+                .ok()
+                .filter(|x| x.is_finite())
+                .map(Edge)
+                .ok_or_else(|| {
+                    E::custom(format!(
+                        "`{t}` is not `soft`, `hard` or a number from 0 to 1"
+                    ))
+                }),
+        }
+    }
+}
+
+impl<'de> serde::Deserialize<'de> for Edge {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(EdgeVisitor)
     }
 }
 
@@ -298,11 +355,18 @@ mod tests {
     }
 
     #[test]
-    fn rail_splits() {
-        assert_eq!(blend_number("60/40").unwrap(), 0.4);
-        assert_eq!(blend_number("50/50").unwrap(), 0.5);
-        assert_eq!(blend_number("0.35").unwrap(), 0.35);
-        assert!(blend_number("60/-40").is_err());
-        assert!(blend_number("x").is_err());
+    fn rail_values() {
+        let size = |t: &str| serde_saphyr::from_str::<RailSize>(t).unwrap();
+        assert_eq!(size("55%"), RailSize::Share(0.55));
+        assert_eq!(size("1 1/8"), RailSize::Length(Length::Bare(1.125)));
+        let edge = |t: &str| serde_saphyr::from_str::<Edge>(t).map(|e| e.0);
+        assert_eq!(edge("hard").unwrap(), 1.0);
+        assert_eq!(edge("soft").unwrap(), 0.0);
+        assert_eq!(edge("0.4").unwrap(), 0.4);
+        assert!(edge("crisp").is_err());
+        let along = |t: &str| serde_saphyr::from_str::<Along<Edge>>(t).map(|a| a.tail.0);
+        assert_eq!(along("{nose: soft, middle: 0.5, tail: hard}").unwrap(), 1.0);
+        assert_eq!(along("0.3").unwrap(), 0.3);
+        assert!(along("{nose: soft, middle: 0.5}").is_err());
     }
 }

@@ -9,14 +9,9 @@ use crate::model::board::{Board, ContourKind, RailProfile, TailEnd};
 use crate::model::curve::Curve;
 use crate::units::{MM_PER_FOOT, Unit};
 
-/// The unit a board was described in, judged by where its tip widths are
-/// quoted (12 in for inch files, 300 mm for mm files).
+/// The unit a board was described in.
 pub fn unit_of(board: &Board) -> Unit {
-    if (board.tip_station - MM_PER_FOOT).abs() < 1e-6 * MM_PER_FOOT {
-        Unit::In
-    } else {
-        Unit::Mm
-    }
+    board.unit
 }
 
 struct Out {
@@ -36,10 +31,19 @@ impl Out {
     }
 }
 
-fn blend(c: &Curve, length: f64) -> String {
-    let (n, m, t) = (c.eval(0.0), c.eval(0.5 * length), c.eval(length));
+/// A rail curve as written: its values at the nose-width station, the wide
+/// point and the tail-width station.
+fn along(board: &Board, c: &Curve, show: impl Fn(f64) -> String) -> String {
+    along_at(board, &|x| c.eval(x), show)
+}
+
+/// A rail value as written, from its value at any point along the board.
+fn along_at(board: &Board, f: &dyn Fn(f64) -> f64, show: impl Fn(f64) -> String) -> String {
+    let l = board.length;
+    let d = board.tip_station;
+    let [n, m, t] = [d, board.outline.wide_point, l - d].map(|x| show(f(x)));
     if n == m && m == t {
-        format!("{n}")
+        n
     } else {
         format!("{{nose: {n}, middle: {m}, tail: {t}}}")
     }
@@ -58,7 +62,11 @@ pub fn to_yaml(board: &Board, unit: Unit, comment: &str) -> String {
         Unit::In => "in",
         Unit::Mm => "mm",
     };
-    let _ = writeln!(o.text, "name: {}\nunits: {unit_name}\n", board.name);
+    let _ = writeln!(o.text, "name: {}\nunits: {unit_name}", board.name);
+    if (board.tip_station - MM_PER_FOOT).abs() > 1e-9 {
+        let _ = writeln!(o.text, "tip_station: {}", o.len(board.tip_station));
+    }
+    o.text.push('\n');
     let l = board.length;
     let ol = &board.outline;
     let _ = writeln!(o.text, "outline:\n  length: {}", o.len(l));
@@ -79,28 +87,28 @@ pub fn to_yaml(board: &Board, unit: Unit, comment: &str) -> String {
     let _ = writeln!(o.text, "  tail: {tail}");
     match ol.tail_end {
         TailEnd::Point => {}
-        TailEnd::Block { half_block, corner } => {
-            let _ = writeln!(o.text, "  tail_block: {}", o.len(2.0 * half_block));
+        TailEnd::Block { half_end, corner } => {
+            let _ = writeln!(o.text, "  tail_end_width: {}", o.len(2.0 * half_end));
             if ol.tail_shape == crate::model::board::TailShape::Squash {
                 let _ = writeln!(o.text, "  corner_radius: {}", o.len(corner.1));
                 let _ = writeln!(o.text, "  corner_length: {}", o.len(corner.0));
             }
         }
         TailEnd::Diamond {
-            half_block,
+            half_end,
             point_length,
             half_tip,
         } => {
-            let _ = writeln!(o.text, "  tail_block: {}", o.len(2.0 * half_block));
+            let _ = writeln!(o.text, "  tail_end_width: {}", o.len(2.0 * half_end));
             let _ = writeln!(o.text, "  point_length: {}", o.len(point_length));
             let _ = writeln!(o.text, "  tip_width: {}", o.len(2.0 * half_tip));
         }
         TailEnd::Swallow {
-            half_block,
+            half_end,
             notch_depth,
             tip,
         } => {
-            let _ = writeln!(o.text, "  tail_block: {}", o.len(2.0 * half_block));
+            let _ = writeln!(o.text, "  tail_end_width: {}", o.len(2.0 * half_end));
             let _ = writeln!(o.text, "  notch_depth: {}", o.len(notch_depth));
             let _ = writeln!(o.text, "  tip_width: {}", o.len(tip));
         }
@@ -154,20 +162,18 @@ pub fn to_yaml(board: &Board, unit: Unit, comment: &str) -> String {
     let _ = writeln!(o.text, "\ndeck:\n  dome: {}", o.len(board.dome));
     let r = &board.rails;
     match r.profile {
-        RailProfile::Square => {
-            let _ = writeln!(
-                o.text,
-                "\nrails:\n  profile: square\n  apex: {}",
-                blend(&r.apex, l)
-            );
-        }
+        RailProfile::Square => o.text.push_str("\nrails:\n  profile: square\n"),
         RailProfile::Rounded => {
+            let len = |mm: f64| o.len(mm);
             let _ = writeln!(
                 o.text,
-                "\nrails:\n  apex: {}\n  softness: {}\n  tuck: {}",
-                blend(&r.apex, l),
-                blend(&r.softness, l),
-                blend(&r.tuck, l)
+                "\nrails:\n  thickness: {}\n  measured_at: {}\n  apex: {}\n  tuck: {}\n  edge: {}\n  roll: {}",
+                along(board, &r.thickness, |f| format!("{}%", 100.0 * f)),
+                o.len(r.gauge),
+                along_at(board, &|x| r.apex.eval(x) * board.foil.eval(x), len),
+                along(board, &r.tuck, len),
+                along(board, &r.edge, |e| format!("{e}")),
+                along(board, &r.roll, len),
             );
         }
     }
@@ -177,6 +183,7 @@ pub fn to_yaml(board: &Board, unit: Unit, comment: &str) -> String {
             let kind = match c.kind {
                 ContourKind::Flat => "flat",
                 ContourKind::Vee => "vee",
+                ContourKind::Belly => "belly",
                 ContourKind::SingleConcave => "single_concave",
                 ContourKind::DoubleConcave => "double_concave",
             };

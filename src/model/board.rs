@@ -6,6 +6,7 @@
 //! stringer is the rocker curve; its lowest point sits at z = 0.
 
 use crate::model::curve::Curve;
+use crate::units::Unit;
 
 /// A board resolved from its description: all lengths in mm.
 #[derive(Debug, Clone, PartialEq)]
@@ -30,8 +31,10 @@ pub struct Board {
     /// Bottom contours, summed where zones overlap.
     pub bottom: Vec<Contour>,
     /// Distance from each tip at which nose and tail widths and thicknesses
-    /// are quoted: 12 in (304.8 mm) in an inch file, 300 mm in a mm file.
+    /// are quoted: 12 in (304.8 mm) unless the description says otherwise.
     pub tip_station: f64,
+    /// The unit the board was described in (for writing it back and labels).
+    pub unit: Unit,
 }
 
 /// A curve of half-width that is interpolated in `half_width ^ power`:
@@ -91,19 +94,19 @@ pub enum TailShape {
     Pin,
     /// Between the two.
     RoundedPin,
-    /// A tail block with rounded corners.
+    /// A straight end with rounded corners.
     Squash,
-    /// A tail block with sharp corners.
+    /// A straight end with sharp corners.
     Square,
     /// Two points with a notch between them.
     Swallow,
-    /// A tail block whose corners run in to a blunt point on the stringer.
+    /// A straight end whose corners run in to a blunt point on the stringer.
     Diamond,
 }
 
 impl TailShape {
-    /// Whether the tail ends in a block of some width (and needs `tail_block`).
-    pub fn has_block(self) -> bool {
+    /// Whether the tail ends with some width (and needs `tail_end_width`).
+    pub fn has_end_width(self) -> bool {
         matches!(
             self,
             TailShape::Squash | TailShape::Square | TailShape::Swallow | TailShape::Diamond
@@ -129,21 +132,21 @@ impl TailShape {
 pub enum TailEnd {
     /// The half-width reaches zero at the tail (round, pin, rounded pin).
     Point,
-    /// A flat end of half-width `half_block - corner.1`; corners rounded by a
+    /// A flat end of half-width `half_end - corner.1`; corners rounded by a
     /// quarter ellipse `corner` = (along x, across y) (zero for square).
-    Block { half_block: f64, corner: (f64, f64) },
-    /// Straight edges from the block corners (half-width `half_block`,
+    Block { half_end: f64, corner: (f64, f64) },
+    /// Straight edges from the corners of the end (half-width `half_end`,
     /// `point_length` ahead of the tail) in to a blunt tip of half-width `half_tip`.
     Diamond {
-        half_block: f64,
+        half_end: f64,
         point_length: f64,
         half_tip: f64,
     },
-    /// Points of outer half-width `half_block` with a straight notch from
-    /// the stringer `notch_depth` ahead of the tail out to `half_block - tip`
+    /// Points of outer half-width `half_end` with a straight notch from
+    /// the stringer `notch_depth` ahead of the tail out to `half_end - tip`
     /// at the tail, leaving each point `tip` wide.
     Swallow {
-        half_block: f64,
+        half_end: f64,
         notch_depth: f64,
         tip: f64,
     },
@@ -161,17 +164,28 @@ pub struct Closing {
     pub tail: f64,
 }
 
-/// Rail shape: where the apex sits and how full the rail is above and below it.
+/// Rail shape along the board, in the measurements a shaper takes on a rail.
+/// Lengths in mm; each curve runs from the nose-width station through the
+/// wide point to the tail-width station and holds its end values out to the tips.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Rails {
-    /// Rounded (superelliptic) or square (the check board).
+    /// Rounded (a rolled deck, an apex and an edge) or square (the check box).
     pub profile: RailProfile,
-    /// Apex height as a fraction of the rail band (bottom edge to deck edge).
+    /// Rail thickness `gauge` in from the edge, as a fraction of the
+    /// thickness at the stringer.
+    pub thickness: Curve,
+    /// Height of the rail's outermost point (the apex) above the bottom edge,
+    /// as a fraction of the thickness at the stringer.
     pub apex: Curve,
-    /// 0 boxy to 1 round, above the apex.
-    pub softness: Curve,
-    /// 0 soft and round to 1 hard and tucked, below the apex.
+    /// How far in from the apex the bottom edge sits (the tuck under the rail).
     pub tuck: Curve,
+    /// The edge where bottom meets rail: 0 soft (the bottom rolls into the
+    /// rail), 1 hard (a crisp edge).
+    pub edge: Curve,
+    /// How far in from the apex the deck starts to roll down into the rail.
+    pub roll: Curve,
+    /// Distance in from the apex at which the rail thickness is measured.
+    pub gauge: f64,
 }
 
 /// The family the rail cross-section belongs to.
@@ -183,15 +197,21 @@ pub enum RailProfile {
     Square,
 }
 
-/// Kinds of bottom contour.
+/// Kinds of bottom contour. Each is measured from the rail line (the bottom
+/// as rocker and outline make it): a concave is cut up into the board and
+/// leaves the rail line where it is; a vee or a belly lifts the rails.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Deserialize, serde::Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum ContourKind {
     /// Nothing (documents a flat zone).
     Flat,
-    /// A ridge on the stringer: the bottom rises by `depth` out to the rail.
+    /// A ridge on the stringer: the bottom rises in straight lines by
+    /// `depth` out to the rails.
     Vee,
-    /// One channel: the stringer sits `depth` above the bottom outboard of it.
+    /// A rolled bottom: the bottom rises in a curve by `depth` out to the
+    /// rails, flat across the stringer.
+    Belly,
+    /// One channel: the stringer sits `depth` above the rail line.
     SingleConcave,
     /// Two channels either side of the stringer, each `depth` deep.
     DoubleConcave,
@@ -231,14 +251,15 @@ impl Contour {
         self.depth * ramp(x - self.from).min(ramp(self.to - x))
     }
 
-    /// Offset of the bottom at fraction `u` of the half-width, positive up,
-    /// relative to the stringer, per unit depth.
+    /// Offset of the bottom over the rail line at fraction `u` of the
+    /// half-width, positive up into the board, per unit depth.
     pub fn shape(&self, u: f64) -> f64 {
-        let s = (u / self.span).min(1.0);
+        let s = (u / self.span).clamp(0.0, 1.0);
         match self.kind {
             ContourKind::Flat => 0.0,
             ContourKind::Vee => s,
-            ContourKind::SingleConcave => -s * s,
+            ContourKind::Belly => s * s,
+            ContourKind::SingleConcave => 1.0 - s * s,
             ContourKind::DoubleConcave => {
                 let v = (std::f64::consts::PI * s).sin();
                 v * v
@@ -253,36 +274,50 @@ impl Contour {
 pub struct Station {
     /// Distance from the nose.
     pub x: f64,
-    /// Outer half-width.
+    /// Outer half-width (out to the rail's apex).
     pub half_width: f64,
     /// Half-width of the swallow notch (0 elsewhere).
     pub inner: f64,
-    /// Bottom height at the stringer (rocker).
+    /// Height of the rail line (the bottom before contours) at the stringer:
+    /// the rocker.
     pub bottom: f64,
-    /// Thickness at the stringer before closing.
+    /// Thickness at the stringer over the rail line, before closing.
     pub thickness: f64,
-    /// Height scale about the apex from profile closing (1 away from the tips).
+    /// Height scale about the rail line from profile closing (1 away from
+    /// the tips).
     pub closing: f64,
-    /// Dome here.
+    /// Dome here: how far the stringer stands above the deck where it starts
+    /// to roll into the rail.
     pub dome: f64,
-    /// Apex fraction of the rail band.
-    pub apex: f64,
-    /// Superellipse exponent above the apex (infinite for square rails).
-    pub n_up: f64,
-    /// Superellipse exponent below the apex (infinite for square rails).
-    pub n_low: f64,
+    /// The rail here, fitted to this station's width and thickness.
+    pub rail: RailAt,
+    /// A box section with vertical walls (the check box).
+    pub square: bool,
     /// Active contours: (depth here, contour).
     pub contours: Vec<(f64, Contour)>,
 }
 
-/// Exponent above the apex for a rail softness in [0, 1]: 2 (elliptic) to 8.
-pub fn exponent_up(softness: f64) -> f64 {
-    2.0 + 6.0 * (1.0 - softness.clamp(0.0, 1.0))
-}
-
-/// Exponent below the apex for a tuck in [0, 1]: 2 (elliptic) to 16.
-pub fn exponent_low(tuck: f64) -> f64 {
-    2.0 + 14.0 * tuck.clamp(0.0, 1.0)
+/// The rail at one station, in mm. [`Station::fit_rail`] limits every length
+/// so that the rail fits the station's half-width and thickness, and solves
+/// the deck's roll for the rail thickness.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RailAt {
+    /// Height of the apex above the bottom edge.
+    pub apex: f64,
+    /// Distance from the apex in to the bottom edge.
+    pub tuck: f64,
+    /// 0 soft to 1 hard.
+    pub edge: f64,
+    /// Distance from the apex in to where the deck starts to roll.
+    pub roll: f64,
+    /// Rail thickness wanted `gauge` in from the apex.
+    pub thickness: f64,
+    /// Where the rail thickness is measured, in from the apex.
+    pub gauge: f64,
+    /// Superellipse exponent of the deck's roll into the rail (solved).
+    pub roll_exponent: f64,
+    /// Slope the domed deck carries into the roll (negative: falling).
+    pub tilt: f64,
 }
 
 /// Superellipse height `(1 - u^n)^(1/n)` for `u` in [0, 1].
@@ -327,13 +362,6 @@ impl Board {
         let x = x.clamp(0.0, self.length);
         let thickness = self.foil.eval(x);
         let (_, max_t) = self.foil.max_station();
-        let (n_up, n_low) = match self.rails.profile {
-            RailProfile::Square => (f64::INFINITY, f64::INFINITY),
-            RailProfile::Rounded => (
-                exponent_up(self.rails.softness.eval(x)),
-                exponent_low(self.rails.tuck.eval(x)),
-            ),
-        };
         let contours = self
             .bottom
             .iter()
@@ -342,7 +370,8 @@ impl Board {
                 (d > 0.0 && c.kind != ContourKind::Flat).then(|| (d, c.clone()))
             })
             .collect();
-        Station {
+        let r = &self.rails;
+        let mut st = Station {
             x,
             half_width: self.half_width(x),
             inner: self.outline.inner(x, self.length),
@@ -354,11 +383,21 @@ impl Board {
             } else {
                 0.0
             },
-            apex: self.rails.apex.eval(x),
-            n_up,
-            n_low,
+            rail: RailAt {
+                apex: r.apex.eval(x) * thickness,
+                tuck: r.tuck.eval(x),
+                edge: r.edge.eval(x).clamp(0.0, 1.0),
+                roll: r.roll.eval(x),
+                thickness: r.thickness.eval(x) * thickness,
+                gauge: r.gauge,
+                roll_exponent: 2.0,
+                tilt: 0.0,
+            },
+            square: r.profile == RailProfile::Square,
             contours,
-        }
+        };
+        st.fit_rail();
+        st
     }
 
     /// Distances from the nose where the shape has a kink or a change of
@@ -419,25 +458,25 @@ impl Board {
         let o = &self.outline;
         let tail_end = match o.tail_end {
             TailEnd::Point => TailEnd::Point,
-            TailEnd::Block { half_block, corner } => TailEnd::Block {
-                half_block: half_block * ky,
+            TailEnd::Block { half_end, corner } => TailEnd::Block {
+                half_end: half_end * ky,
                 corner: (corner.0 * kx, corner.1 * ky),
             },
             TailEnd::Diamond {
-                half_block,
+                half_end,
                 point_length,
                 half_tip,
             } => TailEnd::Diamond {
-                half_block: half_block * ky,
+                half_end: half_end * ky,
                 point_length: point_length * kx,
                 half_tip: half_tip * ky,
             },
             TailEnd::Swallow {
-                half_block,
+                half_end,
                 notch_depth,
                 tip,
             } => TailEnd::Swallow {
-                half_block: half_block * ky,
+                half_end: half_end * ky,
                 notch_depth: notch_depth * kx,
                 tip: tip * ky,
             },
@@ -461,9 +500,12 @@ impl Board {
             dome: self.dome * kz,
             rails: Rails {
                 profile: self.rails.profile,
+                thickness: self.rails.thickness.scaled(kx, 1.0),
                 apex: self.rails.apex.scaled(kx, 1.0),
-                softness: self.rails.softness.scaled(kx, 1.0),
-                tuck: self.rails.tuck.scaled(kx, 1.0),
+                tuck: self.rails.tuck.scaled(kx, ky),
+                edge: self.rails.edge.scaled(kx, 1.0),
+                roll: self.rails.roll.scaled(kx, ky),
+                gauge: self.rails.gauge * ky,
             },
             bottom: self
                 .bottom
@@ -477,6 +519,7 @@ impl Board {
                 })
                 .collect(),
             tip_station: self.tip_station * kx,
+            unit: self.unit,
         }
     }
 }
@@ -500,7 +543,7 @@ impl Outline {
                 }
             }
             TailEnd::Diamond {
-                half_block,
+                half_end,
                 point_length,
                 half_tip,
             } => {
@@ -509,7 +552,7 @@ impl Outline {
                     self.tail.eval(x)
                 } else {
                     let s = (x - corner) / point_length;
-                    half_block + (half_tip - half_block) * s.min(1.0)
+                    half_end + (half_tip - half_end) * s.min(1.0)
                 }
             }
             TailEnd::Swallow { .. } => self.tail.eval(x),
@@ -520,7 +563,7 @@ impl Outline {
     pub fn inner(&self, x: f64, length: f64) -> f64 {
         match self.tail_end {
             TailEnd::Swallow {
-                half_block,
+                half_end,
                 notch_depth,
                 tip,
             } => {
@@ -528,7 +571,7 @@ impl Outline {
                 if x <= start {
                     0.0
                 } else {
-                    (half_block - tip) * ((x - start) / notch_depth).min(1.0)
+                    (half_end - tip) * ((x - start) / notch_depth).min(1.0)
                 }
             }
             _ => 0.0,

@@ -77,6 +77,11 @@ pub struct Placement {
     pub part: Mesh,
     /// Parting surface (rail apex) height along X, setup-1 coordinates, every 2 mm.
     pub parting: Vec<[f64; 2]>,
+    /// Highest point of the board's bottom along X (setup-1 coordinates,
+    /// every 2 mm) where it stands above the parting surface: a concave cut
+    /// up into the board above the rail's apex. The bottom setup may reach
+    /// that far.
+    pub bottom_high: Vec<[f64; 2]>,
     /// Board's X extent.
     pub x_range: [f64; 2],
     /// Board's half-width at its widest.
@@ -342,6 +347,26 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
             [x1 - x0, job.tabs[0], job.tabs[1]],
         )
     };
+    // The bottom's highest point in each 2 mm slab: the down-facing
+    // triangles' highest vertex (only where it is above the parting).
+    let mut high = vec![f64::NEG_INFINITY; bins + 1];
+    for t in &part.triangles {
+        let [a, b, c] = t.map(|v| part.vertices[v as usize]);
+        let nz = (b[0] - a[0]) * (c[1] - a[1]) - (b[1] - a[1]) * (c[0] - a[0]);
+        if nz >= 0.0 {
+            continue;
+        }
+        for v in [a, b, c] {
+            let k = bin_of(v[0]);
+            high[k] = high[k].max(v[2]);
+        }
+    }
+    let bottom_high: Vec<[f64; 2]> = high
+        .iter()
+        .enumerate()
+        .filter(|(_, z)| z.is_finite())
+        .map(|(k, &z)| [x_range[0] + 2.0 * k as f64, z])
+        .collect();
     let z_nose = parting.first().map_or(0.0, |p| p[1]);
     let z_tail = parting.last().map_or(0.0, |p| p[1]);
     let reach = job.frame + 2.0 * r_rough + 5.0;
@@ -355,6 +380,7 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
         pitch,
         part,
         parting,
+        bottom_high,
         x_range,
         half_width,
         centre_y,
@@ -462,18 +488,26 @@ fn blank_pitch(board: &Mesh, lo: [f64; 3], hi: [f64; 3], b: &Block) -> f64 {
 impl Placement {
     /// Parting height at X in setup-1 coordinates (held level past the tips).
     pub fn parting_at(&self, x: f64) -> f64 {
-        let p = &self.parting;
-        if x <= p[0][0] {
-            return p[0][1];
-        }
-        if x >= p[p.len() - 1][0] {
-            return p[p.len() - 1][1];
-        }
-        let k = p.partition_point(|q| q[0] <= x).clamp(1, p.len() - 1);
-        let (a, b) = (p[k - 1], p[k]);
-        a[1] + (b[1] - a[1]) * (x - a[0]) / (b[0] - a[0]).max(1e-12)
+        line_at(&self.parting, x)
     }
 
+    /// Lowest height a tool tip may reach outside the part at X in a setup:
+    /// the parting surface, less the overlap; on the bottom, past the
+    /// parting to the bottom's highest point where a concave rises above it.
+    pub fn floor_at(&self, side: Side, x: f64, overlap: f64) -> f64 {
+        let zp = self.parting_at(x);
+        match side {
+            Side::Deck => zp - overlap,
+            Side::Bottom => {
+                let high = if self.bottom_high.is_empty() {
+                    zp
+                } else {
+                    zp.max(line_at(&self.bottom_high, x))
+                };
+                -self.block.thickness - high - overlap
+            }
+        }
+    }
     /// The part and tabs as the tool sees them in a setup.
     pub fn guard(&self, side: Side) -> Vec<Mesh> {
         let mut all = vec![self.part.clone()];
@@ -481,16 +515,6 @@ impl Placement {
         match side {
             Side::Deck => all,
             Side::Bottom => all.iter().map(|m| flip_mesh(m, &self.block)).collect(),
-        }
-    }
-
-    /// Lowest height a tool tip may reach outside the part at X in a setup:
-    /// the parting surface, less the overlap.
-    pub fn floor_at(&self, side: Side, x: f64, overlap: f64) -> f64 {
-        let zp = self.parting_at(x);
-        match side {
-            Side::Deck => zp - overlap,
-            Side::Bottom => -self.block.thickness - zp - overlap,
         }
     }
 
@@ -538,6 +562,20 @@ impl Placement {
 
 fn both(mm: f64) -> String {
     units::Both(mm).to_string()
+}
+
+/// Height of a line of (x, z) points at `x`, linear between them and held
+/// level past its ends.
+fn line_at(p: &[[f64; 2]], x: f64) -> f64 {
+    if x <= p[0][0] {
+        return p[0][1];
+    }
+    if x >= p[p.len() - 1][0] {
+        return p[p.len() - 1][1];
+    }
+    let k = p.partition_point(|q| q[0] <= x).clamp(1, p.len() - 1);
+    let (a, b) = (p[k - 1], p[k]);
+    a[1] + (b[1] - a[1]) * (x - a[0]) / (b[0] - a[0]).max(1e-12)
 }
 
 #[cfg(test)]

@@ -7,13 +7,13 @@ mod outline;
 mod section;
 mod side;
 
-use super::values::{Blend, LengthValue, Position};
+use super::values::{LengthValue, Position};
 use super::{BoardFile, DescriptionError};
-use crate::model::board::{Board, Closing, ContourKind};
-use crate::model::curve::Curve;
+use crate::model::board::{Board, Closing, ContourKind, RailProfile, Station};
+use crate::model::curve::{Curve, End};
 use crate::units::{self, Unit};
 use outline::outline;
-use section::{bottom, rails};
+use section::{Anchors, bottom, rails};
 use serde_saphyr::{Location, Spanned};
 use side::{foil, rocker};
 
@@ -106,36 +106,6 @@ impl Ctx<'_> {
             None => Ok(()),
         }
     }
-
-    pub(super) fn blend(
-        &self,
-        v: &Option<Spanned<Blend>>,
-        default: Blend,
-        field: &str,
-        lo: f64,
-        hi: f64,
-    ) -> Res<Curve> {
-        let b = v.as_ref().map(|s| s.value).unwrap_or(default);
-        if let Some(s) = v {
-            for (part, x) in [("nose", b.nose), ("middle", b.middle), ("tail", b.tail)] {
-                if !(lo..=hi).contains(&x) {
-                    return self.fail(
-                        &s.referenced,
-                        field,
-                        format!("{part} value {x} is outside {lo}..{hi}"),
-                        "rail values are fractions: apex 0.5 is 50/50, 0.4 is 60/40; softness and tuck run 0..1",
-                    );
-                }
-            }
-        }
-        let l = self.length;
-        let pts = if b.nose == b.middle && b.middle == b.tail {
-            vec![(0.0, b.nose), (l, b.nose)]
-        } else {
-            vec![(0.0, b.nose), (0.5 * l, b.middle), (l, b.tail)]
-        };
-        Ok(Curve::new(&pts).expect("three increasing stations"))
-    }
 }
 
 /// A length for messages: `304.8 mm (1' 0")`.
@@ -176,10 +146,18 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
         "give the flat (projected) length, e.g. 6'2\" or 1880mm",
     )?;
     let l = cx.length;
-    // Shops quote N12/T12 a foot from the tips; metric shops use 300 mm.
-    let d12 = match cx.unit {
-        Unit::In => units::MM_PER_FOOT,
-        Unit::Mm => 300.0,
+    // Shops quote N12/T12 a foot from the tips, in inches or millimetres;
+    // a description may say otherwise.
+    let d12 = match &raw.tip_station {
+        Some(d) => cx.length_in(
+            d,
+            "tip_station",
+            0.05 * l,
+            0.4 * l,
+            false,
+            "where nose and tail widths and thicknesses are measured from each tip: 12 in unless the shop says otherwise, e.g. 300mm",
+        )?,
+        None => units::MM_PER_FOOT,
     };
     let outline = outline(&cx, raw, d12)?;
     let rocker = rocker(&cx, raw)?;
@@ -252,11 +230,15 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
             0.0,
             0.5 * t_max,
             true,
-            "the dome is how far the stringer rises above the deck's edge; it must stay under half the thickness or the deck would cross the bottom",
+            "the dome is how far the stringer stands above the deck where it starts to roll into the rail; it must stay under half the thickness",
         )?,
-        None => 0.0,
+        // A box has a flat deck; a board a slight crown, 3/16 in on a 2 1/2 in
+        // board (common practice, from memory), in proportion on others.
+        None if raw.rails.profile == super::RailProfileSpec::Square => 0.0,
+        None => (0.1875 * units::MM_PER_INCH).min(0.075 * t_max),
     };
-    let rails = rails(&cx, raw)?;
+    let anchors = Anchors([d12, outline.wide_point, l - d12]);
+    let rails = rails(&cx, raw, &anchors, &foil)?;
     let bottom = bottom(&cx, raw)?;
     let board = Board {
         name: name.value.clone(),
@@ -269,63 +251,168 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
         rails,
         bottom,
         tip_station: d12,
+        unit: cx.unit,
     };
     check_sections(&cx, raw, &board)?;
     Ok(board)
 }
 
-/// Samples the finished board: the contours must stay below the rail apex.
+/// Samples the finished board: the bottom must stay below the deck
+/// everywhere, and between the nose- and tail-width stations, where the
+/// rail values are the shaper's own, each must fit the board as given.
 pub(super) fn check_sections(cx: &Ctx, raw: &BoardFile, board: &Board) -> Res<()> {
     let l = board.length;
     let mut xs: Vec<f64> = (1..400).map(|i| l * i as f64 / 400.0).collect();
     xs.extend(board.breaks());
-    for x in xs {
+    for &x in &xs {
         if x <= 0.0 || x >= l {
             continue;
         }
         let st = board.station(x);
-        let below_apex = st.apex * st.rail_band();
-        let lift = st.contour_lift();
-        // Only a contour can carry the bottom across the rail; a board thin
-        // here with a flat bottom has nothing to cross (its thickness has
-        // its own rules).
-        if lift > 0.0 && lift >= below_apex - 0.5 {
-            // Blame the zone that lifts the bottom most here.
-            let Some((i, z)) = raw
-                .bottom
-                .iter()
-                .enumerate()
-                .filter(|(_, z)| {
-                    cx.at(&z.from) < x && x < cx.at(&z.to) && z.contour.value != ContourKind::Flat
-                })
-                .max_by(|a, b| {
-                    let d = |z: &super::ZoneSpec| z.depth.as_ref().map(|d| cx.mm(d)).unwrap_or(0.0);
-                    d(a.1).total_cmp(&d(b.1))
-                })
-                .or_else(|| {
-                    let mut zones = raw.bottom.iter().enumerate();
-                    zones.find(|(_, z)| z.contour.value != ContourKind::Flat)
-                })
-            else {
-                continue;
-            };
-            let at = z
-                .depth
-                .as_ref()
-                .map(|d| d.referenced)
-                .unwrap_or(z.contour.referenced);
-            return cx.fail(
-                &at,
-                &format!("bottom[{i}].depth"),
-                format!(
-                    "{} from the nose the contours lift the bottom {:.2} mm, but the rail reaches only {:.2} mm below its apex there: the bottom would cross the rail",
-                    show(x),
-                    lift,
-                    below_apex
-                ),
-                "make the contour shallower, end the zone sooner, or raise the rail apex",
-            );
+        check_contours(cx, raw, &st)?;
+        if board.rails.profile == RailProfile::Rounded
+            && x >= board.tip_station - 1e-9
+            && x <= l - board.tip_station + 1e-9
+        {
+            check_rail(cx, raw, board, &st)?;
         }
+    }
+    Ok(())
+}
+
+/// The contours must leave the board some thickness at every point across.
+fn check_contours(cx: &Ctx, raw: &BoardFile, st: &Station) -> Res<()> {
+    let lift = st.contour_lift();
+    if lift <= 0.0 || st.half_width <= 0.0 {
+        return Ok(());
+    }
+    // Out to the rail's gauge: beyond it the rail itself closes the section.
+    let reach = if st.square {
+        st.half_width
+    } else {
+        st.half_width - st.rail.gauge
+    };
+    let steps = 128;
+    let thinnest = (0..=steps)
+        .map(|i| {
+            let y = reach * i as f64 / steps as f64;
+            st.deck_rise(y) - st.bottom_rise(y)
+        })
+        .fold(f64::INFINITY, f64::min);
+    if thinnest >= 1.0 {
+        return Ok(());
+    }
+    let x = st.x;
+    // Blame the zone that lifts the bottom most here.
+    let Some((i, z)) = raw
+        .bottom
+        .iter()
+        .enumerate()
+        .filter(|(_, z)| {
+            cx.at(&z.from) < x && x < cx.at(&z.to) && z.contour.value != ContourKind::Flat
+        })
+        .max_by(|a, b| {
+            let d = |z: &super::ZoneSpec| z.depth.as_ref().map(|d| cx.mm(d)).unwrap_or(0.0);
+            d(a.1).total_cmp(&d(b.1))
+        })
+    else {
+        return Ok(());
+    };
+    let at = z
+        .depth
+        .as_ref()
+        .map(|d| d.referenced)
+        .unwrap_or(z.contour.referenced);
+    cx.fail(
+        &at,
+        &format!("bottom[{i}].depth"),
+        format!(
+            "{} from the nose the contours lift the bottom {:.2} mm and leave the board {:.2} mm thick at its thinnest: the bottom would meet the deck",
+            show(x),
+            lift,
+            thinnest.max(0.0)
+        ),
+        "make the contour shallower or end the zone sooner",
+    )
+}
+
+/// The rail values at one station must fit it: roll and tuck inside the
+/// half-width, the apex leaving the deck room to roll, the thickness one the
+/// roll can reach.
+fn check_rail(cx: &Ctx, raw: &BoardFile, board: &Board, st: &Station) -> Res<()> {
+    let r = &raw.rails;
+    let x = st.x;
+    let fallback = raw.outline.length.referenced;
+    let near = |v: Option<Location>| v.unwrap_or(fallback);
+    let given = |set: bool| {
+        if set {
+            "make it smaller".to_string()
+        } else {
+            "the default does not fit this board: set it in `rails:`".to_string()
+        }
+    };
+    let want_roll = board.rails.roll.eval(x);
+    if want_roll > 0.8 * st.half_width + 1e-6 {
+        return cx.fail(
+            &near(r.roll.as_ref().map(|v| v.referenced)),
+            "rails.roll",
+            format!(
+                "is {} at {} from the nose, where the board is {} wide; the roll must stay within 80 % of the half-width",
+                show(want_roll),
+                show(x),
+                show(2.0 * st.half_width)
+            ),
+            given(r.roll.is_some()),
+        );
+    }
+    let want_tuck = board.rails.tuck.eval(x);
+    let most_tuck = (0.8 * want_roll).min(0.3 * st.half_width);
+    if want_tuck > most_tuck + 1e-6 {
+        return cx.fail(
+            &near(r.tuck.as_ref().map(|v| v.referenced)),
+            "rails.tuck",
+            format!(
+                "is {} at {} from the nose; the edge can sit at most {} in under the rail there (80 % of the roll, 30 % of the half-width)",
+                show(want_tuck),
+                show(x),
+                show(most_tuck)
+            ),
+            given(r.tuck.is_some()),
+        );
+    }
+    let want_apex = board.rails.apex.eval(x) * st.thickness;
+    if want_apex > st.rail.apex + 1e-6 {
+        return cx.fail(
+            &near(r.apex.as_ref().map(|v| v.referenced)),
+            "rails.apex",
+            format!(
+                "is {} at {} from the nose, where the board is {} thick: the apex may take at most half the rail's height ({})",
+                show(want_apex),
+                show(x),
+                show(st.thickness),
+                show(st.rail.apex)
+            ),
+            given(r.apex.is_some()),
+        );
+    }
+    let got = st.thickness_at(st.rail.gauge);
+    let want = st.rail.thickness;
+    if (got - want).abs() > 0.05 {
+        let (thin, thick) = st.rail_thickness_range();
+        return cx.fail(
+            &near(r.thickness.as_ref().map(|v| v.referenced)),
+            "rails.thickness",
+            format!(
+                "asks for {} at {} from the nose, {} in from the edge, where the roll from {} in can make it only {} to {}",
+                show(want),
+                show(x),
+                show(st.rail.gauge),
+                show(st.rail.roll),
+                show(thin),
+                show(thick)
+            ),
+            "a thinner rail needs a wider roll (rails.roll) or a higher apex; a fuller one a narrower roll",
+        );
     }
     Ok(())
 }

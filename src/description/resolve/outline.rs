@@ -1,5 +1,5 @@
 //! The outline's rules: the plan shape from the widths (or a table of
-//! them), nose and tail shapes, tail block, corners, notch and point.
+//! them), nose and tail shapes, the tail's end, corners, notch and point.
 
 use super::*;
 use crate::description::{BoardFile, NoseShape};
@@ -13,11 +13,11 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
     let near = o.length.referenced;
     let tail_ref = o.tail.referenced;
     let name = shape.name();
-    if !shape.has_block() {
+    if !shape.has_end_width() {
         cx.forbid(
-            &o.tail_block,
-            "outline.tail_block",
-            &format!("a {name} tail has no block"),
+            &o.tail_end_width,
+            "outline.tail_end_width",
+            &format!("a {name} tail closes to a point and has no end width"),
         )?;
     }
     if shape != TailShape::Squash {
@@ -53,20 +53,20 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             "only swallow and diamond tails have tips",
         )?;
     }
-    let half_block = if shape.has_block() {
+    let half_end = if shape.has_end_width() {
         let b = cx.required(
-            &o.tail_block,
+            &o.tail_end_width,
             &tail_ref,
-            "outline.tail_block",
-            &format!("a {name} tail needs the width of its tail block"),
+            "outline.tail_end_width",
+            &format!("a {name} tail needs the width across its end"),
         )?;
         let w = cx.length_in(
             b,
-            "outline.tail_block",
+            "outline.tail_end_width",
             0.0,
             l,
             false,
-            "the tail block is the width across the tail's end",
+            "the width across the tail's end",
         )?;
         Some((0.5 * w, b))
     } else {
@@ -88,13 +88,13 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
         TailShape::Round | TailShape::Pin | TailShape::RoundedPin => (TailEnd::Point, l),
         TailShape::Square => (
             TailEnd::Block {
-                half_block: half_block.unwrap().0,
+                half_end: half_end.unwrap().0,
                 corner: (0.0, 0.0),
             },
             l,
         ),
         TailShape::Squash => {
-            let (e, _) = half_block.unwrap();
+            let (e, _) = half_end.unwrap();
             let r = match &o.corner_radius {
                 Some(r) => cx.length_in(
                     r,
@@ -102,7 +102,7 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
                     0.0,
                     e,
                     true,
-                    "the corner radius must leave part of the tail block flat",
+                    "the corner radius must leave part of the tail's end flat",
                 )?,
                 None => (25.4_f64).min(0.5 * e), // 1 in (common practice, no source)
             };
@@ -121,20 +121,20 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             };
             (
                 TailEnd::Block {
-                    half_block: e,
+                    half_end: e,
                     corner: (along, r),
                 },
                 l,
             )
         }
         TailShape::Diamond => {
-            let (e, b) = half_block.unwrap();
+            let (e, b) = half_end.unwrap();
             if tip >= 2.0 * e {
                 return cx.fail(
                     &tip_at.unwrap_or(b.referenced),
                     "outline.tip_width",
-                    format!("the tip {} is as wide as the tail block", show(tip)),
-                    "make the tip narrower than the tail block",
+                    format!("the tip {} is as wide as the tail's end", show(tip)),
+                    "make the tip narrower than tail_end_width",
                 );
             }
             let p = match &o.point_length {
@@ -150,7 +150,7 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             };
             (
                 TailEnd::Diamond {
-                    half_block: e,
+                    half_end: e,
                     point_length: p,
                     half_tip: 0.5 * tip,
                 },
@@ -158,17 +158,17 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             )
         }
         TailShape::Swallow => {
-            let (e, b) = half_block.unwrap();
+            let (e, b) = half_end.unwrap();
             if tip >= e {
                 return cx.fail(
                     &tip_at.unwrap_or(b.referenced),
                     "outline.tip_width",
                     format!(
-                        "points {} wide leave no notch in a {} tail block",
+                        "points {} wide leave no notch in a tail end {} wide",
                         show(tip),
                         show(2.0 * e)
                     ),
-                    "make the tips narrower than half the tail block",
+                    "make the tips narrower than half of tail_end_width",
                 );
             }
             let n = cx.required(
@@ -180,7 +180,7 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
             let depth = cx.length_in(n, "outline.notch_depth", 0.0, d12, false, "the notch runs from the tail to its apex on the stringer and must end behind the tail-width station (12 in, or 300 mm, from the tail), deeper than that the tail allows no notch")?;
             (
                 TailEnd::Swallow {
-                    half_block: e,
+                    half_end: e,
                     notch_depth: depth,
                     tip,
                 },
@@ -190,9 +190,9 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
     };
     let end_half = match tail_end {
         TailEnd::Point => 0.0,
-        TailEnd::Block { half_block, .. }
-        | TailEnd::Diamond { half_block, .. }
-        | TailEnd::Swallow { half_block, .. } => half_block,
+        TailEnd::Block { half_end, .. }
+        | TailEnd::Diamond { half_end, .. }
+        | TailEnd::Swallow { half_end, .. } => half_end,
     };
     let nose_power = match o.nose {
         NoseShape::Round => 2.0,
@@ -270,19 +270,57 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
                 "T12 is measured 12 in from the tail and is always narrower than the wide point",
             );
         }
-        if let Some((e, b)) = half_block
+        if let Some((e, b)) = half_end
             && 2.0 * e >= tail_width
         {
-            return cx.fail(&b.referenced, "outline.tail_block", format!("is {}, not narrower than the tail width {}", show(2.0 * e), show(tail_width)), "the tail narrows from T12 to the tail block: make the block narrower than tail_width");
+            return cx.fail(
+                &b.referenced,
+                "outline.tail_end_width",
+                format!(
+                    "is {}, not narrower than the tail width {}",
+                    show(2.0 * e),
+                    show(tail_width)
+                ),
+                "the tail narrows from T12 to its end: make the tail end narrower than tail_width",
+            );
         }
-        let nose_pts = vec![(0.0, 0.0), (d12, 0.5 * nose_width), (xw, 0.5 * width)];
-        let tail_pts = vec![
+        let mut nose_pts = vec![(0.0, 0.0), (d12, 0.5 * nose_width), (xw, 0.5 * width)];
+        // A pointed nose left to its own curve runs nearly straight to the
+        // tip (about 0.56 of N12 wide 6 in back); noses are drawn fuller,
+        // about 0.7 (common practice, from memory).
+        let nose_full = match (&o.nose_fullness, o.nose) {
+            (Some(f), _) => Some(fullness(cx, f, "outline.nose_fullness", "nose_width")?),
+            (None, NoseShape::Pointed) => Some(0.7),
+            (None, NoseShape::Round) => None,
+        };
+        if let Some(f) = nose_full {
+            nose_pts.insert(1, (0.5 * d12, f * 0.5 * nose_width));
+        }
+        let mut tail_pts = vec![
             (xw, 0.5 * width),
             (l - d12, 0.5 * tail_width),
             (x_end, end_half),
         ];
+        if let Some(f) = &o.tail_fullness {
+            if shape.has_end_width() {
+                return cx.fail(
+                    &f.referenced,
+                    "outline.tail_fullness",
+                    format!("does not apply: a {name} tail ends {} wide (tail_end_width)", show(2.0 * end_half)),
+                    "tail_fullness shapes tails that close to a point (round, pin, rounded pin); remove it",
+                );
+            }
+            let f = fullness(cx, f, "outline.tail_fullness", "tail_width")?;
+            tail_pts.insert(2, (l - 0.5 * d12, f * 0.5 * tail_width));
+        }
         (xw, nose_pts, tail_pts)
     } else {
+        for (field, v) in [
+            ("outline.nose_fullness", &o.nose_fullness),
+            ("outline.tail_fullness", &o.tail_fullness),
+        ] {
+            cx.forbid(v, field, "outline.stations is given and rules the widths")?;
+        }
         for (field, v) in [
             ("outline.width", &o.width),
             ("outline.nose_width", &o.nose_width),
@@ -350,7 +388,7 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
                 &s.width.referenced,
                 &format!("outline.stations[{}].width", o.stations.len() - 1),
                 format!(
-                    "is {} at the tail's end, where the {name} tail makes the board {} wide (outline.tail_block)",
+                    "is {} at the tail's end, where the {name} tail makes the board {} wide (outline.tail_end_width)",
                     show(2.0 * w),
                     show(2.0 * end_half)
                 ),
@@ -417,10 +455,24 @@ pub(super) fn outline(cx: &Ctx, raw: &BoardFile, d12: f64) -> Res<Outline> {
                     &n.referenced,
                     "outline.notch_depth",
                     format!("the notch cuts through the outline {} from the nose, deeper than the tail allows", show(x)),
-                    "make the notch shallower or the tail block wider",
+                    "make the notch shallower or the tail end wider",
                 );
             }
         }
     }
     Ok(outline)
+}
+
+/// A fullness: the width halfway to a tip station as a share of the width
+/// at the station.
+fn fullness(cx: &Ctx, f: &Spanned<f64>, field: &str, of: &str) -> Res<f64> {
+    if !(f.value > 0.3 && f.value < 1.0) {
+        return cx.fail(
+            &f.referenced,
+            field,
+            format!("is {}; it must be over 0.3 and under 1", f.value),
+            format!("the width halfway from the tip to where {of} is measured, as a share of {of}: about 0.7 for a modern nose"),
+        );
+    }
+    Ok(f.value)
 }

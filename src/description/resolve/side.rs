@@ -80,7 +80,7 @@ pub(super) fn rocker(cx: &Ctx, raw: &BoardFile) -> Res<Curve> {
     // Default exponents: a continuous rocker with more lift near the tips
     // (common practice, no source).
     let pn = exponent(&r.nose_curve, "rocker.nose_curve", 2.6)?;
-    let pt = exponent(&r.tail_curve, "rocker.tail_curve", 2.2)?;
+    let pt = exponent(&r.tail_curve, "rocker.tail_curve", 3.0)?;
     let steps = 32;
     let mut pts = Vec::with_capacity(2 * steps + 1);
     for i in 0..steps {
