@@ -180,8 +180,10 @@ fn report_prints_json_and_writes_nothing() {
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     assert_eq!(v["name"], "saltgrass-longboard-9-4");
     assert!(v["stl"].is_null());
-    // Stations every 6 in from the nose over 9'4" = 112 in: 19 rows + the tail.
-    assert_eq!(v["stations"].as_array().unwrap().len(), 20);
+    // Stations every 6 in from the nose over 9'4" = 112 in: 19 rows, the
+    // tail-width station (12 in from the tail, 100 in, not on the 6 in grid)
+    // and the tail.
+    assert_eq!(v["stations"].as_array().unwrap().len(), 21);
     assert!(files_under(dir.path()).is_empty());
     let o = run(&["report", board.to_str().unwrap()], dir.path());
     let out = text(&o.stdout);

@@ -98,17 +98,45 @@ impl Station {
             superellipse(v, ROLL_EXPONENTS.0),
             superellipse(v, ROLL_EXPONENTS.1),
         );
-        // superellipse(v, n) rises with n: bisect in log n.
-        let (mut lo, mut hi) = (ROLL_EXPONENTS.0.ln(), ROLL_EXPONENTS.1.ln());
-        for _ in 0..48 {
-            let mid = 0.5 * (lo + hi);
-            if superellipse(v, mid.exp()) < s {
-                lo = mid;
+        // superellipse(v, n) rises with n: regula falsi in log n with the
+        // Illinois step (Dowell and Jarratt 1971), which keeps the bracket
+        // and converges superlinearly.
+        let g = |ln: f64| superellipse(v, ln.exp()) - s;
+        let (mut a, mut b) = (ROLL_EXPONENTS.0.ln(), ROLL_EXPONENTS.1.ln());
+        let (mut ga, mut gb) = (g(a), g(b));
+        let mut side = 0;
+        let mut x = a;
+        for _ in 0..60 {
+            if ga >= 0.0 {
+                x = a;
+                break;
+            }
+            if gb <= 0.0 {
+                x = b;
+                break;
+            }
+            x = (a * gb - b * ga) / (gb - ga);
+            let gx = g(x);
+            if gx.abs() < 1e-13 || (b - a) < 1e-13 {
+                break;
+            }
+            if gx < 0.0 {
+                a = x;
+                ga = gx;
+                if side == -1 {
+                    gb *= 0.5;
+                }
+                side = -1;
             } else {
-                hi = mid;
+                b = x;
+                gb = gx;
+                if side == 1 {
+                    ga *= 0.5;
+                }
+                side = 1;
             }
         }
-        self.rail.roll_exponent = (0.5 * (lo + hi)).exp();
+        self.rail.roll_exponent = x.exp();
     }
 
     /// The thinnest and thickest the rail can be at its gauge here, with the
@@ -154,6 +182,11 @@ impl Station {
     /// Where the bottom edge is, out from the stringer.
     pub fn edge_y(&self) -> f64 {
         self.half_width - self.rail.tuck
+    }
+
+    /// Fraction of the half-width at the bottom edge.
+    pub fn u_edge(&self) -> f64 {
+        self.u_at(self.edge_y())
     }
 
     /// Height of the bottom edge over the rail line at the stringer.

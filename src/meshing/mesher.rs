@@ -54,12 +54,29 @@ struct Ring {
     profile: RailProfile,
 }
 
+/// Where a rounded section's break (the bottom edge, the roll line) sits on
+/// the ring: every station puts it at this parameter, so the refinement
+/// that a break needs is shared by all stations instead of repeated at a
+/// slightly different place for each.
+const BREAK: f64 = 0.5;
+
 impl Ring {
-    fn u(&self, st: &Station, p: f64) -> f64 {
+    /// Fraction of the half-width at ring parameter `p`, for a curve whose
+    /// break is at `at` out from the stringer: the stringer (or notch edge)
+    /// to the break over [0, BREAK], the break to the apex over [BREAK, 1],
+    /// points crowding towards the apex.
+    fn u(&self, st: &Station, p: f64, at: f64) -> f64 {
         let u0 = st.u_start();
-        let t = match self.profile {
-            RailProfile::Rounded => 1.0 - (1.0 - p) * (1.0 - p),
-            RailProfile::Square => p,
+        if self.profile == RailProfile::Square || st.half_width <= 0.0 {
+            return u0 + (1.0 - u0) * p;
+        }
+        // The break stays strictly inside the span, so no two points meet.
+        let f = ((at / st.half_width - u0) / (1.0 - u0)).clamp(0.05, 0.98);
+        let t = if p <= BREAK {
+            f * p / BREAK
+        } else {
+            let q = (p - BREAK) / (1.0 - BREAK);
+            f + (1.0 - f) * (1.0 - (1.0 - q) * (1.0 - q))
         };
         u0 + (1.0 - u0) * t
     }
@@ -83,7 +100,7 @@ impl Ring {
         if self.profile == RailProfile::Square && p >= 1.0 {
             st.square_corners().0
         } else {
-            st.lower(self.u(st, p))
+            st.lower(self.u(st, p, st.edge_y()))
         }
     }
 
@@ -91,7 +108,7 @@ impl Ring {
         if self.profile == RailProfile::Square && p >= 1.0 {
             st.square_corners().1
         } else {
-            st.upper(self.u(st, p))
+            st.upper(self.u(st, p, st.half_width - st.rail.roll))
         }
     }
 

@@ -26,6 +26,10 @@ pub struct StationRow {
     pub deck_mm: f64,
     /// Rail apex height above the flat, mm.
     pub apex_mm: f64,
+    /// Rail thickness 1 in (the description's gauge) in from the edge, mm.
+    pub rail_mm: f64,
+    /// Height of the rail's outermost point above the bottom edge, mm.
+    pub apex_above_edge_mm: f64,
 }
 
 /// Litres in one piece of the length.
@@ -71,8 +75,11 @@ pub struct Report {
     pub nose_rocker_mm: f64,
     /// Tail rocker, mm.
     pub tail_rocker_mm: f64,
-    /// Angle of the bottom at the tail, degrees.
+    /// Angle of the bottom at the tail: the tangent at the tip, degrees.
     pub tail_exit_angle_deg: f64,
+    /// Angle of the chord of the rocker over the last `tip_station_mm`
+    /// (12 in), degrees.
+    pub tail_exit_chord_deg: f64,
     /// Tail shape.
     pub tail: String,
     /// (a) Volume by the divergence theorem on the mesh, litres.
@@ -118,24 +125,33 @@ pub struct Report {
     pub stl_clean: Option<bool>,
 }
 
-/// Measurements every `step` mm from the nose, and at the tail.
+/// Measurements every `step` mm from the nose, at the tail-width station
+/// (12 in from the tail, where the trade measures a tail) and at the tail.
 pub fn measurements(board: &Board, step: f64) -> Vec<StationRow> {
     let mut xs: Vec<f64> = (0..)
         .map(|i| i as f64 * step)
         .take_while(|&x| x < board.length - 1e-6)
         .collect();
+    let t12 = board.length - board.tip_station;
+    if !xs.iter().any(|x| (x - t12).abs() < 0.5) {
+        xs.push(t12);
+    }
     xs.push(board.length);
+    xs.sort_by(f64::total_cmp);
     xs.into_iter()
         .map(|x| {
             let st = board.station(x);
             let thickness = board.thickness(x);
+            let bottom = st.lower(0.0)[1];
             StationRow {
                 from_nose_mm: x,
                 width_mm: 2.0 * st.half_width,
                 thickness_mm: thickness,
-                bottom_mm: st.bottom,
-                deck_mm: st.bottom + thickness,
+                bottom_mm: bottom,
+                deck_mm: bottom + thickness,
                 apex_mm: st.apex_height(),
+                rail_mm: st.thickness_at(board.rails.gauge),
+                apex_above_edge_mm: st.apex_height() - st.lower(st.u_edge())[1],
             }
         })
         .collect()
@@ -181,6 +197,9 @@ impl Report {
             nose_rocker_mm: board.rocker.eval(0.0),
             tail_rocker_mm: board.rocker.eval(l),
             tail_exit_angle_deg: slope.atan().to_degrees(),
+            tail_exit_chord_deg: ((board.rocker.eval(l) - board.rocker.eval(l - d)) / d)
+                .atan()
+                .to_degrees(),
             tail: board.outline.tail_shape.name().to_string(),
             volume_litres: c.certificate.mesh_litres,
             volume_litres_surface: c.certificate.surface_litres,
@@ -215,10 +234,10 @@ impl Report {
     /// The key figures, for the terminal.
     pub fn summary(&self) -> String {
         let mut s = String::new();
-        let d = if (self.tip_station_mm - 300.0).abs() < 1e-9 {
-            "300 mm"
+        let d = if (self.tip_station_mm - MM_PER_FOOT).abs() < 1e-9 {
+            "12 in".to_string()
         } else {
-            "12 in"
+            Both(self.tip_station_mm).to_string()
         };
         let _ = writeln!(s, "{}", self.name);
         let _ = writeln!(s, "  length       {} (flat)", Both(self.length_mm));
@@ -237,10 +256,11 @@ impl Report {
         let _ = writeln!(s, "  thickness    {}", Both(self.thickness_mm));
         let _ = writeln!(
             s,
-            "  rocker       nose {}, tail {}, tail exit {:.1}°",
+            "  rocker       nose {}, tail {}, tail exit {:.1}° at the tip, {:.1}° over the last {d}",
             Both(self.nose_rocker_mm),
             Both(self.tail_rocker_mm),
-            self.tail_exit_angle_deg
+            self.tail_exit_angle_deg,
+            self.tail_exit_chord_deg
         );
         let _ = writeln!(s, "  tail         {}", self.tail);
         let _ = writeln!(s, "  volume       {:.2} L", self.volume_litres);
@@ -334,17 +354,17 @@ impl Report {
         let mut s = String::new();
         let _ = writeln!(
             s,
-            "measurements at stations (heights above the flat the board rests on; at the stringer)"
+            "measurements at stations (heights above the flat the board rests on, at the stringer; the rail 1 in from the edge, its apex above the bottom edge)"
         );
         let _ = writeln!(
             s,
-            "  {:>16}  {:>18}  {:>17}  {:>17}  {:>17}  {:>17}",
-            "from nose", "width", "thickness", "bottom (rocker)", "deck", "rail apex"
+            "  {:>16}  {:>18}  {:>17}  {:>17}  {:>17}  {:>17}  {:>17}",
+            "from nose", "width", "thickness", "rail", "apex over edge", "bottom (rocker)", "deck"
         );
         for r in &self.stations {
             let _ = writeln!(
                 s,
-                "  {:>16}  {:>18}  {:>17}  {:>17}  {:>17}  {:>17}",
+                "  {:>16}  {:>18}  {:>17}  {:>17}  {:>17}  {:>17}  {:>17}",
                 format!(
                     "{:.0} mm {}",
                     r.from_nose_mm,
@@ -352,9 +372,10 @@ impl Report {
                 ),
                 dual(r.width_mm),
                 dual(r.thickness_mm),
+                dual(r.rail_mm),
+                dual(r.apex_above_edge_mm),
                 dual(r.bottom_mm),
                 dual(r.deck_mm),
-                dual(r.apex_mm),
             );
         }
         let _ = writeln!(s, "litres per foot from the nose");
