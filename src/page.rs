@@ -4,6 +4,7 @@
 use std::fmt::Write as _;
 
 use crate::gcode::program::{self, CutPlan};
+use crate::model::board::{Board, RailProfile};
 use crate::model::toolpath::Step;
 use crate::toolpath::setup::flip;
 use crate::units::Both;
@@ -138,6 +139,8 @@ pub struct BoardPage<'a> {
     pub cut: CutSection<'a>,
     /// Deviation SVGs per setup.
     pub deviations: Vec<&'a str>,
+    /// Close-ups of the rail at true scale (an inline SVG), if drawn.
+    pub rails: String,
     /// Every file of the board's folder (names relative to it).
     pub files: Vec<String>,
 }
@@ -201,6 +204,9 @@ pub fn board_page(p: &BoardPage) -> String {
     s.push_str(&litres_chart(r));
     for (title, svg) in &p.templates {
         let _ = write!(s, "<h2>{}</h2>{}", esc(title), inline_svg(svg));
+        if title.starts_with("Sections") && !p.rails.is_empty() {
+            let _ = write!(s, "<h3>The rail, close up</h3>{}", p.rails);
+        }
     }
     match &p.cut {
         CutSection::Done { plan, verification } => {
@@ -298,5 +304,82 @@ pub fn run_page(rows: &[Row]) -> String {
         );
     }
     s.push_str("</table></body></html>\n");
+    s
+}
+
+/// The outer 3 in of the section at the wide point and at the tail-width
+/// station, at true scale (millimetres on the page), with the rail's
+/// thickness 1 in from the edge and the apex's height above the bottom edge
+/// marked as the report measures them. Empty for square rails.
+pub fn rail_closeups(board: &Board) -> String {
+    if board.rails.profile == RailProfile::Square {
+        return String::new();
+    }
+    let gauge = board.rails.gauge;
+    let span = 3.0 * crate::units::MM_PER_INCH;
+    let mut s = String::new();
+    for (name, x) in [
+        ("at the wide point", board.outline.wide_point),
+        (
+            "at the tail-width station",
+            board.length - board.tip_station,
+        ),
+    ] {
+        let st = board.station(x);
+        let w = st.half_width;
+        if w <= 0.0 {
+            continue;
+        }
+        let from = ((w - span) / w).max(st.u_start());
+        let n = 240;
+        let u = |k: usize| from + (1.0 - from) * (1.0 - (1.0 - k as f64 / n as f64).powi(2));
+        let mut pts: Vec<[f64; 2]> = (0..n).map(|k| st.lower(u(k))).collect();
+        pts.push(st.apex_point());
+        pts.extend((0..n).rev().map(|k| st.upper(u(k))));
+        let y0 = w - span;
+        let z0 = pts.iter().map(|p| p[1]).fold(f64::INFINITY, f64::min);
+        let z1 = pts.iter().map(|p| p[1]).fold(f64::NEG_INFINITY, f64::max);
+        let (mx, my) = (30.0, 12.0);
+        let (vw, vh) = (span + mx + 70.0, z1 - z0 + 2.0 * my);
+        // Page y runs down: a height z sits at vh - my - (z - z0).
+        let px = |y: f64| y - y0 + mx;
+        let py = |z: f64| vh - my - (z - z0);
+        let path: Vec<String> = pts
+            .iter()
+            .map(|p| format!("{:.3},{:.3}", px(p[0]), py(p[1])))
+            .collect();
+        let yg = w - gauge;
+        let (gl, gu) = (st.lower(yg / w)[1], st.upper(yg / w)[1]);
+        let apex = st.apex_height();
+        let edge = st.lower(st.u_edge())[1];
+        let _ = write!(
+            s,
+            "<figure><svg class=\"fig\" xmlns=\"http://www.w3.org/2000/svg\" width=\"{vw:.1}mm\" height=\"{vh:.1}mm\" viewBox=\"0 0 {vw:.1} {vh:.1}\" font-family=\"sans-serif\">\
+<polyline points=\"{}\" fill=\"#e8eef6\" stroke=\"#222\" stroke-width=\"0.3\"/>\
+<line x1=\"{gx:.2}\" y1=\"{:.2}\" x2=\"{gx:.2}\" y2=\"{:.2}\" stroke=\"#c03\" stroke-width=\"0.4\"/>\
+<text x=\"{gx:.2}\" y=\"{:.2}\" font-size=\"3\" fill=\"#c03\" text-anchor=\"middle\">rail {} at {} in</text>\
+<line x1=\"{:.2}\" y1=\"{ay:.2}\" x2=\"{:.2}\" y2=\"{ay:.2}\" stroke=\"#06c\" stroke-width=\"0.3\"/>\
+<line x1=\"{:.2}\" y1=\"{ey:.2}\" x2=\"{:.2}\" y2=\"{ey:.2}\" stroke=\"#06c\" stroke-width=\"0.3\"/>\
+<text x=\"{:.2}\" y=\"{:.2}\" font-size=\"3\" fill=\"#06c\">apex {} above the edge</text>\
+</svg><figcaption>The rail {name}, {} from the nose, at true scale (the outer 3 in of the half-section; the stringer is off to the left).</figcaption></figure>",
+            path.join(" "),
+            py(gl),
+            py(gu),
+            py(gu) - 2.0,
+            Both(gu - gl),
+            Both(gauge),
+            px(w) - 12.0,
+            px(w) + 4.0,
+            px(st.edge_y()) - 4.0,
+            px(w) + 4.0,
+            px(w) + 6.0,
+            0.5 * (py(apex) + py(edge)) + 1.0,
+            Both(apex - edge),
+            Both(x),
+            gx = px(yg),
+            ay = py(apex),
+            ey = py(edge),
+        );
+    }
     s
 }

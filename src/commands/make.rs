@@ -111,7 +111,13 @@ pub fn make(
             Err(None) => crate::page::CutSection::Skipped,
             Err(Some(e)) => crate::page::CutSection::Failed(e.to_string()),
         };
-        board_page(&report, section, &files, &dir)
+        board_page(
+            &report,
+            section,
+            &files,
+            &dir,
+            crate::page::rail_closeups(&board),
+        )
     };
     files.push((dir.join("index.html"), page.into_bytes()));
     let named: Vec<(String, Vec<u8>)> = files
@@ -160,6 +166,7 @@ pub(crate) fn board_page(
     cut: crate::page::CutSection,
     files: &Files,
     dir: &Path,
+    rails: String,
 ) -> String {
     let text = |suffix: &str| -> Option<&str> {
         files
@@ -193,6 +200,7 @@ pub(crate) fn board_page(
         templates,
         cut,
         deviations,
+        rails,
         files: names,
     })
 }
