@@ -316,7 +316,8 @@ impl Station {
         }
         let r = &self.rail;
         let t = self.stringer_rise() + self.thickness;
-        // Deck: the dome out to the roll line, then the roll.
+        // Deck: the dome out to the roll line, then the roll (in closed
+        // form unless a swallow's notch cuts into it).
         let shoulder = w - r.roll;
         let mut deck = 0.0;
         if y0 < shoulder {
@@ -329,19 +330,26 @@ impl Station {
             let drop = t - self.dome - apex;
             let n = r.roll_exponent;
             let s0 = (1.0 - v0).powf(1.0 / n);
-            let shape = quadrature::integrate(
-                |s| {
-                    let sn1 = s.powf(n - 1.0);
-                    let w = sn1 * s;
-                    // 1 − vⁿ for v = 1 − w, without cancellation when w is small.
-                    let one_minus = -(n * (-w).ln_1p()).exp_m1();
-                    one_minus.max(0.0).powf(1.0 / n) * n * sn1
-                },
-                &[0.0, s0],
-                1e-12,
-                500,
-            )
-            .value;
+            let shape = if v0 <= 0.0 {
+                // The whole quadrant: Γ(1 + 1/n)² / Γ(1 + 2/n), the area of
+                // the unit Lamé curve's quadrant (e.g. Weisstein, MathWorld
+                // "Superellipse").
+                libm::tgamma(1.0 + 1.0 / n).powi(2) / libm::tgamma(1.0 + 2.0 / n)
+            } else {
+                quadrature::integrate(
+                    |s| {
+                        let sn1 = s.powf(n - 1.0);
+                        let w = sn1 * s;
+                        // 1 − vⁿ for v = 1 − w, without cancellation when w is small.
+                        let one_minus = -(n * (-w).ln_1p()).exp_m1();
+                        one_minus.max(0.0).powf(1.0 / n) * n * sn1
+                    },
+                    &[0.0, s0],
+                    1e-10,
+                    500,
+                )
+                .value
+            };
             let tilt = r.tilt * r.roll * (0.5 * (1.0 - v0 * v0) - (1.0 - v0.powi(3)) / 3.0);
             deck += r.roll * (apex * (1.0 - v0) + drop * shape + tilt);
         }
@@ -355,7 +363,7 @@ impl Station {
             let rise = quadrature::integrate(
                 |s| edge_rise(1.0 - s * s, r.edge) * 2.0 * s,
                 &[0.0, s0],
-                1e-12,
+                1e-10,
                 500,
             )
             .value;
