@@ -689,3 +689,46 @@ fn a_rockered_blank_too_thin_is_refused_saying_by_how_much() {
         .to_string();
     assert!(e.contains("rocker:") && e.contains("short"), "{e}");
 }
+
+/// Feed moves stay within the stock's height plus a small margin (2 mm
+/// over the highest top within the tool's radius and a millimetre: the
+/// outline starts 1 mm over the stock, and its last lap follows the parting
+/// floor, which over a pre-rockered blank's concave stands about 1 mm clear
+/// of the blank), so no
+/// feed cuts air above the block and none rises to the rapid plane (the
+/// outline spiral used to climb 25 mm over the block near the nose, where
+/// the rocker lifts the floor); rapids across the stock clear its top (the
+/// test above), so they pass over every feed.
+#[test]
+fn feeds_stay_in_the_stock() {
+    for c in [shortboard(), rockered()] {
+        let b = &c.plan.placement.block;
+        for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
+            for path in &c.plan.setups[k].paths {
+                let reach = path.pass.tool.cutter.radius + 1.0;
+                for s in &path.steps {
+                    let p = match *s {
+                        Step::Plunge(p) | Step::Cut(p) => p,
+                        Step::Arc { to, .. } => to,
+                        Step::Rapid(_) => continue,
+                    };
+                    let n = (2.0 * reach).ceil() as usize;
+                    let top = (0..=n)
+                        .map(|i| (p[0] - reach + i as f64).min(p[0] + reach))
+                        .map(|x| b.top_under(side == Side::Deck, x.clamp(0.0, b.length)).0)
+                        .fold(f64::NEG_INFINITY, f64::max)
+                        + b.allowance();
+                    assert!(
+                        p[2] <= top + 2.0,
+                        "setup {} {}: feed at Z {} over a stock top of {top} at X {}",
+                        k + 1,
+                        path.label,
+                        p[2],
+                        p[0]
+                    );
+                    assert!(p[2] < c.machine.clearance, "{}", path.label);
+                }
+            }
+        }
+    }
+}

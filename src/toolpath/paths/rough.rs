@@ -251,11 +251,15 @@ pub(super) fn outline(ctx: &Ctx) -> Toolpath {
         let laps = (rise / pass.stepdown).ceil().max(1.0) as usize;
         let n = pts.len();
         let lap_len = n as f64;
+        // Each point descends from no higher than 1 mm over the stock left
+        // there: where the floor rises along the loop (the rocker, a
+        // concave), the spiral does not cut air above the block.
         let z_of = |k: usize, lap: usize| {
             let p = pts[k];
             let floor = ctx.floor(p[0]);
             let descent = rise * (1.0 - ((lap * n + k) as f64 / (laps as f64 * lap_len)).min(1.0));
-            let z = floor + descent;
+            let top = ctx.stock_top(p[0], p[1], r + 1.0) + 1.0;
+            let z = (floor + descent).min(top.max(floor));
             dc.drop(p[0], p[1]).map_or(z, |d| z.max(d))
         };
         let s = pts[0];
