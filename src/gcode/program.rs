@@ -5,6 +5,7 @@
 use std::io::BufReader;
 
 use crate::gcode::read::{self, Event, Motion, ReadOptions};
+use crate::gcode::timing;
 use crate::gcode::write::{self, CAUTIONS, Header};
 use crate::model::job::Job;
 use crate::model::limits::Bed;
@@ -264,12 +265,14 @@ fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {
     }
 }
 
-/// Run time: feed moves at their feed (limited by the machine's Z rate on
-/// steep moves), rapids at the machine's rapid rates with the axes moving
-/// together, plus the spindle dwell.
+/// Run time: a velocity plan over every move with the machine's axis
+/// speeds and accelerations ([`timing`]): feed moves at most at their feed
+/// (and the machine's Z feed on steep moves), rapids as fast as the axes go
+/// together; plus the spindle's ramp.
 fn estimate(paths: &[&Toolpath], m: &Machine) -> (f64, f64) {
     let mut at = [0.0, 0.0, m.clearance];
-    let (mut t, mut len) = (m.spindle_ramp, 0.0);
+    let mut len = 0.0;
+    let mut moves = Vec::new();
     for p in paths {
         for s in &p.steps {
             let (to, feed, arc) = match *s {
@@ -278,32 +281,39 @@ fn estimate(paths: &[&Toolpath], m: &Machine) -> (f64, f64) {
                 Step::Cut(to) => (to, Some(p.pass.feed), None),
                 Step::Arc { to, centre, .. } => (to, Some(p.pass.feed), Some(centre)),
             };
-            let dxy = match arc {
+            let radius = arc.map(|c| ((at[0] - c[0]).powi(2) + (at[1] - c[1]).powi(2)).sqrt());
+            let dxy = match radius {
                 // Full turns: the helix length is 2πr a turn.
-                Some(c) => {
-                    2.0 * std::f64::consts::PI
-                        * ((at[0] - c[0]).powi(2) + (at[1] - c[1]).powi(2)).sqrt()
-                }
+                Some(r) => 2.0 * std::f64::consts::PI * r,
                 None => ((to[0] - at[0]).powi(2) + (to[1] - at[1]).powi(2)).sqrt(),
             };
-            let dz = (to[2] - at[2]).abs();
+            let dz = to[2] - at[2];
             let d = (dxy * dxy + dz * dz).sqrt();
             len += d;
-            t += match feed {
-                None => (dxy / m.rapid_xy).max(dz / m.rapid_z) * 60.0,
-                Some(f) => {
-                    let f = if d > 0.0 {
-                        f.min(m.max_feed_z * d / dz.max(1e-12))
-                    } else {
-                        f
-                    };
-                    d / f * 60.0
-                }
-            };
+            if d > 0.0 {
+                let dir = match radius {
+                    Some(_) => [dxy / d, 0.0, dz / d],
+                    None => [(to[0] - at[0]) / d, (to[1] - at[1]) / d, dz / d],
+                };
+                let speed = match feed {
+                    None => f64::INFINITY,
+                    Some(f) => f.min(m.max_feed_z * d / dz.abs().max(1e-12)) / 60.0,
+                };
+                moves.push(timing::Move {
+                    dir,
+                    length: d,
+                    speed,
+                    radius,
+                });
+            }
             at = to;
         }
     }
-    (t, len)
+    let limits = timing::Limits {
+        speed: [m.rapid_xy / 60.0, m.rapid_xy / 60.0, m.rapid_z / 60.0],
+        accel: m.accel,
+    };
+    (m.spindle_ramp + timing::run_time(&moves, &limits), len)
 }
 
 /// The safety gates, on the program text as written: reads it back with

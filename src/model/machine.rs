@@ -181,6 +181,8 @@ pub struct Machine {
     pub rapid_xy: f64,
     /// Rapid rate in Z.
     pub rapid_z: f64,
+    /// Acceleration of each axis (X, Y, Z), mm/s², for run-time estimates.
+    pub accel: [f64; 3],
     /// Slowest spindle speed, rpm.
     pub spindle_min: f64,
     /// Fastest spindle speed, rpm.

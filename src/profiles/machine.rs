@@ -200,12 +200,29 @@ struct MachineFile {
     spoilboard_allowance: Option<Spanned<LengthValue>>,
     max_feed: FeedPair,
     rapid: FeedPair,
+    #[serde(default)]
+    acceleration: Option<Spanned<Accel>>,
     spindle: SpindleRange,
     clearance: Spanned<LengthValue>,
     #[serde(default)]
     tool_changer: bool,
     tools: Spanned<Vec<ToolSpec>>,
 }
+
+/// `acceleration: {x: .., y: .., z: ..}`, in the file's units per second
+/// squared.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct Accel {
+    x: Spanned<f64>,
+    y: Spanned<f64>,
+    z: Spanned<f64>,
+}
+
+/// Axis accelerations when a profile gives none, mm/s²: a light gantry
+/// router's (common practice, from memory; check your machine's manual or
+/// its controller's settings).
+pub const DEFAULT_ACCEL: [f64; 3] = [1000.0, 1000.0, 500.0];
 
 /// Reads values with the file's text at hand for located errors.
 pub(crate) struct Reader<'a> {
@@ -420,6 +437,31 @@ fn resolve_machine(raw: MachineFile, text: &str, file: &str) -> Result<Machine, 
         )?,
         None => 5.0,
     };
+    let per = raw.units.value.mm();
+    let accel = match &raw.acceleration {
+        Some(a) => {
+            let mut out = [0.0; 3];
+            for (k, (v, field)) in [
+                (&a.value.x, "acceleration.x"),
+                (&a.value.y, "acceleration.y"),
+                (&a.value.z, "acceleration.z"),
+            ]
+            .into_iter()
+            .enumerate()
+            {
+                out[k] = per
+                    * r.number(
+                        v,
+                        field,
+                        10.0 / per,
+                        50_000.0 / per,
+                        "the axis's acceleration in the file's units per second squared, from the machine's manual or its controller (e.g. LinuxCNC's MAX_ACCELERATION)",
+                    )?;
+            }
+            out
+        }
+        None => DEFAULT_ACCEL,
+    };
     let clearance = r.length(
         &raw.clearance,
         "clearance",
@@ -561,6 +603,7 @@ fn resolve_machine(raw: MachineFile, text: &str, file: &str) -> Result<Machine, 
         max_feed_z,
         rapid_xy,
         rapid_z,
+        accel,
         spindle_min,
         spindle_max,
         spindle_ramp,

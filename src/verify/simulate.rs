@@ -8,6 +8,7 @@
 use std::io::BufRead;
 
 use crate::gcode::read::{self, Event, GcodeError, Motion, ReadOptions};
+use crate::gcode::timing;
 use crate::geom::dropcutter::DropCutter;
 use crate::model::job::Block;
 use crate::model::limits::Bed;
@@ -425,6 +426,7 @@ pub fn verify(
                 metas.clear();
             };
         let mut at = [0.0, 0.0, m.clearance];
+        let mut moves: Vec<timing::Move> = Vec::new();
         let rd = read::read(
             src.reader,
             &name,
@@ -471,10 +473,17 @@ pub fn verify(
                     let dxy = (d[0] * d[0] + d[1] * d[1]).sqrt();
                     let len = (dxy * dxy + d[2] * d[2]).sqrt();
                     report.path_length_mm += len;
-                    report.time_estimate_s += match motion {
-                        Motion::Rapid => (dxy / m.rapid_xy).max(d[2].abs() / m.rapid_z) * 60.0,
-                        _ => len / feed.min(m.max_feed_xy).max(1e-9) * 60.0,
-                    };
+                    if len > 0.0 {
+                        moves.push(timing::Move {
+                            dir: [d[0] / len, d[1] / len, d[2] / len],
+                            length: len,
+                            speed: match motion {
+                                Motion::Rapid => f64::INFINITY,
+                                _ => feed.min(m.max_feed_xy).max(1e-9) / 60.0,
+                            },
+                            radius: None,
+                        });
+                    }
                     if motion != Motion::Rapid {
                         for why in bed.feed(from, to, feed) {
                             findings.push(Kind::Limit, line, why, [to[0], to[1]]);
@@ -524,6 +533,14 @@ pub fn verify(
                 hint: "give --tool KIND:DIAMETER (e.g. ball:12.7mm), or a T word listed in the machine profile".into(),
             });
         }
+        // The moves' run time with the machine's accelerations.
+        report.time_estimate_s += timing::run_time(
+            &moves,
+            &timing::Limits {
+                speed: [m.rapid_xy / 60.0, m.rapid_xy / 60.0, m.rapid_z / 60.0],
+                accel: m.accel,
+            },
+        );
         report.lines = summary.lines;
         report.removed_volume_litres = (before - map.volume()) / 1e6;
         v.time_estimate_s += report.time_estimate_s;
