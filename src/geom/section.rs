@@ -284,10 +284,11 @@ impl Station {
     /// from the continuous curves, independent of any mesh.
     ///
     /// Deck and bottom are integrated apart. The dome is a parabola
-    /// (integrated exactly); the roll is a superellipse, integrated after the
-    /// substitution v = 1 − sⁿ for its exponent n, which removes its infinite
-    /// slope at the apex; the edge curve after v = 1 − s², for the same
-    /// reason. Gauss-Kronrod then converges in a few panels.
+    /// (integrated exactly); the roll is a superellipse quadrant, in closed
+    /// form (Gamma functions) or, where a notch cuts into it, integrated
+    /// after the substitution v = 1 − sⁿ for its exponent n, which removes
+    /// its infinite slope at the apex; the edge curve after v = 1 − s², for
+    /// the same reason. Gauss-Kronrod then converges in a few panels.
     pub fn area(&self) -> f64 {
         let (w, y0) = (self.half_width, self.inner.max(0.0));
         if w <= 0.0 || self.closing <= 0.0 || y0 >= w {
