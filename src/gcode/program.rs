@@ -309,11 +309,10 @@ fn estimate(paths: &[&Toolpath], m: &Machine) -> (f64, f64) {
             at = to;
         }
     }
-    let limits = timing::Limits {
-        speed: [m.rapid_xy / 60.0, m.rapid_xy / 60.0, m.rapid_z / 60.0],
-        accel: m.accel,
-    };
-    (m.spindle_ramp + timing::run_time(&moves, &limits), len)
+    (
+        m.spindle_ramp + timing::run_time(&moves, &timing::Limits::of(m)),
+        len,
+    )
 }
 
 /// The safety gates, on the program text as written: reads it back with

@@ -16,6 +16,9 @@
 //! the allowance). Time for one move of length L from rest to rest at
 //! speed v and acceleration a: L/v + v/a when L ≥ v²/a, else 2√(L/a).
 
+use crate::model::machine::Machine;
+use crate::model::mesh::dot;
+
 /// One straight (or helical) move for the planner.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Move {
@@ -39,6 +42,15 @@ pub struct Limits {
 }
 
 impl Limits {
+    /// A machine's: its rapid rates as each axis's top speed (mm/min to
+    /// mm/s) and its accelerations.
+    pub fn of(m: &Machine) -> Limits {
+        Limits {
+            speed: [m.rapid_xy / 60.0, m.rapid_xy / 60.0, m.rapid_z / 60.0],
+            accel: m.accel,
+        }
+    }
+
     /// The most a move along `dir` may reach: each axis's limit divided by
     /// that axis's share of the move.
     fn along(&self, dir: [f64; 3], per_axis: [f64; 3]) -> f64 {
@@ -96,8 +108,7 @@ pub fn run_time(moves: &[Move], limits: &Limits) -> f64 {
     let mut blends = vec![false; n];
     for i in 1..n {
         let (p, q) = (&moves[i - 1], &moves[i]);
-        let cos =
-            (p.dir[0] * q.dir[0] + p.dir[1] * q.dir[1] + p.dir[2] * q.dir[2]).clamp(-1.0, 1.0);
+        let cos = dot(p.dir, q.dir).clamp(-1.0, 1.0);
         let turn = cos.acos();
         let v = top[i - 1].min(top[i]);
         corner[i] = if turn < 1e-9 {

@@ -7,7 +7,7 @@
 //! and its zero is again the top front-left corner.
 
 use crate::model::job::{Block, Job, Pitch};
-use crate::model::mesh::Mesh;
+use crate::model::mesh::{Mesh, cross, norm, sub};
 use crate::profiles::machine::mm_text;
 use crate::units;
 
@@ -352,16 +352,8 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     let mut high = vec![f64::NEG_INFINITY; bins + 1];
     for t in &part.triangles {
         let [a, b, c] = t.map(|v| part.vertices[v as usize]);
-        let (u, w) = (
-            [b[0] - a[0], b[1] - a[1], b[2] - a[2]],
-            [c[0] - a[0], c[1] - a[1], c[2] - a[2]],
-        );
-        let n = [
-            u[1] * w[2] - u[2] * w[1],
-            u[2] * w[0] - u[0] * w[2],
-            u[0] * w[1] - u[1] * w[0],
-        ];
-        let len = (n[0] * n[0] + n[1] * n[1] + n[2] * n[2]).sqrt();
+        let n = cross(sub(b, a), sub(c, a));
+        let len = norm(n);
         // Facing clearly down (a tail's end face or the apex band stands
         // near vertical and does not count).
         if n[2] >= -0.3 * len || n[2].is_nan() {

@@ -534,13 +534,7 @@ pub fn verify(
             });
         }
         // The moves' run time with the machine's accelerations.
-        report.time_estimate_s += timing::run_time(
-            &moves,
-            &timing::Limits {
-                speed: [m.rapid_xy / 60.0, m.rapid_xy / 60.0, m.rapid_z / 60.0],
-                accel: m.accel,
-            },
-        );
+        report.time_estimate_s += timing::run_time(&moves, &timing::Limits::of(m));
         report.lines = summary.lines;
         report.removed_volume_litres = (before - map.volume()) / 1e6;
         v.time_estimate_s += report.time_estimate_s;
