@@ -63,7 +63,8 @@ enum Command {
         #[arg(long)]
         ascii: bool,
     },
-    /// Print the measurement table at stations and the volume certificate.
+    /// Print the measurement table at stations, the volume certificate and
+    /// the tail pull estimate.
     Report {
         /// Board description (YAML).
         board: PathBuf,
@@ -73,6 +74,8 @@ enum Command {
         /// Chord tolerance of the mesh, mm.
         #[arg(long, default_value_t = DEFAULT_TOLERANCE)]
         tolerance: f64,
+        #[command(flatten)]
+        water: WaterOptions,
     },
     /// Inspect an STL file: closed? which way out? how many litres? Exit 1
     /// when it has findings.
@@ -174,6 +177,8 @@ enum Command {
         a: PathBuf,
         /// Second board (YAML or closed STL).
         b: PathBuf,
+        #[command(flatten)]
+        water: WaterOptions,
         /// Output folder for the overlay.
         #[arg(short, long, default_value = "out")]
         out: PathBuf,
@@ -290,6 +295,42 @@ enum Command {
     },
 }
 
+/// The tail pull estimate's assumptions (a rough momentum estimate: the
+/// water the bottom turns at the tail's exit angle).
+#[derive(clap::Args)]
+struct WaterOptions {
+    /// Board speed: 4 (m/s), 4m/s, 15km/h, 9mph or 8kn [default: 4 m/s].
+    #[arg(long, allow_hyphen_values = true)]
+    speed: Option<String>,
+    /// Thickness of the water layer the bottom turns (bare numbers mm)
+    /// [default: 2cm].
+    #[arg(long, allow_hyphen_values = true)]
+    water_depth: Option<String>,
+    /// Width of bottom turning it: a share of the width at the tail
+    /// station (12 in from the tail), e.g. 50%, or a width, e.g. 20cm
+    /// [default: 50%].
+    #[arg(long)]
+    water_width: Option<String>,
+    /// Water: fresh, salt, or a density in kg/m³ [default: salt].
+    #[arg(long)]
+    water: Option<String>,
+    /// Also estimate the pull at this exit angle, degrees (0 to 45).
+    #[arg(long, allow_hyphen_values = true)]
+    exit_angle: Option<f64>,
+}
+
+impl WaterOptions {
+    fn flags(self) -> jobs::WaterFlags {
+        jobs::WaterFlags {
+            speed: self.speed,
+            depth: self.water_depth,
+            width: self.water_width,
+            water: self.water,
+            angle: self.exit_angle,
+        }
+    }
+}
+
 fn finish(m: &Meshed, print_table: bool) -> ExitCode {
     say!("{}", m.report.summary());
     if print_table {
@@ -332,9 +373,11 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             board,
             json,
             tolerance,
+            water,
         } => {
-            let b = jobs::load(&Input::File(board))?;
-            let m = jobs::certify_only(b, tolerance)?;
+            let w = water.flags().water()?;
+            let b = jobs::load(&Input::File(board.clone()))?;
+            let m = jobs::report(b, tolerance, &w, &board)?;
             if json {
                 say!("{}", m.report.to_json());
                 Ok(if m.report.certified {
@@ -442,8 +485,8 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             say!("{}", jobs::resize_text(&r));
             Ok(ExitCode::SUCCESS)
         }
-        Command::Diff { a, b, out } => {
-            let d = jobs::diff(&a, &b, &out)?;
+        Command::Diff { a, b, out, water } => {
+            let d = jobs::diff(&a, &b, &out, &water.flags().water()?)?;
             say!("{}", jobs::diff_text(&d));
             Ok(ExitCode::SUCCESS)
         }

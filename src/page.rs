@@ -160,6 +160,39 @@ pub enum CutSection<'a> {
     Failed(String),
 }
 
+/// The tail pull estimate: what it assumes and the two angles' forces.
+fn tail_pull(t: &crate::volume::tail_pull::TailPull, tip_station: f64) -> String {
+    let mut s = format!(
+        "<h2>Tail pull</h2><p id=\"tail-pull\">A rough momentum estimate, not a flow simulation: {:.1} kg/s of water ({:.1} cm deep × {:.1} cm wide: {}; at {:.1} m/s; {:.0} kg/m³) leaves the tail turned up by its rocker, pushing the tail down and holding the board back. <code>blanksmith report --speed --water-depth --water-width --water</code> changes the assumptions.</p><table><tr><th class=\"l\">water turned along</th><th>angle</th><th>down</th><th>weighs</th><th>drag</th></tr>",
+        t.mass_flow_kg_s,
+        t.water_depth_mm / 10.0,
+        t.water_width_mm / 10.0,
+        esc(&t.water_width_rule),
+        t.speed_m_s,
+        t.density_kg_m3
+    );
+    let over = format!(
+        "the rocker's chord over the last {}",
+        crate::volume::report::tip_station_words(tip_station)
+    );
+    for (what, p) in [
+        ("the bottom's tangent at the tail tip", &t.at_tip),
+        (over.as_str(), &t.over_tail_station),
+    ] {
+        let _ = write!(
+            s,
+            "<tr><td class=\"l\">{}</td><td>{:.1}°</td><td>{:.1} N</td><td>{:.2} kg</td><td>{:.2} N</td></tr>",
+            esc(what),
+            p.angle_deg,
+            p.down_n,
+            p.down_kg,
+            p.drag_n
+        );
+    }
+    s.push_str("</table>");
+    s
+}
+
 /// The board's `index.html`.
 pub fn board_page(p: &BoardPage) -> String {
     let r = p.report;
@@ -202,6 +235,9 @@ pub fn board_page(p: &BoardPage) -> String {
     );
     s.push_str("<h3>Litres per foot from the nose</h3>");
     s.push_str(&litres_chart(r));
+    if let Some(t) = &r.tail_pull {
+        s.push_str(&tail_pull(t, r.tip_station_mm));
+    }
     for (title, svg) in &p.templates {
         let _ = write!(s, "<h2>{}</h2>{}", esc(title), inline_svg(svg));
         if title.starts_with("Sections") && !p.rails.is_empty() {

@@ -3,6 +3,7 @@
 use super::*;
 use crate::output;
 use crate::slice::plane::Axis;
+use crate::volume::tail_pull::{self, Pull, TailPull, Water};
 use std::path::{Path, PathBuf};
 
 /// Measurements of two designs side by side, and the overlay written.
@@ -15,14 +16,32 @@ pub struct Diff {
     pub litres: [f64; 2],
     /// Lengths, mm.
     pub lengths: [f64; 2],
+    /// Tail pull estimates (descriptions only: an STL has no rocker).
+    pub pulls: [Option<TailPull>; 2],
+    /// Tail stations the pulls' chords run over, mm.
+    pub tip_stations: [f64; 2],
     /// Files written.
     pub written: Vec<PathBuf>,
 }
 
 /// Compares two designs (descriptions or closed STL) station by station.
-pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
+pub fn diff(a: &Path, b: &Path, dir: &Path, water: &Water) -> Result<Diff, JobError> {
     let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
     let designs = [load_design(a)?, load_design(b)?];
+    let mut pulls = [None, None];
+    let mut tip_stations = [crate::units::MM_PER_FOOT; 2];
+    for (i, (d, path)) in designs.iter().zip([a, b]).enumerate() {
+        if let Design::Board(board) = d {
+            tip_stations[i] = board.tip_station;
+            pulls[i] =
+                Some(
+                    tail_pull::estimate(board, water).map_err(|source| JobError::WaterFor {
+                        board: path.display().to_string(),
+                        source,
+                    })?,
+                );
+        }
+    }
     output::ready(dir)?;
     let meshes = [designs[0].mesh(tol)?, designs[1].mesh(tol)?];
     let names = [designs[0].name().to_string(), designs[1].name().to_string()];
@@ -80,6 +99,8 @@ pub fn diff(a: &Path, b: &Path, dir: &Path) -> Result<Diff, JobError> {
         rows,
         litres,
         lengths,
+        pulls,
+        tip_stations,
         written,
     })
 }
@@ -126,8 +147,57 @@ pub fn diff_text(d: &super::Diff) -> String {
         d.litres[1],
         d.litres[1] - d.litres[0]
     );
+    s.push_str(&pull_text(d));
     for p in &d.written {
         let _ = writeln!(s, "wrote {}", p.display());
     }
+    s
+}
+
+/// The two tail pulls side by side, or why there are none.
+fn pull_text(d: &super::Diff) -> String {
+    use std::fmt::Write as _;
+    let [Some(a), Some(b)] = &d.pulls else {
+        return "tail pull: not estimated (an STL has no rocker description; diff two descriptions for it)\n".into();
+    };
+    let mut s = format!(
+        "tail pull (a rough momentum estimate, not a flow simulation): at {:.1} m/s, water {:.1} cm deep, A {:.1} cm wide, B {:.1} cm wide, {:.0} kg/m³\n",
+        a.speed_m_s,
+        a.water_depth_mm / 10.0,
+        a.water_width_mm / 10.0,
+        b.water_width_mm / 10.0,
+        a.density_kg_m3
+    );
+    let row = |s: &mut String, what: &str, p: &Pull, q: &Pull| {
+        let change = if p.down_n.abs() > 1e-9 {
+            format!(" ({:+.0} %)", 100.0 * (q.down_n / p.down_n - 1.0))
+        } else {
+            String::new()
+        };
+        let _ = writeln!(
+            s,
+            "  {what}: A {:.1}° down {:.1} N ({:.2} kg), B {:.1}° down {:.1} N ({:.2} kg); B − A {:+.1} N{change}, drag {:+.2} N",
+            p.angle_deg,
+            p.down_n,
+            p.down_kg,
+            q.angle_deg,
+            q.down_n,
+            q.down_kg,
+            q.down_n - p.down_n,
+            q.drag_n - p.drag_n
+        );
+    };
+    row(&mut s, "tangent at the tail tip", &a.at_tip, &b.at_tip);
+    let over = if (d.tip_stations[0] - d.tip_stations[1]).abs() < 1e-9 {
+        crate::volume::report::tip_station_words(d.tip_stations[0])
+    } else {
+        "tail station".into()
+    };
+    row(
+        &mut s,
+        &format!("chord over the last {over}"),
+        &a.over_tail_station,
+        &b.over_tail_station,
+    );
     s
 }

@@ -1,13 +1,16 @@
 //! `mesh`, `report` and `check`: a board certified and written as STL, or
-//! an STL inspected.
+//! an STL inspected; and the tail pull's options, which `report` and `diff`
+//! take.
 
 use super::*;
 use crate::inspect::check::{self as inspect, Inspection};
 use crate::model::board::Board;
 use crate::output;
 use crate::stl;
+use crate::units::{Length, parse_length};
 use crate::volume::certificate::{self, Certified};
 use crate::volume::report::Report;
+use crate::volume::tail_pull::{Water, WaterError, WaterWidth, parse_speed};
 use std::path::{Path, PathBuf};
 
 /// Reads and inspects an STL file, welding at `weld` mm (default from its size).
@@ -120,6 +123,24 @@ pub(crate) fn mesh_files(
     (report, files)
 }
 
+/// Certifies `board` without writing anything, its tail pull estimated
+/// for `water` (checked against the board before the mesh is made).
+pub fn report(
+    board: Board,
+    tolerance: f64,
+    water: &Water,
+    file: &Path,
+) -> Result<Meshed, JobError> {
+    let for_board = |source| JobError::WaterFor {
+        board: file.display().to_string(),
+        source,
+    };
+    crate::volume::tail_pull::estimate(&board, water).map_err(for_board)?;
+    let mut m = certify_only(board, tolerance)?;
+    m.report = m.report.with_water(&m.board, water).map_err(for_board)?;
+    Ok(m)
+}
+
 /// Certifies `board` without writing anything.
 pub fn certify_only(board: Board, tolerance: f64) -> Result<Meshed, JobError> {
     let certified = certificate::certify(&board, tolerance)?;
@@ -130,4 +151,65 @@ pub fn certify_only(board: Board, tolerance: f64) -> Result<Meshed, JobError> {
         report,
         written: vec![],
     })
+}
+
+/// The options as written on the command line (each `None` keeps the
+/// default of [`Water`]).
+#[derive(Debug, Clone, Default)]
+pub struct WaterFlags {
+    /// `--speed`: `4`, `4m/s`, `15km/h`, `9mph`, `8kn`.
+    pub speed: Option<String>,
+    /// `--water-depth`: a length; bare numbers are millimetres.
+    pub depth: Option<String>,
+    /// `--water-width`: `50%` of the width at the tail station, or a length.
+    pub width: Option<String>,
+    /// `--water`: fresh, salt, or a density in kg/m³.
+    pub water: Option<String>,
+    /// `--exit-angle`: degrees.
+    pub angle: Option<f64>,
+}
+
+fn length_mm(option: &'static str, text: &str) -> Result<f64, WaterError> {
+    parse_length(text)
+        .map(|l| match l {
+            Length::Bare(v) => v,
+            Length::Mm(v) => v,
+        })
+        .map_err(|e| WaterError {
+            option,
+            value: format!("`{text}`"),
+            rule: format!("{}; bare numbers are millimetres", e.why),
+        })
+}
+
+impl WaterFlags {
+    /// The water the options describe (ranges are checked against the
+    /// board by [`crate::volume::tail_pull::estimate`]).
+    pub fn water(&self) -> Result<Water, JobError> {
+        let mut w = Water::default();
+        if let Some(s) = &self.speed {
+            w.speed_m_s = parse_speed(s)?;
+        }
+        if let Some(d) = &self.depth {
+            w.depth_mm = length_mm("--water-depth", d)?;
+        }
+        if let Some(t) = &self.width {
+            w.width = match t.trim().strip_suffix('%') {
+                Some(p) => WaterWidth::ShareOfTail(
+                    p.trim().parse::<f64>().map_err(|_| WaterError {
+                        option: "--water-width",
+                        value: format!("`{t}`"),
+                        rule: "not a share; write e.g. 50% or a width such as 20cm".into(),
+                    })? / 100.0,
+                ),
+                None => WaterWidth::Mm(length_mm("--water-width", t)?),
+            };
+        }
+        if let Some(t) = &self.water {
+            w.density_kg_m3 =
+                super::resize::water_density(t).map_err(|e| JobError::Flag(format!("--{}", e)))?;
+        }
+        w.angle_deg = self.angle;
+        Ok(w)
+    }
 }

@@ -81,6 +81,17 @@ pub enum JobError {
     /// A program could not be read.
     #[error("{0}")]
     Gcode(crate::gcode::read::GcodeError),
+    /// The tail pull's options do not suit the board.
+    #[error("{0}")]
+    Water(#[from] crate::volume::tail_pull::WaterError),
+    /// The tail pull's options do not suit this board.
+    #[error("{board}: {source}")]
+    WaterFor {
+        /// The board's file or name.
+        board: String,
+        /// The option and the rule.
+        source: crate::volume::tail_pull::WaterError,
+    },
     /// The board does not fit, or a safety gate refused the program.
     #[error("{0}")]
     Cam(#[from] crate::toolpath::setup::CamError),

@@ -12,14 +12,7 @@ use crate::meshing::mesher::{self, MeshError};
 use crate::model::board::Board;
 use crate::volume::measure as volume;
 
-/// Fresh water, kg/m³ (= g/L): the trade's usual figure (pure water at
-/// 25 °C is 997.05 kg/m³, CRC Handbook of Chemistry and Physics).
-pub const FRESH_WATER: f64 = 997.0;
-/// Sea water, kg/m³: the trade's usual figure (about 1025 kg/m³ for
-/// salinity 35 at 15 °C, UNESCO 1981 equation of state).
-pub const SALT_WATER: f64 = 1024.0;
-/// Standard gravity, m/s² (3rd CGPM, 1901).
-pub const STANDARD_GRAVITY: f64 = 9.80665;
+pub use crate::volume::water::{FRESH_WATER, SALT_WATER, STANDARD_GRAVITY};
 /// How close the solver brings the mesh volume to a target, litres.
 pub const VOLUME_TOLERANCE: f64 = 1e-4;
 

@@ -10,6 +10,7 @@ use crate::model::board::Board;
 use crate::units::{self, Both, MM_PER_FOOT, MM_PER_INCH};
 use crate::volume::certificate::{Certificate, Certified};
 use crate::volume::integrals;
+use crate::volume::tail_pull::{self, TailPull, Water, WaterError};
 
 /// One row of the measurement table.
 #[derive(Debug, Clone, Serialize)]
@@ -80,6 +81,9 @@ pub struct Report {
     /// Angle of the chord of the rocker over the last `tip_station_mm`
     /// (12 in), degrees.
     pub tail_exit_chord_deg: f64,
+    /// The tail's pull: a rough momentum estimate of the force from the
+    /// water the tail rocker turns (see [`tail_pull`]).
+    pub tail_pull: Option<TailPull>,
     /// Tail shape.
     pub tail: String,
     /// (a) Volume by the divergence theorem on the mesh, litres.
@@ -183,7 +187,7 @@ impl Report {
         let l = board.length;
         let xw = board.outline.wide_point;
         let d = board.tip_station;
-        let slope = board.rocker.slope(l);
+        let (tangent, chord) = tail_pull::exit_angles(board);
         let certified = c.certificate.agrees && c.topology.is_watertight();
         Report {
             name: board.name.clone(),
@@ -196,10 +200,9 @@ impl Report {
             tail_width_mm: 2.0 * board.half_width(l - d),
             nose_rocker_mm: board.rocker.eval(0.0),
             tail_rocker_mm: board.rocker.eval(l),
-            tail_exit_angle_deg: slope.atan().to_degrees(),
-            tail_exit_chord_deg: ((board.rocker.eval(l) - board.rocker.eval(l - d)) / d)
-                .atan()
-                .to_degrees(),
+            tail_exit_angle_deg: tangent,
+            tail_exit_chord_deg: chord,
+            tail_pull: tail_pull::estimate(board, &Water::default()).ok(),
             tail: board.outline.tail_shape.name().to_string(),
             volume_litres: c.certificate.mesh_litres,
             volume_litres_surface: c.certificate.surface_litres,
@@ -224,6 +227,12 @@ impl Report {
         }
     }
 
+    /// The tail pull estimated for `water` instead of the defaults.
+    pub fn with_water(mut self, board: &Board, water: &Water) -> Result<Report, WaterError> {
+        self.tail_pull = Some(tail_pull::estimate(board, water)?);
+        Ok(self)
+    }
+
     /// The report as pretty JSON (deterministic: fields in a fixed order).
     pub fn to_json(&self) -> String {
         let mut s = serde_json::to_string_pretty(self).expect("a report always serialises");
@@ -234,11 +243,7 @@ impl Report {
     /// The key figures, for the terminal.
     pub fn summary(&self) -> String {
         let mut s = String::new();
-        let d = if (self.tip_station_mm - MM_PER_FOOT).abs() < 1e-9 {
-            "12 in".to_string()
-        } else {
-            Both(self.tip_station_mm).to_string()
-        };
+        let d = tip_station_words(self.tip_station_mm);
         let _ = writeln!(s, "{}", self.name);
         let _ = writeln!(s, "  length       {} (flat)", Both(self.length_mm));
         let _ = writeln!(
@@ -262,6 +267,9 @@ impl Report {
             self.tail_exit_angle_deg,
             self.tail_exit_chord_deg
         );
+        if let Some(p) = &self.tail_pull {
+            s.push_str(&p.text(&d));
+        }
         let _ = writeln!(s, "  tail         {}", self.tail);
         let _ = writeln!(s, "  volume       {:.2} L", self.volume_litres);
         let _ = writeln!(
@@ -386,6 +394,16 @@ impl Report {
             .collect();
         let _ = writeln!(s, "  {} L", line.join(" | "));
         s
+    }
+}
+
+/// The tail (or nose) station as the trade says it: `12 in`, or the
+/// length in both units when a description moved it.
+pub fn tip_station_words(mm: f64) -> String {
+    if (mm - MM_PER_FOOT).abs() < 1e-9 {
+        "12 in".to_string()
+    } else {
+        Both(mm).to_string()
     }
 }
 
