@@ -116,7 +116,7 @@ fn bad_inputs_are_refused_and_write_nothing() {
         ("--water-depth", "2m", "thinner than the board is long"),
         ("--water-width", "150%", "at most 100%"),
         ("--water-width", "1m", "at most the board's width"),
-        ("--exit-angle", "60", "0 to 45°"),
+        ("--exit-angle", "10", "own exit angles"),
         ("--water", "mud", "fresh, salt"),
     ] {
         let o = run(&["diff", &a, &b, "-o", "d", flag, value], dir.path());
@@ -127,8 +127,15 @@ fn bad_inputs_are_refused_and_write_nothing() {
             "{flag} {value}: {err}"
         );
         assert!(!dir.path().join("d").exists(), "{flag} {value} wrote files");
+        if flag == "--exit-angle" {
+            continue;
+        }
         let o = run(&["report", &a, flag, value], dir.path());
         assert_eq!(o.status.code(), Some(2), "{flag} {value}");
         assert!(o.stdout.is_empty());
     }
+    let o = run(&["report", &a, "--exit-angle", "60"], dir.path());
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("--exit-angle 60°: an exit angle must be 0 to 45°"), "{err}");
 }

@@ -27,6 +27,11 @@ pub struct Diff {
 /// Compares two designs (descriptions or closed STL) station by station.
 pub fn diff(a: &Path, b: &Path, dir: &Path, water: &Water) -> Result<Diff, JobError> {
     let tol = crate::meshing::mesher::DEFAULT_TOLERANCE;
+    if let Some(angle) = water.angle_deg {
+        return Err(JobError::Flag(format!(
+            "--exit-angle {angle}: `diff` compares the two boards' own exit angles; try an angle with `blanksmith report BOARD --exit-angle {angle}`"
+        )));
+    }
     let designs = [load_design(a)?, load_design(b)?];
     let mut pulls = [None, None];
     let mut tip_stations = [crate::units::MM_PER_FOOT; 2];
