@@ -349,18 +349,15 @@ fn own_programs_verify_clean_for_every_fixture() {
         assert!(!v.has_findings(), "{}", v.text());
         let g = v.gouge_max_mm.unwrap();
         assert!(g <= 0.05, "gouge {g}");
-        // Scallop target (0.1 mm) plus the chord tolerance (0.02 mm): the
-        // cusps are sampled exactly at cell centres, so no grid term.
+        // The shop's finish where the finishing balls reach (issue targets,
+        // common practice, no source): 95 % under 0.25 mm and under the
+        // scallop plus the chord tolerance (the cusps are sampled exactly at
+        // cell centres, so no grid term), none over 0.5 mm.
         let target = c.job.finishing.scallop + c.job.finishing.tolerance;
         let p95 = v.leftover_p95_mm.unwrap();
-        assert!(p95 <= target, "p95 {p95}");
-        // Where parallel passes hand over to Z levels on a rolled rail
-        // single cells keep a little more (0.126 mm on the shortboard's
-        // rail, 0.132 mm on the fish's, at about 45°): 0.02 mm of room for
-        // that hand-over until the finishing strategies are reworked; the
-        // 95th percentile above holds the target itself.
+        assert!(p95 <= target.min(0.25), "p95 {p95}");
         let reach = v.leftover_reachable_max_mm.unwrap();
-        assert!(reach <= target + 0.02, "{}", v.text());
+        assert!(reach <= 0.5, "{}", v.text());
         if everywhere {
             assert!(v.leftover_max_mm.unwrap() <= target, "{}", v.text());
         }
@@ -575,12 +572,13 @@ fn a_rockered_blank_holds_the_board_between_its_measured_curves() {
     assert!(over >= skin && under >= skin);
 }
 
-/// Over a rockered blank the tool crosses between cuts at the clearance
-/// above the blank's own top beneath it, not above Z0: every rapid across
-/// stands at least the clearance over the blank's top (with its
-/// allowance), sampled here every millimetre under the tool's whole
+/// Over a rockered blank the roughing tool crosses between cuts at the
+/// clearance above the blank's own top beneath it, not above Z0: every
+/// rapid across stands at least the clearance over the blank's top (with
+/// its allowance), sampled here every millimetre under the tool's whole
 /// width; and crossings over the low middle stand well below Z0 plus the
-/// clearance, which is where the time goes.
+/// clearance, which is where the time goes. (The finishing balls link
+/// lower still, over the stock as cut: the next test.)
 #[test]
 fn rockered_blank_rapids_clear_the_blank_beneath_them() {
     let c = rockered();
@@ -588,7 +586,11 @@ fn rockered_blank_rapids_clear_the_blank_beneath_them() {
     let clear = c.machine.clearance;
     for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
         let (mut across, mut low) = (0, 0);
-        for path in &c.plan.setups[k].paths {
+        for path in c.plan.setups[k]
+            .paths
+            .iter()
+            .filter(|p| !matches!(p.label, "finishing" | "rails"))
+        {
             let r = path.pass.tool.cutter.radius;
             let mut at = [0.0, 0.0, clear];
             for s in &path.steps {
@@ -622,8 +624,70 @@ fn rockered_blank_rapids_clear_the_blank_beneath_them() {
                 at = to;
             }
         }
-        assert!(across > 100, "{across}");
+        assert!(across > 20, "{across}");
         assert!(low * 2 > across, "setup {}: {low} of {across} low", k + 1);
+    }
+}
+
+/// The finishing balls' links by rapid stay clear of the design: every
+/// rapid across, sampled every half millimetre, stands at least
+/// [`paths::LINK_CLEARANCE`] over the tool dropped on the board and its
+/// tabs (drop-cutter, the planner's own kernel, which the simulation
+/// checks independently); the simulation of the same programs finds no
+/// rapid through stock (`own_programs_verify_clean_for_every_fixture`,
+/// `rockered_blank_programs_verify_clean...`). Most links stay low: well
+/// under the clearance plane, which is where the time was going.
+#[test]
+fn finishing_links_clear_the_design_and_stay_low() {
+    use blanksmith::geom::dropcutter::DropCutter;
+    use blanksmith::toolpath::paths;
+    for c in [shortboard(), rockered()] {
+        let clear = c.machine.clearance;
+        for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
+            let guard = c.plan.placement.guard(side);
+            let (mut links, mut low) = (0, 0);
+            for path in c.plan.setups[k]
+                .paths
+                .iter()
+                .filter(|p| matches!(p.label, "finishing" | "rails"))
+            {
+                let dc = DropCutter::new(&guard.iter().collect::<Vec<_>>(), path.pass.tool.cutter);
+                let mut at = [0.0, 0.0, clear];
+                for s in &path.steps {
+                    let to = match *s {
+                        Step::Rapid(p) | Step::Plunge(p) | Step::Cut(p) => p,
+                        Step::Arc { to, .. } => to,
+                    };
+                    if let Step::Rapid(p) = *s
+                        && p[2] == at[2]
+                        && (p[0] != at[0] || p[1] != at[1])
+                    {
+                        links += 1;
+                        let len = (p[0] - at[0]).hypot(p[1] - at[1]);
+                        let n = (len / 0.5).ceil() as usize;
+                        for i in 0..=n {
+                            let t = i as f64 / n as f64;
+                            let (x, y) = (at[0] + t * (p[0] - at[0]), at[1] + t * (p[1] - at[1]));
+                            if let Some(z) = dc.drop(x, y) {
+                                assert!(
+                                    p[2] >= z + paths::LINK_CLEARANCE - 1e-6,
+                                    "setup {} {}: link at Z {} over the design at {z} (X {x} Y {y})",
+                                    k + 1,
+                                    path.label,
+                                    p[2]
+                                );
+                            }
+                        }
+                        if p[2] < clear - 20.0 {
+                            low += 1;
+                        }
+                    }
+                    at = to;
+                }
+            }
+            assert!(links > 20, "{links}");
+            assert!(low * 2 > links, "setup {}: {low} of {links} low", k + 1);
+        }
     }
 }
 
@@ -637,12 +701,12 @@ fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
     assert!(!v.has_findings(), "{}", v.text());
     assert!(v.gouge_max_mm.unwrap() <= 0.05);
     let target = c.job.finishing.scallop + c.job.finishing.tolerance;
-    assert!(v.leftover_p95_mm.unwrap() <= target, "{}", v.text());
     assert!(
-        v.leftover_reachable_max_mm.unwrap() <= target + 0.02,
+        v.leftover_p95_mm.unwrap() <= target.min(0.25),
         "{}",
         v.text()
     );
+    assert!(v.leftover_reachable_max_mm.unwrap() <= 0.5, "{}", v.text());
     let b = &c.plan.placement.block;
     for (k, side) in [Side::Deck, Side::Bottom].into_iter().enumerate() {
         let rough = roughing_of(c, k);
@@ -731,4 +795,34 @@ fn feeds_stay_in_the_stock() {
             }
         }
     }
+}
+
+/// The shipped job spells out the defaults (its stock and table position
+/// apart), and the fine preset differs from them only in its finish.
+#[test]
+fn shipped_jobs_are_the_defaults_and_the_fine_preset() {
+    let m = profile::generic_machine();
+    let default = job::default_job(&m).unwrap();
+    let spelled = job::load_job(&fixture("job-shortboard.yaml"), &m).unwrap();
+    assert_eq!(spelled.roughing, default.roughing);
+    assert_eq!(spelled.outline, default.outline);
+    assert_eq!(spelled.finishing, default.finishing);
+    let fine = job::load_job(&fixture("job-fine.yaml"), &m).unwrap();
+    assert_eq!(fine.roughing, default.roughing);
+    assert_eq!(fine.finishing.scallop, 0.1);
+    assert_eq!(fine.finishing.rails.as_ref().unwrap().scallop, 0.1);
+    // The large ball on the deck and bottom, the small one on the rails.
+    assert_eq!(default.finishing.pass.tool.cutter.radius, 25.4);
+    assert_eq!(
+        default
+            .finishing
+            .rails
+            .as_ref()
+            .unwrap()
+            .pass
+            .tool
+            .cutter
+            .radius,
+        6.35
+    );
 }

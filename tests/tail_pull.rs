@@ -137,5 +137,8 @@ fn bad_inputs_are_refused_and_write_nothing() {
     let o = run(&["report", &a, "--exit-angle", "60"], dir.path());
     let err = String::from_utf8_lossy(&o.stderr);
     assert_eq!(o.status.code(), Some(2), "{err}");
-    assert!(err.contains("--exit-angle 60°: an exit angle must be 0 to 45°"), "{err}");
+    assert!(
+        err.contains("--exit-angle 60°: an exit angle must be 0 to 45°"),
+        "{err}"
+    );
 }

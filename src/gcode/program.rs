@@ -201,6 +201,9 @@ pub fn duration(s: f64) -> String {
 pub const MAX_POSITIONS: f64 = 40.0e6;
 /// See [`MAX_POSITIONS`].
 pub const MAX_BLOCK_AREA: f64 = 40.0e6;
+/// Most Z levels the rail band may take through the block's thickness
+/// (about a 0.03 mm scallop with a 1/2 in ball; see [`MAX_POSITIONS`]).
+pub const MAX_RAIL_LEVELS: f64 = 300.0;
 
 fn within_limits(p: &Placement, job: &Job) -> Result<(), CamError> {
     let b = &p.block;
@@ -225,6 +228,24 @@ fn within_limits(p: &Placement, job: &Job) -> Result<(), CamError> {
             fin.scallop,
             positions / 1e6,
             MAX_POSITIONS / 1e6
+        )));
+    }
+    let (rail, rail_scallop) = fin.rail_tool();
+    let rail_dz = paths::scallop_stepover(rail.tool.cutter.radius, rail_scallop)
+        * fin.steep_angle.to_radians().sin();
+    let levels = b.thickness / rail_dz;
+    if levels > MAX_RAIL_LEVELS {
+        return Err(CamError::Limit(format!(
+            "the rail band at a {:.3} mm scallop needs about {:.0} Z levels a side through the {:.0} mm block; the limit is {:.0}: raise {}.scallop",
+            rail_scallop,
+            levels,
+            b.thickness,
+            MAX_RAIL_LEVELS,
+            if fin.rails.is_some() {
+                "rails"
+            } else {
+                "finishing"
+            }
         )));
     }
     Ok(())

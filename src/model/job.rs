@@ -170,6 +170,28 @@ pub struct Finish {
     pub steep_angle: f64,
     /// Chord tolerance along a pass.
     pub tolerance: f64,
+    /// A smaller ball for the steep rail band, when the machine has one:
+    /// the finishing tool then keeps to the gentler deck and bottom.
+    pub rails: Option<RailPass>,
+}
+
+/// The rail band's own pass: Z levels with a smaller ball.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RailPass {
+    /// Feeds, speeds and tool.
+    pub pass: Pass,
+    /// Scallop (cusp) height target.
+    pub scallop: f64,
+}
+
+impl Finish {
+    /// The ball that finishes the rail band, and the scallop it leaves.
+    pub fn rail_tool(&self) -> (&Pass, f64) {
+        match &self.rails {
+            Some(r) => (&r.pass, r.scallop),
+            None => (&self.pass, self.scallop),
+        }
+    }
 }
 
 /// A job, resolved against its machine.

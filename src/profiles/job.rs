@@ -10,7 +10,7 @@ use serde_saphyr::{Location, Spanned};
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::model::curve::Curve;
-use crate::model::job::{BlankRocker, Block, Finish, Job, Pass, Pitch};
+use crate::model::job::{BlankRocker, Block, Finish, Job, Pass, Pitch, RailPass};
 use crate::model::machine::{Machine, ToolKind};
 use crate::profiles::machine::{FeedValue, Reader, StepoverValue, mm_text, read_text};
 use crate::units::Unit;
@@ -18,6 +18,15 @@ use crate::units::Unit;
 /// Smallest stepdown accepted, mm: below it the levels only multiply the
 /// run time (and a typo such as 0.001 would never finish).
 pub const MIN_STEPDOWN: f64 = 0.5;
+
+/// Default scallop: a few tenths of a millimetre, which the shaper sands
+/// off with the rest of the finish (common practice, no source).
+pub const DEFAULT_SCALLOP: f64 = 0.3;
+
+/// Largest roughing stepover, as a share of the tool's diameter: every
+/// ring overlaps the one before by a tenth of the tool (common practice,
+/// no source).
+pub const MAX_STEPOVER_SHARE: f64 = 0.9;
 
 /// Smallest stepover accepted for a tool of diameter `d` mm: 2 % of it, and
 /// 0.2 mm, for the same reason.
@@ -116,6 +125,7 @@ struct JobFile {
     roughing: Option<PassSpec>,
     outline: Option<PassSpec>,
     finishing: Option<PassSpec>,
+    rails: Option<PassSpec>,
 }
 
 /// Which strategy a pass spec is for.
@@ -124,6 +134,7 @@ enum Strategy {
     Roughing,
     Outline,
     Finishing,
+    Rails,
 }
 
 impl Strategy {
@@ -132,7 +143,12 @@ impl Strategy {
             Strategy::Roughing => "roughing",
             Strategy::Outline => "outline",
             Strategy::Finishing => "finishing",
+            Strategy::Rails => "rails",
         }
+    }
+
+    fn ball(self) -> bool {
+        matches!(self, Strategy::Finishing | Strategy::Rails)
     }
 }
 
@@ -162,10 +178,24 @@ impl JobReader<'_> {
         let name = which.field();
         let f = |s: &str| format!("{name}.{s}");
         let m = self.machine;
-        let wanted = match which {
-            Strategy::Finishing => ToolKind::Ball,
-            _ => ToolKind::Flat,
+        let wanted = if which.ball() {
+            ToolKind::Ball
+        } else {
+            ToolKind::Flat
         };
+        // Finishing takes the largest ball (fewer passes on the flats),
+        // the rail band the smallest (it reaches down the rail); the first
+        // listed of a size.
+        let by_size = |t: &&crate::model::machine::Tool| match which {
+            Strategy::Finishing => -t.cutter.radius,
+            Strategy::Rails => t.cutter.radius,
+            _ => 0.0,
+        };
+        let default_tool = m
+            .tools
+            .iter()
+            .filter(|t| t.cutter.kind == wanted)
+            .min_by(|a, b| by_size(a).total_cmp(&by_size(b)));
         let tool = match &spec.tool {
             Some(id) => match m.tool(id.value) {
                 Some(t) => t.clone(),
@@ -180,7 +210,7 @@ impl JobReader<'_> {
                     );
                 }
             },
-            None => match m.tools.iter().find(|t| t.cutter.kind == wanted) {
+            None => match default_tool {
                 Some(t) => t.clone(),
                 None => {
                     return self.r.fail(
@@ -196,19 +226,19 @@ impl JobReader<'_> {
             },
         };
         let at = |s: &Option<Spanned<u32>>| s.as_ref().map_or(self.top, |s| s.referenced);
-        if which == Strategy::Finishing && tool.cutter.kind != ToolKind::Ball {
+        if which.ball() && tool.cutter.kind != ToolKind::Ball {
             return self.r.fail(
                 &at(&spec.tool),
                 &f("tool"),
                 format!(
-                    "T{} is a {} tool; finishing needs a ball-end tool",
+                    "T{} is a {} tool; {name} needs a ball-end tool",
                     tool.id,
                     tool.cutter.kind.name()
                 ),
                 "name a ball-end tool",
             );
         }
-        if which != Strategy::Finishing && tool.cutter.kind == ToolKind::Ball {
+        if !which.ball() && tool.cutter.kind == ToolKind::Ball {
             return self.r.fail(
                 &at(&spec.tool),
                 &f("tool"),
@@ -218,9 +248,11 @@ impl JobReader<'_> {
         }
         let d = 2.0 * tool.cutter.radius;
         let default_stepdown = match which {
-            Strategy::Roughing => 25.0_f64,
-            Strategy::Outline => 12.0,
-            Strategy::Finishing => tool.max_stepdown,
+            // Deep levels in foam, within the tool's max_stepdown (common
+            // practice, no source).
+            Strategy::Roughing => 40.0_f64,
+            Strategy::Outline => 25.0,
+            Strategy::Finishing | Strategy::Rails => tool.max_stepdown,
         }
         .min(tool.max_stepdown);
         let stepdown = match &spec.stepdown {
@@ -245,16 +277,19 @@ impl JobReader<'_> {
                     StepoverValue::Share(s) => s * d,
                 };
                 let least = min_stepover(d);
-                if !(x >= least && x <= 0.5 * d) {
+                if !(x >= least && x <= MAX_STEPOVER_SHARE * d) {
                     return self.r.fail(
                         &v.referenced,
                         &f("stepover"),
-                        format!("is {}; it must be at least {} (2 % of the tool diameter, and 0.2 mm: finer passes only multiply the run time) and at most half the tool diameter ({}), so no pass cuts full width", mm_text(x), mm_text(least), mm_text(0.5 * d)),
-                        "e.g. 40% or 50%",
+                        format!("is {}; it must be at least {} (2 % of the tool diameter, and 0.2 mm: finer passes only multiply the run time) and at most {:.0} % of the tool diameter ({}), so every ring overlaps the last", mm_text(x), mm_text(least), MAX_STEPOVER_SHARE * 100.0, mm_text(MAX_STEPOVER_SHARE * d)),
+                        "e.g. 75% in foam",
                     );
                 }
                 x
             }
+            // Three quarters of the tool a ring in foam (common practice,
+            // no source); the rings' ridges are cut after them.
+            None if which == Strategy::Roughing => 0.75 * d,
             None => 0.5 * d,
         };
         let default_leave = if which == Strategy::Roughing {
@@ -271,9 +306,12 @@ impl JobReader<'_> {
             "stock left for the next strategy",
         )?;
         let feed_default = match which {
-            Strategy::Roughing => 8000.0_f64,
-            Strategy::Outline => 5000.0,
-            Strategy::Finishing => 10000.0,
+            // Feeds for EPS foam (common practice, no source), within the
+            // machine's limit.
+            Strategy::Roughing => 12000.0_f64,
+            Strategy::Outline => 8000.0,
+            Strategy::Finishing => 15000.0,
+            Strategy::Rails => 10000.0,
         }
         .min(m.max_feed_xy);
         let feed = match &spec.feed {
@@ -590,11 +628,11 @@ fn resolve(
     let radius = pass.tool.cutter.radius;
     let scallop = jr.length_or(
         &fin_spec.scallop,
-        0.1,
+        DEFAULT_SCALLOP,
         "finishing.scallop",
         0.001,
         radius,
-        "the cusp height left between passes, e.g. 0.1 mm",
+        "the cusp height left between passes, e.g. 0.3 mm for a board sanded afterwards, 0.1 mm for a fine finish",
     )?;
     if scallop <= 0.0 {
         return r.fail(
@@ -622,6 +660,46 @@ fn resolve(
         1.0,
         "the chord tolerance along a pass",
     )?;
+    let rails_spec = raw.rails.unwrap_or_default();
+    for (v, field) in [
+        (rails_spec.stepdown.is_some(), "rails.stepdown"),
+        (rails_spec.stepover.is_some(), "rails.stepover"),
+        (rails_spec.steep_angle.is_some(), "rails.steep_angle"),
+        (rails_spec.tolerance.is_some(), "rails.tolerance"),
+        (rails_spec.leave.is_some(), "rails.leave"),
+    ] {
+        if v {
+            return r.fail(
+                &jr.top,
+                field,
+                "is not taken: the rail band is cut in Z levels from `rails.scallop`, starting at finishing.steep_angle, to finishing.tolerance",
+                "set it under finishing, or leave it out",
+            );
+        }
+    }
+    let rail_pass = jr.pass(&rails_spec, Strategy::Rails)?;
+    let rail_scallop = jr.length_or(
+        &rails_spec.scallop,
+        scallop,
+        "rails.scallop",
+        0.001,
+        rail_pass.tool.cutter.radius,
+        "the cusp height left between Z levels on the rail, e.g. 0.3 mm",
+    )?;
+    if rail_scallop <= 0.0 {
+        return r.fail(
+            &rails_spec.scallop.as_ref().map_or(jr.top, |v| v.referenced),
+            "rails.scallop",
+            "must be more than 0",
+            "e.g. 0.3 mm",
+        );
+    }
+    // One ball on the machine (or the same named twice): it cuts the rail
+    // band too, in the finishing program.
+    let rails = (rail_pass.tool.id != pass.tool.id).then_some(RailPass {
+        pass: rail_pass,
+        scallop: rail_scallop,
+    });
     {
         let (name, spec) = ("outline", &outline_spec);
         jr.forbid(
@@ -723,6 +801,7 @@ fn resolve(
             scallop,
             steep_angle,
             tolerance,
+            rails,
         },
     })
 }

@@ -1,5 +1,6 @@
-//! Ball-end finishing: parallel passes over the flats, Z levels on the
-//! steep rail band, and the links between passes.
+//! Ball-end finishing: parallel passes over the deck and bottom, Z levels
+//! on the steep rail band (with a smaller ball when the machine has one),
+//! and the links between passes.
 
 use super::*;
 use crate::geom::dropcutter::DropCutter;
@@ -7,17 +8,82 @@ use crate::geom::field::{self, Field};
 use crate::model::toolpath::{Step, Toolpath};
 use rayon::prelude::*;
 
-pub(super) fn finishing(ctx: &Ctx) -> (Toolpath, usize) {
-    let job = ctx.job;
-    let fin = &job.finishing;
+/// The finishing paths of a setup: the parallel passes (and, with one
+/// ball, the rail band's Z levels after them); with a smaller ball for the
+/// rails, its Z levels as a path of their own. Also the cutter positions
+/// computed.
+pub(super) fn finishing(ctx: &Ctx) -> (Vec<Toolpath>, usize) {
+    let fin = &ctx.job.finishing;
     let pass = fin.pass.clone();
     let cutter = pass.tool.cutter;
-    let r = cutter.radius;
+    let theta = fin.steep_angle.to_radians();
+    let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), cutter);
+    // With a ball of its own for the rails, the finishing ball keeps to
+    // where the surface under it is gentler than the steep angle and the
+    // part (not the floor round it) holds it up.
+    let gentle_only = fin.rails.is_some();
+    let (passes, mut positions) = parallel(ctx, &dc, gentle_only);
+    let stepover = scallop_stepover(cutter.radius, fin.scallop) * theta.cos();
+    let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
+    let mut at: Option<[f64; 3]> = None;
+    for runs in passes {
+        for run in runs {
+            link(&mut steps, ctx, &dc, &mut at, &run, stepover * 1.5);
+        }
+    }
+    // Z levels over the steep rail band.
+    let (rail_pass, rail_scallop) = fin.rail_tool();
+    let rail_dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), rail_pass.tool.cutter);
+    // With a ball of its own the rail band starts 10° below the steep
+    // angle, overlapping the finishing ball's last passes.
+    let start = if gentle_only {
+        theta - 10f64.to_radians()
+    } else {
+        theta
+    };
+    // Levels dz apart stand dz / sin φ apart on a face at φ: spaced for
+    // the gentlest face the levels take, 0.9 of the slope at `start`.
+    let gentlest = (STEEP_SHARE * start.tan()).atan();
+    let dz = scallop_stepover(rail_pass.tool.cutter.radius, rail_scallop) * gentlest.sin();
+    let (wl, n) = waterlines(ctx, &rail_dc, dz, start);
+    positions += n;
+    let mut paths = Vec::new();
+    if gentle_only {
+        steps.push(Step::Rapid(last_xy(&steps, ctx.clear)));
+        let path = Toolpath {
+            label: "finishing",
+            pass,
+            steps,
+        };
+        // The rail ball's links then see the stock as the large ball left it.
+        ctx.cut(&path);
+        paths.push(path);
+        steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
+    }
+    let from = at.unwrap_or([0.0, 0.0, ctx.clear]);
+    at = None;
+    for run in nearest_first(wl, from) {
+        link(&mut steps, ctx, &rail_dc, &mut at, &run, 0.0);
+    }
+    steps.push(Step::Rapid(last_xy(&steps, ctx.clear)));
+    paths.push(Toolpath {
+        label: if gentle_only { "rails" } else { "finishing" },
+        pass: rail_pass.clone(),
+        steps,
+    });
+    (paths, positions)
+}
+
+/// The parallel passes along X, each as its runs in cutting order
+/// (alternate passes reversed), and the cutter positions computed. With
+/// `gentle_only` a run breaks where the surface under the ball is steeper
+/// than the steep angle or the ball would rest on the floor.
+fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64; 3]>>>, usize) {
+    let fin = &ctx.job.finishing;
+    let r = dc.cutter().radius;
     let s = scallop_stepover(r, fin.scallop);
     let theta = fin.steep_angle.to_radians();
     let stepover = s * theta.cos();
-    let dz = s * theta.sin();
-    let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), cutter);
     // Samples 1 mm apart: the ball's height along a pass bends no tighter
     // than the ball (radius R over a sharp edge), so a chord sags at most
     // L²/8R = 0.02 mm below it there for R = 6.35 mm (geometry: the
@@ -34,68 +100,121 @@ pub(super) fn finishing(ctx: &Ctx) -> (Toolpath, usize) {
     let n_pass = ((y1 - y0) / stepover).ceil() as usize + 1;
     let n_along = ((x1 - x0) / along).ceil() as usize + 1;
     let tol = fin.tolerance;
-    // Every cutter position of every pass, in parallel, in pass order.
-    let passes: Vec<Vec<Vec<[f64; 3]>>> = (0..n_pass)
+    // From the middle out, each half in zig-zag: the top of the deck (or
+    // of the bottom) first, so the roughing's stairs there are gone before
+    // the ball works down a rail beside them.
+    let mid = n_pass / 2;
+    let order: Vec<usize> = (0..=mid).rev().chain(mid + 1..n_pass).collect();
+    // Every cutter position of every pass, in parallel, in cutting order.
+    let passes = order
         .into_par_iter()
-        .map(|j| {
+        .enumerate()
+        .map(|(nth, j)| {
             let y = (y0 + j as f64 * stepover).min(y1);
+            let mut points: Vec<Option<[f64; 3]>> = (0..n_along)
+                .map(|k| {
+                    let x = (x0 + k as f64 * along).min(x1);
+                    if ctx.outside.at([x, y]) > reach {
+                        return None;
+                    }
+                    Some([x, y, ctx.tip(dc, x, y)])
+                })
+                .collect();
+            if gentle_only {
+                points = gentle(ctx, dc, &points, theta.cos());
+            }
             let mut runs: Vec<Vec<[f64; 3]>> = Vec::new();
             let mut run: Vec<[f64; 3]> = Vec::new();
-            for k in 0..n_along {
-                let x = (x0 + k as f64 * along).min(x1);
-                if ctx.outside.at([x, y]) > reach {
-                    if run.len() > 1 {
-                        runs.push(std::mem::take(&mut run));
+            for q in points {
+                match q {
+                    Some(q) => run.push(q),
+                    None => {
+                        if run.len() > 1 {
+                            runs.push(std::mem::take(&mut run));
+                        }
+                        run.clear();
                     }
-                    run.clear();
-                    continue;
                 }
-                let z = ctx.tip(&dc, x, y);
-                run.push([x, y, z]);
             }
             if run.len() > 1 {
                 runs.push(run);
             }
-            if j % 2 == 1 {
+            if nth % 2 == 1 {
                 runs.reverse();
                 for r in &mut runs {
                     r.reverse();
                 }
             }
-            let h = |x: f64, y: f64| ctx.tip(&dc, x, y);
+            let h = |x: f64, y: f64| ctx.tip(dc, x, y);
             runs.into_iter()
                 .map(|r| simplify(&refine(&r, &h, tol / 2.0), tol))
                 .collect()
         })
         .collect();
-    let mut positions = n_pass * n_along;
-    let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
-    let mut at: Option<[f64; 3]> = None;
-    for runs in passes {
-        for run in runs {
-            link(&mut steps, ctx, &dc, &mut at, &run, stepover * 1.5);
+    (passes, n_pass * n_along)
+}
+
+/// The points of a pass where the ball rests on the part, clear of the
+/// floor, on a face no steeper than the steep angle (`cos`, the cosine of
+/// it: for a ball the normal at the contact is the face's own), and
+/// wholly inside the band the roughing cleared round the outline.
+fn gentle(
+    ctx: &Ctx,
+    dc: &DropCutter,
+    points: &[Option<[f64; 3]>],
+    cos: f64,
+) -> Vec<Option<[f64; 3]>> {
+    // The roughing's outermost ring runs 1.5 cells (3 mm) inside its band,
+    // on a 2 mm grid: 5 mm kept from the wall.
+    let band = ctx.job.frame - dc.cutter().radius - 5.0;
+    points
+        .iter()
+        .map(|q| {
+            let q = (*q)?;
+            if ctx.outside.at([q[0], q[1]]) > band {
+                return None;
+            }
+            let (z, n) = dc.drop_contact(q[0], q[1])?;
+            (z > ctx.floor(q[0]) + 0.05 && n[2] >= cos).then_some(q)
+        })
+        .collect()
+}
+
+/// The runs in the order a greedy tour takes them: from `from`, each
+/// time the run with the nearest end (reversed if that end is its last
+/// point), height differences counted three times over so a level is
+/// worked round before the tool moves to another. Nearest neighbour, not
+/// the shortest tour, but it keeps the tool from crossing the board
+/// between every piece of a level.
+fn nearest_first(mut runs: Vec<Vec<[f64; 3]>>, from: [f64; 3]) -> Vec<Vec<[f64; 3]>> {
+    let cost =
+        |a: [f64; 3], b: [f64; 3]| (a[0] - b[0]).hypot(a[1] - b[1]) + 3.0 * (a[2] - b[2]).abs();
+    let mut out = Vec::with_capacity(runs.len());
+    let mut at = from;
+    while !runs.is_empty() {
+        let mut best = (f64::INFINITY, 0, false);
+        for (i, r) in runs.iter().enumerate() {
+            let (c0, c1) = (cost(at, r[0]), cost(at, r[r.len() - 1]));
+            if c0 < best.0 {
+                best = (c0, i, false);
+            }
+            if c1 < best.0 {
+                best = (c1, i, true);
+            }
         }
+        let mut r = runs.swap_remove(best.1);
+        if best.2 {
+            r.reverse();
+        }
+        at = r[r.len() - 1];
+        out.push(r);
     }
-    // Z levels over the steep rail band.
-    let (wl, n) = waterlines(ctx, &dc, dz, theta);
-    positions += n;
-    for run in wl {
-        link(&mut steps, ctx, &dc, &mut at, &run, 0.0);
-    }
-    steps.push(Step::Rapid(last_xy(&steps, ctx.clear)));
-    (
-        Toolpath {
-            label: "finishing",
-            pass,
-            steps,
-        },
-        positions,
-    )
+    out
 }
 
 /// Joins the tool to the start of `run`: across the surface when the gap
 /// is short (following the drop-cutter, so it cannot gouge), otherwise up
-/// to clearance and across.
+/// just clear of the stock under the way, across and down.
 pub(super) fn link(
     steps: &mut Vec<Step>,
     ctx: &Ctx,
@@ -126,7 +245,8 @@ pub(super) fn link(
     } else {
         let r = dc.cutter().radius;
         let from = last_at(steps);
-        let travel = ctx.travel_z(from[0], s[0], r).max(from[2]);
+        // As low as the stock and the part under the way allow.
+        let travel = ctx.link_z(from, s, r).max(from[2]);
         steps.push(Step::Rapid([from[0], from[1], travel]));
         steps.push(Step::Rapid([s[0], s[1], travel]));
         // Stop 2 mm above the stock the roughing left under the tool.
@@ -139,6 +259,10 @@ pub(super) fn link(
     }
     *at = Some(run[run.len() - 1]);
 }
+
+/// The Z levels take nodes whose slope is at least this share of the
+/// steep angle's (the grid's slope estimate is a central difference).
+const STEEP_SHARE: f64 = 0.9;
 
 /// How far in from the outline the Z-level passes look for steep rail
 /// (the rail band of a surfboard is well within it; common practice, no
@@ -193,7 +317,7 @@ pub(super) fn waterlines(
     for j in 0..ny {
         for i in 0..nx {
             let k = j * nx + i;
-            if heights[k].is_finite() && slope(i, j) >= tan * 0.9 {
+            if heights[k].is_finite() && slope(i, j) >= tan * STEEP_SHARE {
                 steep[k] = true;
                 top = top.max(heights[k]);
                 bottom = bottom.min(heights[k]);

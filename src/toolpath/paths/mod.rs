@@ -32,6 +32,10 @@ pub struct SetupPaths {
     pub positions: usize,
 }
 
+/// How far above the stock under it a link by rapid travels, mm (common
+/// practice, no source: a few millimetres clear a flake of foam).
+pub const LINK_CLEARANCE: f64 = 5.0;
+
 struct Ctx<'a> {
     place: &'a Placement,
     job: &'a Job,
@@ -129,6 +133,23 @@ impl Ctx<'_> {
         (top + self.clear).min(self.clear)
     }
 
+    /// Height for a link by rapid from `a` to `b` with a tool of radius
+    /// `r`: [`LINK_CLEARANCE`] above the highest stock the paths so far
+    /// have left under the tool on the way (the part included; finishing
+    /// only lowers it), sampled every 2 mm with the tool grown by 2 mm,
+    /// and never above the clearance plane.
+    fn link_z(&self, a: [f64; 3], b: [f64; 3], r: f64) -> f64 {
+        let len = (b[0] - a[0]).hypot(b[1] - a[1]);
+        let n = (len / 2.0).ceil().max(1.0) as usize;
+        let top = (0..=n)
+            .map(|k| {
+                let t = k as f64 / n as f64;
+                self.stock_top(a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1]), r + 2.0)
+            })
+            .fold(a[2].max(b[2]), f64::max);
+        (top + LINK_CLEARANCE).min(self.travel_z(a[0], b[0], r))
+    }
+
     fn region(&self) -> ([f64; 2], [f64; 2]) {
         let b = &self.place.block;
         ([0.0, 0.0], [b.length, b.width])
@@ -185,7 +206,7 @@ pub fn setup_paths(
     paths.push(out);
     progress("finishing");
     let (fin, positions) = finishing(&ctx);
-    paths.push(fin);
+    paths.extend(fin);
     SetupPaths {
         side,
         paths,
@@ -251,7 +272,11 @@ fn entry(steps: &mut Vec<Step>, ctx: &Ctx, pts: &[[f64; 3]], closed: bool, above
                 };
                 for p in seq {
                     done += ((p[0] - at[0]).powi(2) + (p[1] - at[1]).powi(2)).sqrt();
-                    let z = above - drop * (done / total).min(1.0);
+                    // Never more than 1 mm over the foam: over a rockered
+                    // blank the top may fall away along the ramp.
+                    let z = (above - drop * (done / total).min(1.0))
+                        .min(ctx.stock_top_at(p[0]) + 1.0)
+                        .max(level);
                     steps.push(Step::Cut([p[0], p[1], z]));
                     at = p;
                 }

@@ -146,12 +146,27 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
                 rings.push(orient(l, pass.climb));
             }
         }
+        if pass.stepover > r {
+            rings.extend(ridges(&grid, &dist, &rings, &ds, r, pass.stepover));
+        }
         for ring in rings {
             if ring.points.len() < 2 {
                 continue;
             }
             let pts: Vec<[f64; 3]> = ring.points.iter().map(|p| [p[0], p[1], level]).collect();
             for (piece, closed) in with_stock_above(ctx, pts, ring.closed, level, r) {
+                // The contour's grid steps smoothed away: a point moves at
+                // most a quarter of the stock left, so the finishing tool
+                // still meets foam everywhere, and the machine need not
+                // slow for each 2 mm jag.
+                let mut piece = piece;
+                if closed {
+                    piece.push(piece[0]);
+                }
+                let mut piece = simplify(&piece, (pass.leave / 4.0).min(0.1));
+                if closed && piece.len() > 2 {
+                    piece.pop();
+                }
                 // Enter from the level above, or from above the stock
                 // where a rockered blank's top is lower than that.
                 let x = piece[0][0];
@@ -167,6 +182,75 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
         pass,
         steps,
     }
+}
+
+/// Rings more than a tool radius apart leave a ridge of foam where the
+/// distance to the wall peaks between two rings (the middle of a band
+/// narrower than the next ring): the pieces of the contours halfway
+/// between rings that pass within a tool radius of a node no ring
+/// reaches. Halfway lies within a radius of both rings' levels, so these
+/// pieces reach every such node.
+fn ridges(
+    grid: &Field,
+    dist: &Field,
+    rings: &[Line],
+    ds: &[f64],
+    r: f64,
+    stepover: f64,
+) -> Vec<Line> {
+    let [nx, ny] = grid.dims;
+    let node = |p: [f64; 2]| {
+        let i = ((p[0] - grid.origin[0]) / grid.cell).round();
+        let j = ((p[1] - grid.origin[1]) / grid.cell).round();
+        (i >= 0.0 && j >= 0.0 && (i as usize) < nx && (j as usize) < ny)
+            .then(|| j as usize * nx + i as usize)
+    };
+    let mut on_ring = vec![false; nx * ny];
+    for q in rings.iter().flat_map(|l| &l.points) {
+        if let Some(k) = node(*q) {
+            on_ring[k] = true;
+        }
+    }
+    let near_ring = field::distance_to(grid, &on_ring);
+    // Contour points lie on grid edges, so the node marked for each is
+    // within half a cell of it: a node counts as reached with that to spare.
+    let reach = r - 0.5 * grid.cell;
+    let first = ds.first().copied().unwrap_or(f64::INFINITY);
+    let missed: Vec<bool> = (0..nx * ny)
+        .map(|k| {
+            dist.values[k].is_finite() && dist.values[k] >= first && near_ring.values[k] > reach
+        })
+        .collect();
+    if !missed.iter().any(|m| *m) {
+        return vec![];
+    }
+    let to_missed = field::distance_to(grid, &missed);
+    let mut out = Vec::new();
+    for &d in ds.iter().rev() {
+        for l in field::contours(dist, d + stepover / 2.0) {
+            let mut piece: Vec<[f64; 2]> = Vec::new();
+            for q in &l.points {
+                if to_missed.at(*q) <= r {
+                    piece.push(*q);
+                } else if !piece.is_empty() {
+                    if piece.len() > 1 {
+                        out.push(Line {
+                            points: std::mem::take(&mut piece),
+                            closed: false,
+                        });
+                    }
+                    piece.clear();
+                }
+            }
+            if piece.len() > 1 {
+                out.push(Line {
+                    points: piece,
+                    closed: false,
+                });
+            }
+        }
+    }
+    out
 }
 
 /// The parts of a ring at `level` that have stock above them within the
