@@ -47,8 +47,9 @@ PY
 excerpt "$dir/saltgrass-shortboard-6-2-1-deck-T1.nc" roughing roughing
 excerpt "$dir/saltgrass-shortboard-6-2-1-deck-T1.nc" outline outline
 excerpt "$dir/saltgrass-shortboard-6-2-1-deck-T2.nc" finishing finishing
+excerpt "$dir/saltgrass-shortboard-6-2-1-deck-T3.nc" rails rails
 printf "%-10s %10s %10s %8s\n" excerpt estimate linuxcnc ratio
-for k in roughing outline finishing; do
+for k in roughing outline finishing rails; do
   # An excerpt starts in uncut stock, so verify reports findings (exit 1):
   # only its time is wanted here.
   est=$( ("$bin" verify "$sim/$k.nc" --machine "$here/fixtures/machine-gantry-3000.yaml" \

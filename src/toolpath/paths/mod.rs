@@ -292,12 +292,8 @@ fn entry(steps: &mut Vec<Step>, ctx: &Ctx, pts: &[[f64; 3]], closed: bool, above
     if closed {
         steps.push(Step::Cut(start));
     }
-    let end = if closed { start } else { pts[pts.len() - 1] };
-    steps.push(Step::Rapid([
-        end[0],
-        end[1],
-        ctx.travel_z(end[0], end[0], r),
-    ]));
+    // The tool stays at the level: the next piece either slides in along
+    // it or begins by lifting from here.
 }
 
 #[cfg(test)]

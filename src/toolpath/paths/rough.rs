@@ -149,6 +149,8 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
         if pass.stepover > r {
             rings.extend(ridges(&grid, &dist, &rings, &ds, r, pass.stepover));
         }
+        // Every piece to cut at this level, smoothed.
+        let mut pieces: Vec<(Vec<[f64; 3]>, bool)> = Vec::new();
         for ring in rings {
             if ring.points.len() < 2 {
                 continue;
@@ -167,12 +169,55 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
                 if closed && piece.len() > 2 {
                     piece.pop();
                 }
+                pieces.push((piece, closed));
+            }
+        }
+        // Nearest first; a piece that starts (a ring: anywhere) within two
+        // stepovers of where the last one ended, across foam the tool may
+        // cross, is reached by a cut along the level, so only the first
+        // piece of a region ramps in from above.
+        let mut here: Option<[f64; 3]> = None;
+        while !pieces.is_empty() {
+            let (k, start) = match here {
+                Some(e) => nearest_piece(&pieces, e),
+                None => (0, 0),
+            };
+            let (mut piece, closed) = pieces.swap_remove(k);
+            if closed {
+                piece.rotate_left(start);
+            }
+            let slide = here.is_some_and(|e| {
+                let s = piece[0];
+                let len = (s[0] - e[0]).hypot(s[1] - e[1]);
+                let n = (len / 0.5).ceil().max(1.0) as usize;
+                len <= 2.0 * pass.stepover
+                    && (0..=n).all(|i| {
+                        let t = i as f64 / n as f64;
+                        let q = [e[0] + t * (s[0] - e[0]), e[1] + t * (s[1] - e[1])];
+                        // Clear of the part, and not over air above a
+                        // rockered blank.
+                        dist.at(q) >= 0.5 * first && ctx.stock_top_at(q[0]) + 1.0 >= level
+                    })
+            });
+            if slide {
+                for p in &piece {
+                    steps.push(Step::Cut(*p));
+                }
+                if closed {
+                    steps.push(Step::Cut(piece[0]));
+                }
+            } else {
                 // Enter from the level above, or from above the stock
                 // where a rockered blank's top is lower than that.
                 let x = piece[0][0];
                 let above = prev_z.min(ctx.stock_top_at(x).max(level));
                 entry(&mut steps, ctx, &piece, closed, above, level);
             }
+            here = Some(if closed {
+                piece[0]
+            } else {
+                piece[piece.len() - 1]
+            });
         }
         prev_z = level;
     }
@@ -182,6 +227,28 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
         pass,
         steps,
     }
+}
+
+/// The piece nearest `e`, and for a ring the index of its nearest point
+/// (an open piece is taken from its start, keeping its direction).
+fn nearest_piece(pieces: &[(Vec<[f64; 3]>, bool)], e: [f64; 3]) -> (usize, usize) {
+    let d = |p: &[f64; 3]| (p[0] - e[0]).hypot(p[1] - e[1]);
+    let mut best = (f64::INFINITY, 0, 0);
+    for (k, (piece, closed)) in pieces.iter().enumerate() {
+        let (i, di) = if *closed {
+            piece
+                .iter()
+                .enumerate()
+                .map(|(i, p)| (i, d(p)))
+                .fold((0, f64::INFINITY), |a, b| if b.1 < a.1 { b } else { a })
+        } else {
+            (0, d(&piece[0]))
+        };
+        if di < best.0 {
+            best = (di, k, i);
+        }
+    }
+    (best.1, best.2)
 }
 
 /// Rings more than a tool radius apart leave a ridge of foam where the
