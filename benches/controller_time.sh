@@ -7,16 +7,18 @@
 # with the program's own header and ending, asks `blanksmith verify` for
 # its estimate of each excerpt and times the excerpt in the simulation.
 #
-# Measured 2026-12-02 (the demo's programs, 1,500 lines an excerpt, the
-# shipped router's 2000/2000/1000 mm/s²; one run, the machine otherwise idle;
-# an earlier run of the roughing excerpt took 37.9 s, so allow a few %):
+# Measured 2026-12-03 on the programs of the two-ball finish and joined
+# roughing rings (1,500 lines an excerpt, the shipped router's
+# 2000/2000/1000 mm/s²; one run each, the machine otherwise idle):
 #   excerpt     estimate  LinuxCNC  ratio
-#   roughing      35.1 s    35.1 s  1.000
-#   outline       57.3 s    61.5 s  0.932
-#   finishing    191.7 s   202.6 s  0.946
-# (before accelerations were planned: finishing 127 s where LinuxCNC took
-# 145 s for the first 1,500 lines, 0.876). The outline and finishing are
-# still 5-7 % short of the controller: the 5 % aim is not yet met there.
+#   roughing     107.5 s   104.8 s  1.026
+#   outline       44.8 s    43.0 s  1.042
+#   finishing    106.6 s   113.9 s  0.936   (the 2 in ball)
+#   rails        102.3 s    98.8 s  1.035   (the 1/2 in ball's Z levels)
+# Earlier (2026-12-02, the old programs): roughing 1.000, outline 0.932,
+# finishing 0.946. The finishing excerpt is still 6 % short of the
+# controller: the 5 % aim is not yet met there. The simulation's tool
+# table must list T1-T3 (T2 50.8 mm, T3 12.7 mm).
 #
 # usage: benches/controller_time.sh SIM_DIR RUN_PROGRAM_PY [LINES]
 set -euo pipefail
