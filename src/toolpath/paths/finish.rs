@@ -111,18 +111,18 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
         .enumerate()
         .map(|(nth, j)| {
             let y = (y0 + j as f64 * stepover).min(y1);
-            let mut points: Vec<Option<[f64; 3]>> = (0..n_along)
+            let points: Vec<Option<[f64; 3]>> = (0..n_along)
                 .map(|k| {
                     let x = (x0 + k as f64 * along).min(x1);
                     if ctx.outside.at([x, y]) > reach {
                         return None;
                     }
+                    if gentle_only {
+                        return gentle(ctx, dc, x, y, theta.cos());
+                    }
                     Some([x, y, ctx.tip(dc, x, y)])
                 })
                 .collect();
-            if gentle_only {
-                points = gentle(ctx, dc, &points, theta.cos());
-            }
             let mut runs: Vec<Vec<[f64; 3]>> = Vec::new();
             let mut run: Vec<[f64; 3]> = Vec::new();
             for q in points {
@@ -154,30 +154,19 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
     (passes, n_pass * n_along)
 }
 
-/// The points of a pass where the ball rests on the part, clear of the
+/// The ball's position at (x, y) if it rests on the part, clear of the
 /// floor, on a face no steeper than the steep angle (`cos`, the cosine of
 /// it: for a ball the normal at the contact is the face's own), and
 /// wholly inside the band the roughing cleared round the outline.
-fn gentle(
-    ctx: &Ctx,
-    dc: &DropCutter,
-    points: &[Option<[f64; 3]>],
-    cos: f64,
-) -> Vec<Option<[f64; 3]>> {
+fn gentle(ctx: &Ctx, dc: &DropCutter, x: f64, y: f64, cos: f64) -> Option<[f64; 3]> {
     // The roughing's outermost ring runs 1.5 cells (3 mm) inside its band,
     // on a 2 mm grid: 5 mm kept from the wall.
     let band = ctx.job.frame - dc.cutter().radius - 5.0;
-    points
-        .iter()
-        .map(|q| {
-            let q = (*q)?;
-            if ctx.outside.at([q[0], q[1]]) > band {
-                return None;
-            }
-            let (z, n) = dc.drop_contact(q[0], q[1])?;
-            (z > ctx.floor(q[0]) + 0.05 && n[2] >= cos).then_some(q)
-        })
-        .collect()
+    if ctx.outside.at([x, y]) > band {
+        return None;
+    }
+    let (z, n) = dc.drop_contact(x, y)?;
+    (z > ctx.floor(x) + 0.05 && n[2] >= cos).then_some([x, y, z])
 }
 
 /// The runs in the order a greedy tour takes them: from `from`, each
