@@ -174,7 +174,13 @@ impl JobReader<'_> {
         }
     }
 
-    fn pass(&self, spec: &PassSpec, which: Strategy) -> Result<Pass, DescriptionError> {
+    /// The pass's tool: the one named, or the machine's default for the
+    /// strategy, of the kind it needs.
+    fn tool(
+        &self,
+        spec: &PassSpec,
+        which: Strategy,
+    ) -> Result<crate::model::machine::Tool, DescriptionError> {
         let name = which.field();
         let f = |s: &str| format!("{name}.{s}");
         let m = self.machine;
@@ -246,6 +252,14 @@ impl JobReader<'_> {
                 "name a flat or bull-nose tool",
             );
         }
+        Ok(tool)
+    }
+
+    fn pass(&self, spec: &PassSpec, which: Strategy) -> Result<Pass, DescriptionError> {
+        let name = which.field();
+        let f = |s: &str| format!("{name}.{s}");
+        let m = self.machine;
+        let tool = self.tool(spec, which)?;
         let d = 2.0 * tool.cutter.radius;
         let default_stepdown = match which {
             // Deep levels in foam, within the tool's max_stepdown (common
@@ -355,6 +369,180 @@ impl JobReader<'_> {
             spindle,
             climb: spec.direction != Some(Direction::Conventional),
         })
+    }
+
+    /// Finishing and the rail band's pass, with their rules.
+    fn finish(&self, fin_spec: PassSpec, rails_spec: PassSpec) -> Result<Finish, DescriptionError> {
+        self.forbid(
+            &fin_spec.stepdown,
+            "finishing.stepdown",
+            "finishing follows the surface; its stepover comes from `scallop`",
+        )?;
+        self.forbid(
+            &fin_spec.stepover,
+            "finishing.stepover",
+            "the stepover follows from `scallop`",
+        )?;
+        let pass = self.pass(&fin_spec, Strategy::Finishing)?;
+        let radius = pass.tool.cutter.radius;
+        let scallop = self.length_or(
+            &fin_spec.scallop,
+            DEFAULT_SCALLOP,
+            "finishing.scallop",
+            0.001,
+            radius,
+            "the cusp height left between passes, e.g. 0.3 mm for a board sanded afterwards, 0.1 mm for a fine finish",
+        )?;
+        if scallop <= 0.0 {
+            return self.r.fail(
+                &fin_spec.scallop.as_ref().unwrap().referenced,
+                "finishing.scallop",
+                "must be more than 0",
+                "e.g. 0.1 mm",
+            );
+        }
+        let steep_angle = match &fin_spec.steep_angle {
+            Some(v) => self.r.number(
+                v,
+                "finishing.steep_angle",
+                20.0,
+                70.0,
+                "degrees; the rail band above this slope is finished by Z levels",
+            )?,
+            None => 45.0,
+        };
+        let tolerance = self.length_or(
+            &fin_spec.tolerance,
+            0.02,
+            "finishing.tolerance",
+            0.001,
+            1.0,
+            "the chord tolerance along a pass",
+        )?;
+        for (v, field) in [
+            (rails_spec.stepdown.is_some(), "rails.stepdown"),
+            (rails_spec.stepover.is_some(), "rails.stepover"),
+            (rails_spec.steep_angle.is_some(), "rails.steep_angle"),
+            (rails_spec.tolerance.is_some(), "rails.tolerance"),
+            (rails_spec.leave.is_some(), "rails.leave"),
+        ] {
+            if v {
+                return self.r.fail(
+                    &self.top,
+                    field,
+                    "is not taken: the rail band is cut in Z levels from `rails.scallop`, starting at finishing.steep_angle, to finishing.tolerance",
+                    "set it under finishing, or leave it out",
+                );
+            }
+        }
+        let rail_pass = self.pass(&rails_spec, Strategy::Rails)?;
+        let rail_scallop = self.length_or(
+            &rails_spec.scallop,
+            scallop,
+            "rails.scallop",
+            0.001,
+            rail_pass.tool.cutter.radius,
+            "the cusp height left between Z levels on the rail, e.g. 0.3 mm",
+        )?;
+        if rail_scallop <= 0.0 {
+            return self.r.fail(
+                &rails_spec
+                    .scallop
+                    .as_ref()
+                    .map_or(self.top, |v| v.referenced),
+                "rails.scallop",
+                "must be more than 0",
+                "e.g. 0.3 mm",
+            );
+        }
+        // One ball on the machine (or the same named twice): it cuts the rail
+        // band too, in the finishing program.
+        let rails = (rail_pass.tool.id != pass.tool.id).then_some(RailPass {
+            pass: rail_pass,
+            scallop: rail_scallop,
+        });
+        Ok(Finish {
+            pass,
+            scallop,
+            steep_angle,
+            tolerance,
+            rails,
+        })
+    }
+
+    /// The stock as the job gives it: a flat block, a pre-rockered blank,
+    /// or none (sized from the board).
+    fn stock(&self, stock: Option<&BlockSpec>) -> Result<Option<Block>, DescriptionError> {
+        let r = &self.r;
+        Ok(match stock {
+            None => None,
+            Some(b) => {
+                let need = |v: &Option<Spanned<LengthValue>>,
+                            name: &str,
+                            hi: f64|
+                 -> Result<f64, DescriptionError> {
+                    match v {
+                        Some(v) => r.length(v, &format!("stock.{name}"), 0.0, hi, "the block's size"),
+                        None => r.fail(&Location::UNKNOWN, &format!("stock.{name}"), "is missing", "give length, width and thickness, or leave out `stock:` to size the block from the board"),
+                    }
+                };
+                let length = need(&b.length, "length", 20_000.0)?;
+                let width = need(&b.width, "width", 20_000.0)?;
+                match &b.rocker {
+                    None => {
+                        if let Some(a) = &b.allowance {
+                            return r.fail(
+                                &a.referenced,
+                                "stock.allowance",
+                                "is only for a rockered blank",
+                                "a flat block's faces are flat; leave it out, or give `rocker:` stations",
+                            );
+                        }
+                        Some(Block::flat(
+                            length,
+                            width,
+                            need(&b.thickness, "thickness", 2000.0)?,
+                        ))
+                    }
+                    Some(st) => Some(rockered_blank(r, b, st, length, width)?),
+                }
+            }
+        })
+    }
+
+    /// The registration holes: diameter, gap from each tip, depth into the
+    /// spoilboard.
+    fn registration(
+        &self,
+        holes: HolesSpec,
+        frame: f64,
+        d_rough: f64,
+    ) -> Result<[f64; 3], DescriptionError> {
+        let hole_diameter = self.length_or(
+            &holes.diameter,
+            25.4,
+            "registration.diameter",
+            d_rough,
+            100.0,
+            "at least the roughing tool's diameter; the holes are bored with it",
+        )?;
+        let hole_gap = self.length_or(
+            &holes.gap,
+            frame + d_rough + 10.0,
+            "registration.gap",
+            frame + d_rough,
+            1000.0,
+            "from each tip to its hole; beyond the cut band",
+        )?;
+        let pin_depth = self.length_or(
+            &holes.pin_depth,
+            self.machine.spoilboard_allowance.min(4.0),
+            "registration.pin_depth",
+            0.0,
+            self.machine.spoilboard_allowance,
+            "how far the holes go into the spoilboard; at most the machine's spoilboard_allowance",
+        )?;
+        Ok([hole_diameter, hole_gap, pin_depth])
     }
 
     fn forbid<T>(
@@ -533,40 +721,7 @@ fn resolve(
         top: Location::UNKNOWN,
     };
     let r = &jr.r;
-    let stock = match &raw.stock {
-        None => None,
-        Some(b) => {
-            let need = |v: &Option<Spanned<LengthValue>>,
-                        name: &str,
-                        hi: f64|
-             -> Result<f64, DescriptionError> {
-                match v {
-                    Some(v) => r.length(v, &format!("stock.{name}"), 0.0, hi, "the block's size"),
-                    None => r.fail(&Location::UNKNOWN, &format!("stock.{name}"), "is missing", "give length, width and thickness, or leave out `stock:` to size the block from the board"),
-                }
-            };
-            let length = need(&b.length, "length", 20_000.0)?;
-            let width = need(&b.width, "width", 20_000.0)?;
-            match &b.rocker {
-                None => {
-                    if let Some(a) = &b.allowance {
-                        return r.fail(
-                            &a.referenced,
-                            "stock.allowance",
-                            "is only for a rockered blank",
-                            "a flat block's faces are flat; leave it out, or give `rocker:` stations",
-                        );
-                    }
-                    Some(Block::flat(
-                        length,
-                        width,
-                        need(&b.thickness, "thickness", 2000.0)?,
-                    ))
-                }
-                Some(st) => Some(rockered_blank(r, b, st, length, width)?),
-            }
-        }
-    };
+    let stock = jr.stock(raw.stock.as_ref())?;
     let tp = raw.table_position.unwrap_or_default();
     let table_position = [
         jr.length_or(
@@ -613,93 +768,10 @@ fn resolve(
     let roughing = jr.pass(&raw.roughing.unwrap_or_default(), Strategy::Roughing)?;
     let outline_spec = raw.outline.unwrap_or_default();
     let outline = jr.pass(&outline_spec, Strategy::Outline)?;
-    let fin_spec = raw.finishing.unwrap_or_default();
-    jr.forbid(
-        &fin_spec.stepdown,
-        "finishing.stepdown",
-        "finishing follows the surface; its stepover comes from `scallop`",
+    let finishing = jr.finish(
+        raw.finishing.unwrap_or_default(),
+        raw.rails.unwrap_or_default(),
     )?;
-    jr.forbid(
-        &fin_spec.stepover,
-        "finishing.stepover",
-        "the stepover follows from `scallop`",
-    )?;
-    let pass = jr.pass(&fin_spec, Strategy::Finishing)?;
-    let radius = pass.tool.cutter.radius;
-    let scallop = jr.length_or(
-        &fin_spec.scallop,
-        DEFAULT_SCALLOP,
-        "finishing.scallop",
-        0.001,
-        radius,
-        "the cusp height left between passes, e.g. 0.3 mm for a board sanded afterwards, 0.1 mm for a fine finish",
-    )?;
-    if scallop <= 0.0 {
-        return r.fail(
-            &fin_spec.scallop.as_ref().unwrap().referenced,
-            "finishing.scallop",
-            "must be more than 0",
-            "e.g. 0.1 mm",
-        );
-    }
-    let steep_angle = match &fin_spec.steep_angle {
-        Some(v) => r.number(
-            v,
-            "finishing.steep_angle",
-            20.0,
-            70.0,
-            "degrees; the rail band above this slope is finished by Z levels",
-        )?,
-        None => 45.0,
-    };
-    let tolerance = jr.length_or(
-        &fin_spec.tolerance,
-        0.02,
-        "finishing.tolerance",
-        0.001,
-        1.0,
-        "the chord tolerance along a pass",
-    )?;
-    let rails_spec = raw.rails.unwrap_or_default();
-    for (v, field) in [
-        (rails_spec.stepdown.is_some(), "rails.stepdown"),
-        (rails_spec.stepover.is_some(), "rails.stepover"),
-        (rails_spec.steep_angle.is_some(), "rails.steep_angle"),
-        (rails_spec.tolerance.is_some(), "rails.tolerance"),
-        (rails_spec.leave.is_some(), "rails.leave"),
-    ] {
-        if v {
-            return r.fail(
-                &jr.top,
-                field,
-                "is not taken: the rail band is cut in Z levels from `rails.scallop`, starting at finishing.steep_angle, to finishing.tolerance",
-                "set it under finishing, or leave it out",
-            );
-        }
-    }
-    let rail_pass = jr.pass(&rails_spec, Strategy::Rails)?;
-    let rail_scallop = jr.length_or(
-        &rails_spec.scallop,
-        scallop,
-        "rails.scallop",
-        0.001,
-        rail_pass.tool.cutter.radius,
-        "the cusp height left between Z levels on the rail, e.g. 0.3 mm",
-    )?;
-    if rail_scallop <= 0.0 {
-        return r.fail(
-            &rails_spec.scallop.as_ref().map_or(jr.top, |v| v.referenced),
-            "rails.scallop",
-            "must be more than 0",
-            "e.g. 0.3 mm",
-        );
-    }
-    // One ball on the machine (or the same named twice): it cuts the rail
-    // band too, in the finishing program.
-    let rails = (rail_pass.tool.id != pass.tool.id).then_some(RailPass {
-        pass: rail_pass,
-        scallop: rail_scallop,
-    });
     {
         let (name, spec) = ("outline", &outline_spec);
         jr.forbid(
@@ -758,31 +830,8 @@ fn resolve(
         100.0,
         "tab height; more than twice the parting overlap",
     )?;
-    let holes = raw.registration.unwrap_or_default();
-    let hole_diameter = jr.length_or(
-        &holes.diameter,
-        25.4,
-        "registration.diameter",
-        d_rough,
-        100.0,
-        "at least the roughing tool's diameter; the holes are bored with it",
-    )?;
-    let hole_gap = jr.length_or(
-        &holes.gap,
-        frame + d_rough + 10.0,
-        "registration.gap",
-        frame + d_rough,
-        1000.0,
-        "from each tip to its hole; beyond the cut band",
-    )?;
-    let pin_depth = jr.length_or(
-        &holes.pin_depth,
-        machine.spoilboard_allowance.min(4.0),
-        "registration.pin_depth",
-        0.0,
-        machine.spoilboard_allowance,
-        "how far the holes go into the spoilboard; at most the machine's spoilboard_allowance",
-    )?;
+    let [hole_diameter, hole_gap, pin_depth] =
+        jr.registration(raw.registration.unwrap_or_default(), frame, d_rough)?;
     Ok(Job {
         stock,
         table_position,
@@ -796,13 +845,7 @@ fn resolve(
         skin,
         roughing,
         outline,
-        finishing: Finish {
-            pass,
-            scallop,
-            steep_angle,
-            tolerance,
-            rails,
-        },
+        finishing,
     })
 }
 
