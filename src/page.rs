@@ -88,6 +88,7 @@ fn toolpath_svg(plan: &CutPlan, side: usize) -> String {
         ("roughing", "#c07020"),
         ("outline", "#a00"),
         ("finishing", "#2060c0"),
+        ("rails", "#2a9a50"),
     ];
     let sp = &plan.setups[side];
     for p in &sp.paths {
@@ -95,7 +96,11 @@ fn toolpath_svg(plan: &CutPlan, side: usize) -> String {
             .iter()
             .find(|c| c.0 == p.label)
             .map_or("#444", |c| c.1);
-        let every = if p.label == "finishing" { 4 } else { 1 };
+        let every = if matches!(p.label, "finishing" | "rails") {
+            4
+        } else {
+            1
+        };
         let mut d = String::new();
         let mut pen = false;
         for (k, st) in p.steps.iter().enumerate() {
@@ -260,7 +265,7 @@ pub fn board_page(p: &BoardPage) -> String {
             {
                 let _ = write!(s, "<h3>{name}</h3>{}", toolpath_svg(plan, k));
             }
-            s.push_str("<p>Black: registration holes; orange: roughing; red: outline; blue: finishing (every 4th move).</p><table><tr><th class=\"l\">program</th><th class=\"l\">tool</th><th class=\"l\">cuts</th><th>time</th></tr>");
+            s.push_str("<p>Black: registration holes; orange: roughing; red: outline; blue: finishing; green: the rail band (finishing and rails every 4th move).</p><table><tr><th class=\"l\">program</th><th class=\"l\">tool</th><th class=\"l\">cuts</th><th>time</th></tr>");
             for pr in &plan.programs {
                 let _ = write!(
                     s,
