@@ -131,13 +131,13 @@ pub fn report(
     water: &Water,
     file: &Path,
 ) -> Result<Meshed, JobError> {
-    let for_board = |source| JobError::WaterFor {
-        board: file.display().to_string(),
-        source,
-    };
-    crate::volume::tail_pull::estimate(&board, water).map_err(for_board)?;
+    let pull =
+        crate::volume::tail_pull::estimate(&board, water).map_err(|source| JobError::WaterFor {
+            board: file.display().to_string(),
+            source,
+        })?;
     let mut m = certify_only(board, tolerance)?;
-    m.report = m.report.with_water(&m.board, water).map_err(for_board)?;
+    m.report.tail_pull = Some(pull);
     Ok(m)
 }
 

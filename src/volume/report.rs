@@ -10,7 +10,7 @@ use crate::model::board::Board;
 use crate::units::{self, Both, MM_PER_FOOT, MM_PER_INCH};
 use crate::volume::certificate::{Certificate, Certified};
 use crate::volume::integrals;
-use crate::volume::tail_pull::{self, TailPull, Water, WaterError};
+use crate::volume::tail_pull::{self, TailPull, Water};
 
 /// One row of the measurement table.
 #[derive(Debug, Clone, Serialize)]
@@ -225,12 +225,6 @@ impl Report {
             stl,
             stl_clean: None,
         }
-    }
-
-    /// The tail pull estimated for `water` instead of the defaults.
-    pub fn with_water(mut self, board: &Board, water: &Water) -> Result<Report, WaterError> {
-        self.tail_pull = Some(tail_pull::estimate(board, water)?);
-        Ok(self)
     }
 
     /// The report as pretty JSON (deterministic: fields in a fixed order).
