@@ -252,7 +252,7 @@ fn the_registration_holes_map_onto_themselves_through_the_flip() {
     // A half turn about the block's X axis keeps points on its centre plane
     // in place (geometry); both holes are on it.
     let p = &shortboard().plan.placement;
-    for h in p.holes {
+    for h in &p.holes {
         let q = setup::flip([h[0], h[1], -10.0], &p.block);
         assert!((q[0] - h[0]).abs() < 1e-12 && (q[1] - h[1]).abs() < 1e-12);
     }

@@ -98,6 +98,19 @@ fn cases() -> Vec<(String, Vec<String>)> {
         ],
     );
     add(
+        "make-demo-cradle".into(),
+        &[
+            "make",
+            "-o",
+            "{out}",
+            "--job",
+            "fixtures/job-cradle.yaml",
+            "--machine",
+            MACHINE,
+            "--quiet",
+        ],
+    );
+    add(
         "cut-box".into(),
         &[
             "cut",

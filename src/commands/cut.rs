@@ -21,6 +21,10 @@ use std::path::{Path, PathBuf};
 pub(crate) fn cut_family(name: &str) -> impl Fn(&str) -> bool + '_ {
     move |n: &str| {
         if n == format!("{name}.setup.txt")
+            || n == format!("{name}.cradles.pdf")
+            || n.strip_prefix(name)
+                .and_then(|r| r.strip_prefix(".cradle-"))
+                .is_some_and(|r| matches!(r, "1.svg" | "2.svg"))
             || n.strip_prefix(name)
                 .is_some_and(|r| r.starts_with(".verify."))
         {
@@ -114,6 +118,24 @@ pub fn cut_files(
         plan.sheet.clone().into_bytes(),
     ));
     files.extend(verification_files(&verification, design.name(), dir));
+    let cradles = crate::template::cradle::cradles(&plan.placement, job, design.name());
+    if !cradles.is_empty() {
+        let paper = crate::template::tiling::A4;
+        let pages: Vec<_> = cradles
+            .iter()
+            .flat_map(|(_, d)| crate::template::tiling::tile(d, paper, design.name()))
+            .collect();
+        files.push((
+            dir.join(format!("{}.cradles.pdf", design.name())),
+            crate::template::tiling::to_pdf(&pages),
+        ));
+        for (setup, d) in &cradles {
+            files.push((
+                dir.join(format!("{}.cradle-{setup}.svg", design.name())),
+                crate::template::drawing::to_svg(d).into_bytes(),
+            ));
+        }
+    }
     Ok((plan, verification, files))
 }
 

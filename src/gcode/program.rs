@@ -7,7 +7,7 @@ use std::io::BufReader;
 use crate::gcode::read::{self, Event, Motion, ReadOptions};
 use crate::gcode::timing;
 use crate::gcode::write::{self, CAUTIONS, Header};
-use crate::model::job::Job;
+use crate::model::job::{Holding, Job};
 use crate::model::limits::Bed;
 use crate::model::machine::{Machine, Tool};
 use crate::model::mesh::Mesh;
@@ -475,7 +475,14 @@ pub fn setup_sheet(
         s.push_str(&format!("  {l}\n"));
     }
     let b = &place.block;
-    let [h1, h2] = place.holes;
+    let holes = place
+        .holes
+        .iter()
+        .map(|h| format!("X {:.1} mm Y {:.1} mm", h[0], h[1]))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let n_holes = place.holes.len();
+    let cradle = job.holding == Holding::Cradle;
     let mut step = 0;
     let mut next = |text: String, s: &mut String| {
         step += 1;
@@ -504,6 +511,11 @@ pub fn setup_sheet(
             "lift or slide (clamps outside the cut band, or vacuum)",
         )
     };
+    let hold = if cradle {
+        "lift, rock or slide, by vacuum through the cradle or spoilboard: the programs cut away all the stock round the board, out past its edges, so no clamp may stand on it or beside it"
+    } else {
+        hold
+    };
     next(
         format!(
             "Fix the blank: {what} at machine X {:.1} mm, Y {:.1} mm, long side along X. Hold it so it cannot {hold}.",
@@ -526,14 +538,38 @@ pub fn setup_sheet(
     for p in programs {
         if p.side == Side::Bottom && !flipped {
             flipped = true;
-            if rockered {
+            if cradle {
                 next(
                     format!(
-                        "Flip: lift the blank off, turn it over about its long (X) axis, and set it deck down in a second cradle cut to its deck curve, on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), drilled through the blank and {:.1} mm into the first cradle: the second cradle's pin holes stand at the same machine X, Y. Pins must not stand above the blank.",
-                        h1[0], h2[0], h1[1], job.pin_depth
+                        "Flip: lift the {stock} off, turn it over about its long (X) axis, and set it deck down in the deck cradle (cut to the board's deck as designed, which setup 1 cut: the cradle template's profile), on pins in the {n_holes} registration holes ({holes}), through the stock and {:.1} mm into {under}: the pins stand at the same machine X, Y. Pins must not stand above the stock. The pins register the stock until the roughing clears the margin round the board; from then the board lies free in the cradle: hold it down by vacuum through the cradle or by the shop's own hold-downs away from the cut, never by hand.",
+                        job.pin_depth,
+                        stock = if rockered { "blank" } else { "block" },
+                        under = if rockered {
+                            "the first cradle"
+                        } else {
+                            "the spoilboard"
+                        },
                     ),
                     &mut s,
                 );
+            } else if rockered {
+                next(
+                    format!(
+                        "Flip: lift the blank off, turn it over about its long (X) axis, and set it deck down in a second cradle cut to its deck curve, on pins in the {n_holes} registration holes ({holes}), drilled through the blank and {:.1} mm into the first cradle: the second cradle's pin holes stand at the same machine X, Y. Pins must not stand above the blank.",
+                        job.pin_depth
+                    ),
+                    &mut s,
+                );
+            } else {
+                next(
+                    format!(
+                        "Flip: lift the block off, turn it over about its long (X) axis, and set it back on pins in the {n_holes} registration holes ({holes}), through the block and {:.1} mm into the spoilboard. The front-left corner is again at the same machine X, Y. Pins must not stand above the block's top face.",
+                        job.pin_depth
+                    ),
+                    &mut s,
+                );
+            }
+            if rockered {
                 next(
                     format!(
                         "Set Z0 again on the new highest point (the bottom's lowest point), at X {}; X0 Y0 are unchanged.",
@@ -542,13 +578,6 @@ pub fn setup_sheet(
                     &mut s,
                 );
             } else {
-                next(
-                    format!(
-                        "Flip: lift the block off, turn it over about its long (X) axis, and set it back on pins in the two registration holes (X {:.1} mm and X {:.1} mm, Y {:.1} mm), through the block and {:.1} mm into the spoilboard. The front-left corner is again at the same machine X, Y. Pins must not stand above the block's top face.",
-                        h1[0], h2[0], h1[1], job.pin_depth
-                    ),
-                    &mut s,
-                );
                 next(
                     "Set Z0 again on the new top face (it was the bottom face); X0 Y0 are unchanged."
                         .into(),
@@ -575,14 +604,16 @@ pub fn setup_sheet(
             );
         }
     }
-    next(
-        format!(
-            "Remove the tabs: the board is held at nose and tail by tabs {} wide and {} high; cut them with a fine saw and sand them fair by hand.",
-            both(job.tabs[0]),
-            both(job.tabs[1])
-        ),
-        &mut s,
-    );
+    if !cradle {
+        next(
+            format!(
+                "Remove the tabs: the board is held at nose and tail by tabs {} wide and {} high; cut them with a fine saw and sand them fair by hand.",
+                both(job.tabs[0]),
+                both(job.tabs[1])
+            ),
+            &mut s,
+        );
+    }
     next(
         "Sand the scallops and the parting line at the rail apex by hand.".into(),
         &mut s,

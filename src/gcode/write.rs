@@ -24,7 +24,7 @@ pub const CAUTIONS: &[&str] = &[
     "CAUTION: the machine maker's manual, your shop rules and local codes come first; this program does not replace them",
     "CAUTION: check work zero and tool length before starting; run an air cut first (zero raised above the stock)",
     "CAUTION: keep the emergency stop within reach; keep hands and loose clothing clear of the gantry and cutter",
-    "CAUTION: secure the blank and the frame so nothing can lift; never hold foam by hand near the cutter",
+    "CAUTION: secure the blank, and the board once it is cut free, so nothing can lift; never hold foam by hand near the cutter",
     "CAUTION: run dust extraction and wear a respirator suited to foam dust; wear eye and ear protection",
 ];
 

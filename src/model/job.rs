@@ -194,6 +194,20 @@ impl Finish {
     }
 }
 
+/// How the board is held while it is cut.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Holding {
+    /// A band is cut round the outline; beyond it the stock stays whole
+    /// as a frame, which holds the board by tabs at nose and tail and
+    /// rests on the table after the flip.
+    Frame,
+    /// The stock lies in a cradle (the table for a flat block) in setup 1
+    /// and deck down in a cradle cut to the board's deck in setup 2; all
+    /// the stock off the board is cut away, no tabs. Needs no more than
+    /// a blank's usual margins.
+    Cradle,
+}
+
 /// A job, resolved against its machine.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Job {
@@ -203,8 +217,11 @@ pub struct Job {
     pub table_position: [f64; 2],
     /// Tilt rule.
     pub pitch: Pitch,
+    /// How the board is held.
+    pub holding: Holding,
     /// Width of the band cut around the outline; beyond it the block stays
-    /// whole and holds the board by its tabs.
+    /// whole and holds the board by its tabs (with a frame; see
+    /// [`Job::band`]).
     pub frame: f64,
     /// How far each side cuts past the parting surface.
     pub overlap: f64,
@@ -224,6 +241,17 @@ pub struct Job {
     pub outline: Pass,
     /// Finishing.
     pub finishing: Finish,
+}
+
+impl Job {
+    /// How far from the outline the stock is cut away: the frame's band,
+    /// or everything (infinite) when a cradle holds the board.
+    pub fn band(&self) -> f64 {
+        match self.holding {
+            Holding::Frame => self.frame,
+            Holding::Cradle => f64::INFINITY,
+        }
+    }
 }
 
 impl Pass {

@@ -10,7 +10,7 @@ use serde_saphyr::{Location, Spanned};
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::model::curve::Curve;
-use crate::model::job::{BlankRocker, Block, Finish, Job, Pass, Pitch, RailPass};
+use crate::model::job::{BlankRocker, Block, Finish, Holding, Job, Pass, Pitch, RailPass};
 use crate::model::machine::{Machine, ToolKind};
 use crate::profiles::machine::{FeedValue, Reader, StepoverValue, mm_text, read_text};
 use crate::units::Unit;
@@ -111,6 +111,13 @@ struct PassSpec {
     tolerance: Option<Spanned<LengthValue>>,
 }
 
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize)]
+#[serde(rename_all = "snake_case")]
+enum HoldingWord {
+    Frame,
+    Cradle,
+}
+
 #[derive(Debug, Default, Deserialize)]
 #[serde(deny_unknown_fields)]
 struct JobFile {
@@ -118,6 +125,7 @@ struct JobFile {
     stock: Option<BlockSpec>,
     table_position: Option<XySpec>,
     placement: Option<PlacementSpec>,
+    holding: Option<Spanned<HoldingWord>>,
     frame: Option<Spanned<LengthValue>>,
     parting_overlap: Option<Spanned<LengthValue>>,
     tabs: Option<TabsSpec>,
@@ -510,11 +518,44 @@ impl JobReader<'_> {
         })
     }
 
+    /// The frame's width: the band cut round the outline, wider than the
+    /// roughing and outline tools.
+    fn frame(
+        &self,
+        spec: &Option<Spanned<LengthValue>>,
+        d_rough: f64,
+        outline: &Pass,
+    ) -> Result<f64, DescriptionError> {
+        let frame = self.length_or(
+            spec,
+            (2.0 * d_rough).max(40.0),
+            "frame",
+            0.0,
+            1000.0,
+            "the width of the band cut around the outline",
+        )?;
+        let need_frame = d_rough.max(2.0 * outline.tool.cutter.radius) + 1.0;
+        if frame < need_frame {
+            return self.r.fail(
+                &spec.as_ref().map_or(Location::UNKNOWN, |f| f.referenced),
+                "frame",
+                format!(
+                    "is {}; it must be wider than the roughing tool ({})",
+                    mm_text(frame),
+                    mm_text(need_frame)
+                ),
+                "widen the band",
+            );
+        }
+        Ok(frame)
+    }
+
     /// The registration holes: diameter, gap from each tip, depth into the
     /// spoilboard.
     fn registration(
         &self,
         holes: HolesSpec,
+        holding: Holding,
         frame: f64,
         d_rough: f64,
     ) -> Result<[f64; 3], DescriptionError> {
@@ -526,14 +567,18 @@ impl JobReader<'_> {
             100.0,
             "at least the roughing tool's diameter; the holes are bored with it",
         )?;
-        let hole_gap = self.length_or(
-            &holes.gap,
-            frame + d_rough + 10.0,
-            "registration.gap",
-            frame + d_rough,
-            1000.0,
-            "from each tip to its hole; beyond the cut band",
-        )?;
+        // With a frame the holes stand in the whole stock beyond the band;
+        // in a cradle the whole margin is cut, and the gap only keeps the
+        // hole off the board.
+        let (gap, least, rule) = match holding {
+            Holding::Frame => (
+                frame + d_rough + 10.0,
+                frame + d_rough,
+                "from each tip to its hole; beyond the cut band",
+            ),
+            Holding::Cradle => (5.0, 2.0, "from the board's outline to each hole's edge"),
+        };
+        let hole_gap = self.length_or(&holes.gap, gap, "registration.gap", least, 1000.0, rule)?;
         let pin_depth = self.length_or(
             &holes.pin_depth,
             self.machine.spoilboard_allowance.min(4.0),
@@ -781,30 +826,22 @@ fn resolve(
         )?;
     }
     let d_rough = 2.0 * roughing.tool.cutter.radius;
-    let frame_default = (2.0 * d_rough).max(40.0);
-    let frame = jr.length_or(
-        &raw.frame,
-        frame_default,
-        "frame",
-        0.0,
-        1000.0,
-        "the width of the band cut around the outline",
-    )?;
-    let need_frame = d_rough.max(2.0 * outline.tool.cutter.radius) + 1.0;
-    if frame < need_frame {
-        return r.fail(
-            &raw.frame
-                .as_ref()
-                .map_or(Location::UNKNOWN, |f| f.referenced),
-            "frame",
-            format!(
-                "is {}; it must be wider than the roughing tool ({})",
-                mm_text(frame),
-                mm_text(need_frame)
-            ),
-            "widen the band",
-        );
-    }
+    let holding = match raw.holding.as_ref().map(|h| h.value) {
+        Some(HoldingWord::Cradle) => Holding::Cradle,
+        Some(HoldingWord::Frame) | None => Holding::Frame,
+    };
+    let frame = match holding {
+        Holding::Frame => jr.frame(&raw.frame, d_rough, &outline)?,
+        Holding::Cradle => {
+            let why = "a cradle holds the board: all the stock off it is cut away";
+            jr.forbid(&raw.frame, "frame", why)?;
+            if let Some(t) = &raw.tabs {
+                jr.forbid(&t.width, "tabs.width", why)?;
+                jr.forbid(&t.height, "tabs.height", why)?;
+            }
+            0.0
+        }
+    };
     let overlap = jr.length_or(
         &raw.parting_overlap,
         1.0,
@@ -830,12 +867,17 @@ fn resolve(
         100.0,
         "tab height; more than twice the parting overlap",
     )?;
-    let [hole_diameter, hole_gap, pin_depth] =
-        jr.registration(raw.registration.unwrap_or_default(), frame, d_rough)?;
+    let [hole_diameter, hole_gap, pin_depth] = jr.registration(
+        raw.registration.unwrap_or_default(),
+        holding,
+        frame,
+        d_rough,
+    )?;
     Ok(Job {
         stock,
         table_position,
         pitch,
+        holding,
         frame,
         overlap,
         tabs: [tab_w, tab_h],

@@ -168,7 +168,7 @@ impl Side {
     }
 }
 
-fn label(mm: f64) -> String {
+pub(crate) fn label(mm: f64) -> String {
     // Templates speak both systems; ASCII only (PDF base fonts).
     format!("{:.1} mm / {}", mm, units::inches(mm))
 }

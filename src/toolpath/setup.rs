@@ -6,7 +6,7 @@
 //! corner. The second setup is the block turned over about the X axis,
 //! and its zero is again the top front-left corner.
 
-use crate::model::job::{Block, Job, Pitch};
+use crate::model::job::{Block, Holding, Job, Pitch};
 use crate::model::mesh::{Mesh, cross, norm, sub};
 use crate::profiles::machine::mm_text;
 use crate::units;
@@ -88,8 +88,10 @@ pub struct Placement {
     pub half_width: f64,
     /// Centreline Y (the stringer).
     pub centre_y: f64,
-    /// Registration hole centres (X, Y), setup-1 coordinates.
-    pub holes: [[f64; 2]; 2],
+    /// Registration hole centres (X, Y), setup-1 coordinates: on the
+    /// centreline, or in pairs mirrored about it (the flip maps each hole
+    /// of a pair onto the other).
+    pub holes: Vec<[f64; 2]>,
     /// Tab blocks in setup-1 coordinates.
     pub tabs: Vec<Mesh>,
     /// Room around the board.
@@ -182,8 +184,16 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     }
     let size = [thi[0] - tlo[0], thi[1] - tlo[1], thi[2] - tlo[2]];
     let r_rough = job.roughing.tool.cutter.radius;
-    let end_need = job.hole_gap + job.hole_diameter + 10.0;
-    let side_need = job.frame + 2.0 * r_rough + 5.0;
+    // With a frame, the band, the tool's width and 5 mm of whole stock at
+    // the sides, and the holes beyond each tip; in a cradle only the skin
+    // (the holes find their own room, below).
+    let (end_need, side_need) = match job.holding {
+        Holding::Frame => (
+            job.hole_gap + job.hole_diameter + 10.0,
+            job.frame + 2.0 * r_rough + 5.0,
+        ),
+        Holding::Cradle => (job.skin, job.skin),
+    };
     let block = match &job.stock {
         Some(b) => b.clone(),
         None => {
@@ -197,9 +207,13 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     };
     let mut short = Vec::new();
     let need_len = size[0] + 2.0 * end_need;
+    let what_for = match job.holding {
+        Holding::Frame => "room for its holes and frame",
+        Holding::Cradle => "its skin at each end",
+    };
     if block.length < need_len {
         short.push(format!(
-            "length: the block is {} long, the board with room for its holes and frame needs {} ({} short)",
+            "length: the block is {} long, the board with {what_for} needs {} ({} short)",
             both(block.length),
             both(need_len),
             both(need_len - block.length)
@@ -208,8 +222,12 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     let need_w = size[1] + 2.0 * side_need;
     if block.width < need_w {
         short.push(format!(
-            "width: the block is {} wide, the board with its cut band and frame needs {} ({} short)",
+            "width: the block is {} wide, the board with {} needs {} ({} short)",
             both(block.width),
+            match job.holding {
+                Holding::Frame => "its cut band and frame",
+                Holding::Cradle => "its skin at each side",
+            },
             both(need_w),
             both(need_w - block.width)
         ));
@@ -334,11 +352,16 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
             )
         }
     };
-    let hr = job.hole_diameter / 2.0;
-    let holes = [
-        [x_range[0] - job.hole_gap - hr, centre_y],
-        [x_range[1] + job.hole_gap + hr, centre_y],
-    ];
+    let holes = match job.holding {
+        Holding::Frame => {
+            let hr = job.hole_diameter / 2.0;
+            vec![
+                [x_range[0] - job.hole_gap - hr, centre_y],
+                [x_range[1] + job.hole_gap + hr, centre_y],
+            ]
+        }
+        Holding::Cradle => cradle_holes(&part, x_range, centre_y, &block, job)?,
+    };
     // Tabs: from 5 mm inside each tip out past the cut band, centred on the
     // parting height at the tip.
     let tab = |x0: f64, x1: f64, z: f64| {
@@ -373,10 +396,13 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     let z_nose = parting.first().map_or(0.0, |p| p[1]);
     let z_tail = parting.last().map_or(0.0, |p| p[1]);
     let reach = job.frame + 2.0 * r_rough + 5.0;
-    let tabs = vec![
-        tab(x_range[0] - reach, x_range[0] + 5.0, z_nose),
-        tab(x_range[1] - 5.0, x_range[1] + reach, z_tail),
-    ];
+    let tabs = match job.holding {
+        Holding::Frame => vec![
+            tab(x_range[0] - reach, x_range[0] + 5.0, z_nose),
+            tab(x_range[1] - 5.0, x_range[1] + reach, z_tail),
+        ],
+        Holding::Cradle => Vec::new(),
+    };
     let tail = block.length - x_range[1];
     Ok(Placement {
         block,
@@ -397,6 +423,60 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
             side: centre_y - half_width,
         },
     })
+}
+
+/// Least stock between a registration hole and the stock's edge.
+const HOLE_WALL: f64 = 5.0;
+
+/// The registration holes of a board held in a cradle, at each end: on
+/// the centreline beyond the tip where the end margin holds the hole, its
+/// gap and a wall to the stock's end; otherwise a pair mirrored about the
+/// centreline, as near the stock's end as the wall allows and just clear
+/// of the board (the gap from its outline, read off the placed mesh within
+/// the hole's reach along X).
+fn cradle_holes(
+    part: &Mesh,
+    x_range: [f64; 2],
+    centre_y: f64,
+    block: &Block,
+    job: &Job,
+) -> Result<Vec<[f64; 2]>, CamError> {
+    let hr = job.hole_diameter / 2.0;
+    let gap = job.hole_gap;
+    let mut holes = Vec::new();
+    for (end, tip, out) in [("nose", x_range[0], -1.0), ("tail", x_range[1], 1.0)] {
+        let on_line = tip + out * (gap + hr);
+        if on_line - hr >= HOLE_WALL && on_line + hr <= block.length - HOLE_WALL {
+            holes.push([on_line, centre_y]);
+            continue;
+        }
+        let x = if out < 0.0 {
+            hr + HOLE_WALL
+        } else {
+            block.length - hr - HOLE_WALL
+        };
+        let reach = hr + gap;
+        let half = part
+            .vertices
+            .iter()
+            .filter(|v| (v[0] - x).abs() <= reach)
+            .map(|v| (v[1] - centre_y).abs())
+            .fold(0.0, f64::max);
+        let d = half + gap + hr;
+        if centre_y + d + hr + HOLE_WALL > block.width {
+            return Err(CamError::Fit(format!(
+                "registration holes: a {} hole at the {end} needs {} of stock beyond the tip, or a pair beside it {} from the centreline; the stock has {} beyond the tip and is {} wide",
+                both(job.hole_diameter),
+                both(gap + 2.0 * hr + HOLE_WALL),
+                both(d),
+                both(if out < 0.0 { tip } else { block.length - tip }),
+                both(block.width)
+            )));
+        }
+        holes.push([x, centre_y - d]);
+        holes.push([x, centre_y + d]);
+    }
+    Ok(holes)
 }
 
 /// Room for a board in a rockered blank.

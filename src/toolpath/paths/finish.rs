@@ -161,7 +161,7 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
 fn gentle(ctx: &Ctx, dc: &DropCutter, x: f64, y: f64, cos: f64) -> Option<[f64; 3]> {
     // The roughing's outermost ring runs 1.5 cells (3 mm) inside its band,
     // on a 2 mm grid: 5 mm kept from the wall.
-    let band = ctx.job.frame - dc.cutter().radius - 5.0;
+    let band = ctx.job.band() - dc.cutter().radius - 5.0;
     if ctx.outside.at([x, y]) > band {
         return None;
     }

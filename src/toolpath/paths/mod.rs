@@ -9,7 +9,7 @@ mod rough;
 use crate::geom::dropcutter::DropCutter;
 use crate::geom::field::{self, Field};
 use crate::geom::zmap::{Sweep, ZMap};
-use crate::model::job::Job;
+use crate::model::job::{Holding, Job};
 use crate::model::machine::Cutter;
 use crate::model::mesh::Mesh;
 use crate::model::toolpath::{Step, Toolpath};
@@ -150,9 +150,17 @@ impl Ctx<'_> {
         (top + LINK_CLEARANCE).min(self.travel_z(a[0], b[0], r))
     }
 
-    fn region(&self) -> ([f64; 2], [f64; 2]) {
+    /// The plan area a level strategy works over: the stock, and with a
+    /// cradle (all the stock off the board cut away) `grow` beyond its
+    /// edges, so the offsets close round the stock instead of stopping at
+    /// its edge.
+    fn region(&self, grow: f64) -> ([f64; 2], [f64; 2]) {
         let b = &self.place.block;
-        ([0.0, 0.0], [b.length, b.width])
+        let g = match self.job.holding {
+            Holding::Frame => 0.0,
+            Holding::Cradle => grow,
+        };
+        ([-g, -g], [b.length + g, b.width + g])
     }
 }
 

@@ -4,6 +4,7 @@
 use super::*;
 use crate::geom::dropcutter::DropCutter;
 use crate::geom::field::{self, Field, Line};
+use crate::model::job::Holding;
 use crate::model::machine::Cutter;
 use crate::model::toolpath::{Step, Toolpath};
 
@@ -16,7 +17,7 @@ pub(super) fn holes(ctx: &Ctx) -> Toolpath {
     let helix = (job.hole_diameter / 2.0 - r).max(0.0);
     let pitch = (pass.stepdown / 4.0).clamp(1.0, 5.0);
     let mut steps = Vec::new();
-    for h in ctx.place.holes {
+    for &h in &ctx.place.holes {
         // From the stock's top there (a rockered blank's, with its
         // allowance) through its underside and into what it rests on.
         let top = ctx.stock_top_at(h[0]);
@@ -77,8 +78,8 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
     let job = ctx.job;
     let pass = job.roughing.clone();
     let r = pass.tool.cutter.radius;
-    let (lo, hi) = ctx.region();
     let cell = 2.0;
+    let (lo, hi) = ctx.region(r + 2.0 * cell);
     let grid = Field::new(lo, hi, cell, 0.0);
     // The tool as the grid must see it: grown by the stock to leave and by
     // the farthest a path point can be from a grid node, so every point of
@@ -97,10 +98,20 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
         .map(|(d, &f)| d.map_or(f, |d| (d + pass.leave).max(f)))
         .collect();
     // The band the roughing may clear: tool centres within frame - r of the outline.
-    let band_limit = job.frame - r;
+    // With a cradle the band is the whole stock, and the grown region's
+    // edge is its wall (so a level the part does not reach still has
+    // rings).
+    let band_limit = job.band() - r;
+    let edge = |p: &[f64; 2]| {
+        job.holding == Holding::Cradle
+            && (p[0] <= lo[0] + 1e-9
+                || p[1] <= lo[1] + 1e-9
+                || p[0] >= hi[0] - 1e-9
+                || p[1] >= hi[1] - 1e-9)
+    };
     let in_band: Vec<bool> = nodes
         .iter()
-        .map(|p| ctx.outside.at(*p) <= band_limit)
+        .map(|p| ctx.outside.at(*p) <= band_limit && !edge(p))
         .collect();
     let lowest = high
         .iter()

@@ -1,0 +1,196 @@
+//! Stock as shops buy it, and how it is held: margins against hand
+//! arithmetic on the declared sizes, cradle holding simulated by the
+//! project's verifier, the cradles' profiles against the job's stations.
+
+use blanksmith::commands;
+use blanksmith::model::job::Job;
+use blanksmith::model::machine::Machine;
+use blanksmith::profiles::job;
+use blanksmith::profiles::machine as profile;
+use blanksmith::template::cradle;
+use blanksmith::toolpath::setup::{self, CamError};
+
+fn fixture(name: &str) -> std::path::PathBuf {
+    std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("fixtures")
+        .join(name)
+}
+
+fn box_mesh() -> blanksmith::model::mesh::Mesh {
+    let design = commands::load_design(&fixture("check-box.yaml")).unwrap();
+    design.mesh(0.05).unwrap()
+}
+
+fn job_text(text: &str, m: &Machine) -> Job {
+    job::job_from_str(text, "job.yaml", m).unwrap()
+}
+
+#[test]
+fn a_box_in_a_flat_block_has_the_margins_of_hand_arithmetic() {
+    // The 1000 x 500 x 60 mm box centred in a 1100 x 600 x 70 mm block:
+    // 50 mm at each end and side, 5 mm over and under (by hand).
+    let m = profile::generic_machine();
+    let j = job_text(
+        "units: mm\nstock: {length: 1100, width: 600, thickness: 70}\nholding: cradle\n",
+        &m,
+    );
+    let p = setup::place(&box_mesh(), None, &j).unwrap();
+    let g = &p.margins;
+    for (what, got, want) in [
+        ("nose", g.nose, 50.0),
+        ("tail", g.tail, 50.0),
+        ("side", g.side, 50.0),
+        ("top", g.top.0, 5.0),
+        ("bottom", g.bottom.0, 5.0),
+    ] {
+        assert!((got - want).abs() < 1e-6, "{what}: {got}");
+    }
+    // 50 mm beyond each tip holds a 25.4 mm hole 5 mm off the tip with
+    // 19.6 mm of foam to the block's end: on the centreline, at
+    // 50 - 5 - 12.7 = 32.3 mm from each end.
+    assert_eq!(p.holes.len(), 2);
+    for (h, x) in p.holes.iter().zip([32.3, 1100.0 - 32.3]) {
+        assert!(
+            (h[0] - x).abs() < 1e-6 && (h[1] - 300.0).abs() < 1e-9,
+            "{h:?}"
+        );
+    }
+    assert!(p.tabs.is_empty(), "no tabs in a cradle");
+}
+
+#[test]
+fn short_ends_put_the_holes_in_pairs_beside_the_board() {
+    // 20 mm beyond each tip cannot hold a 25.4 mm hole with its 5 mm gap
+    // and 5 mm wall (37.7 mm): a pair mirrored about the centreline, 17.7
+    // mm from the end (radius + wall), 250 + 5 + 12.7 = 267.7 mm either
+    // side of it (the box is full width at its ends).
+    let m = profile::generic_machine();
+    let j = job_text(
+        "units: mm\nstock: {length: 1040, width: 700, thickness: 70}\nholding: cradle\n",
+        &m,
+    );
+    let p = setup::place(&box_mesh(), None, &j).unwrap();
+    let want = [
+        [17.7, 350.0 - 267.7],
+        [17.7, 350.0 + 267.7],
+        [1040.0 - 17.7, 350.0 - 267.7],
+        [1040.0 - 17.7, 350.0 + 267.7],
+    ];
+    assert_eq!(p.holes.len(), 4);
+    for (h, w) in p.holes.iter().zip(want) {
+        assert!(
+            (h[0] - w[0]).abs() < 1e-6 && (h[1] - w[1]).abs() < 0.05,
+            "{h:?} vs {w:?}"
+        );
+    }
+    // Each hole's image through the flip is another hole (geometry).
+    for h in &p.holes {
+        let q = setup::flip([h[0], h[1], -10.0], &p.block);
+        assert!(
+            p.holes
+                .iter()
+                .any(|o| (o[0] - q[0]).abs() < 1e-9 && (o[1] - q[1]).abs() < 1e-9)
+        );
+    }
+    // 560 mm wide leaves no room for the pair (280 + 267.7 + 12.7 + 5 =
+    // 565.4 mm): refused, saying so.
+    let narrow = job_text(
+        "units: mm\nstock: {length: 1040, width: 560, thickness: 70}\nholding: cradle\n",
+        &m,
+    );
+    match setup::place(&box_mesh(), None, &narrow) {
+        Err(CamError::Fit(msg)) => assert!(msg.contains("registration holes"), "{msg}"),
+        Err(e) => panic!("{e}"),
+        Ok(_) => panic!("a 560 mm block was taken"),
+    }
+}
+
+fn cradle_job(m: &Machine) -> Job {
+    job::load_job(&fixture("job-cradle.yaml"), m).unwrap()
+}
+
+#[test]
+fn the_demo_is_cut_from_a_blank_two_and_a_half_inches_wider_and_three_longer() {
+    let m = profile::generic_machine();
+    let j = cradle_job(&m);
+    let design = commands::load_design(&fixture("shortboard.yaml")).unwrap();
+    let plan = commands::plan_design(&design, &m, &j, &|_| {}).unwrap();
+    let g = &plan.placement.margins;
+    // 22 in blank, 19 1/2 in board: 1 1/4 in (31.75 mm) each side; 6'5"
+    // blank, 6'2" board: 1 1/2 in (38.1 mm) each end (by hand).
+    assert!((g.side - 31.75).abs() < 0.05, "{}", g.side);
+    assert!((g.nose - 38.1).abs() < 0.05 && (g.tail - 38.1).abs() < 0.05);
+    let v = commands::verify_plan(&plan, &m, &j, &|_| {}).unwrap();
+    assert!(!v.has_findings(), "{}", v.text());
+    assert!(v.gouge_max_mm.unwrap() <= 0.05, "{}", v.text());
+    assert!(v.leftover_reachable_max_mm.unwrap() <= 0.5, "{}", v.text());
+    // The setup sheet has no tabs to remove and tells how the board is held.
+    assert!(!plan.sheet.contains("Remove the tabs"), "{}", plan.sheet);
+    assert!(plan.sheet.contains("deck cradle"), "{}", plan.sheet);
+
+    // The same blank held by a frame is refused on its width: the board
+    // needs 40 mm of band, 19.05 mm of tool and 5 mm of wall a side,
+    // 495.3 + 2 x 64.05 = 623.4 mm against 558.8 mm (by hand).
+    let framed = job::job_from_str(
+        &std::fs::read_to_string(fixture("job-cradle.yaml"))
+            .unwrap()
+            .replace("holding: cradle", "holding: frame"),
+        "job.yaml",
+        &m,
+    )
+    .unwrap();
+    let mesh = design.mesh(0.05).unwrap();
+    match setup::place(&mesh, None, &framed) {
+        Err(CamError::Fit(msg)) => assert!(msg.contains("64.6 mm"), "{msg}"),
+        Err(e) => panic!("{e}"),
+        Ok(_) => panic!("the framed job was taken"),
+    }
+
+    // The cradles: setup 1's top edge is the blank's bottom curve, so at
+    // the job's stations it is the bottom height given there.
+    let cradles = cradle::cradles(&plan.placement, &j, "demo");
+    assert_eq!(cradles.iter().map(|c| c.0).collect::<Vec<_>>(), vec![1, 2]);
+    let stations = &plan.placement.block.rocker.as_ref().unwrap().stations;
+    let first = &cradles[0].1;
+    let edge = first
+        .items
+        .iter()
+        .find_map(|i| match i {
+            blanksmith::template::drawing::Item::Line {
+                points,
+                closed: true,
+                ..
+            } => Some(points.clone()),
+            _ => None,
+        })
+        .unwrap();
+    let b = blanksmith::template::drawing::BORDER;
+    for s in stations {
+        // The top edge's point at the station (the closing corners down
+        // to the spoilboard share the end stations' X).
+        let p = edge
+            .iter()
+            .filter(|p| (p[0] - b - s[0]).abs() < 1e-6)
+            .max_by(|a, c| a[1].total_cmp(&c[1]))
+            .unwrap_or_else(|| panic!("no point at station {}", s[0]));
+        assert!((p[1] - b - s[1]).abs() < 1e-6, "{p:?} vs {s:?}");
+    }
+}
+
+#[test]
+fn a_cradle_job_refuses_a_frame_or_tabs_at_their_line() {
+    let m = profile::generic_machine();
+    for (text, field) in [
+        ("holding: cradle\nframe: 40\n", "frame"),
+        ("holding: cradle\ntabs: {width: 30}\n", "tabs.width"),
+    ] {
+        let e = job::job_from_str(text, "job.yaml", &m)
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains(field) && e.contains("job.yaml:2"), "{e}");
+    }
+    let e = job::job_from_str("holding: vice\n", "job.yaml", &m)
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("holding") && e.contains("job.yaml:1"), "{e}");
+}
