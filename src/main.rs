@@ -545,6 +545,11 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 bar.finish_and_clear();
                 let m = m?;
                 let code = finish(&m.meshed, false);
+                if let Some(a) = cut
+                    && let Ok((machine, _)) = jobs::cut_profiles(a)
+                {
+                    sayln!("{}", jobs::profiles_used(a, &machine));
+                }
                 return Ok(match &m.cutting {
                     jobs::Cutting::Failed(e) => {
                         eprintln!(
@@ -680,6 +685,11 @@ fn make_many(
         b.finish_and_clear();
     }
     let (results, index) = result?;
+    if let Some(a) = cut
+        && let Ok((machine, _)) = jobs::cut_profiles(a)
+    {
+        sayln!("{}", jobs::profiles_used(a, &machine));
+    }
     sayln!(
         "{:<40} {:>9} {:>6} {:>16} {:>16}  verdict",
         "board",

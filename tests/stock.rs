@@ -7,7 +7,7 @@ use blanksmith::model::job::Job;
 use blanksmith::model::machine::Machine;
 use blanksmith::profiles::job;
 use blanksmith::profiles::machine as profile;
-use blanksmith::template::cradle;
+use blanksmith::toolpath::cradle;
 use blanksmith::toolpath::setup::{self, CamError};
 
 fn fixture(name: &str) -> std::path::PathBuf {

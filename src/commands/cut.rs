@@ -75,6 +75,22 @@ pub fn cut_profiles(args: &CutArgs) -> Result<(Machine, Job), JobError> {
     Ok((machine, job))
 }
 
+/// Which machine and job profiles a cut uses, in a line: the machine's
+/// name and file (or that it is the shipped one), the job's file (or the
+/// defaults).
+pub fn profiles_used(args: &CutArgs, machine: &Machine) -> String {
+    format!(
+        "machine: {} ({}); job: {}",
+        machine.name,
+        args.machine
+            .as_ref()
+            .map_or("shipped, built in".to_string(), |p| p.display().to_string()),
+        args.job
+            .as_ref()
+            .map_or("the defaults".to_string(), |p| p.display().to_string())
+    )
+}
+
 /// The cutting stage in memory: programs and setup sheet for a design.
 pub fn cut_files(
     design: &Design,
@@ -118,7 +134,7 @@ pub fn cut_files(
         plan.sheet.clone().into_bytes(),
     ));
     files.extend(verification_files(&verification, design.name(), dir));
-    let cradles = crate::template::cradle::cradles(&plan.placement, job, design.name());
+    let cradles = crate::toolpath::cradle::cradles(&plan.placement, job, design.name());
     if !cradles.is_empty() {
         let paper = crate::template::tiling::A4;
         let pages: Vec<_> = cradles

@@ -255,18 +255,37 @@ fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {
     let b = &p.block;
     let [tx, ty] = job.table_position;
     let mut why = Vec::new();
-    if tx + b.length > m.travel[0] {
+    // In a cradle the roughing runs round the stock's edges: its offsets
+    // reach a tool radius and two 2 mm cells beyond them.
+    let g = match job.holding {
+        Holding::Frame => 0.0,
+        Holding::Cradle => job.roughing.tool.cutter.radius + 4.0,
+    };
+    let what = if g > 0.0 {
+        "the tool running round the block"
+    } else {
+        "the block"
+    };
+    if tx + b.length + g > m.travel[0] {
         why.push(format!(
-            "the block runs to machine X {:.1} mm but X travel is {:.1} mm",
-            tx + b.length,
+            "{what} runs to machine X {:.1} mm but X travel is {:.1} mm",
+            tx + b.length + g,
             m.travel[0]
         ));
     }
-    if ty + b.width > m.travel[1] {
+    if ty + b.width + g > m.travel[1] {
         why.push(format!(
-            "the block runs to machine Y {:.1} mm but Y travel is {:.1} mm",
-            ty + b.width,
+            "{what} runs to machine Y {:.1} mm but Y travel is {:.1} mm",
+            ty + b.width + g,
             m.travel[1]
+        ));
+    }
+    if tx - g < 0.0 || ty - g < 0.0 {
+        why.push(format!(
+            "{what} reaches machine X {:.1} mm, Y {:.1} mm, below 0: move the block in (table_position) by at least {:.1} mm",
+            tx - g,
+            ty - g,
+            g
         ));
     }
     let top = m.table_top + b.thickness + m.clearance;
@@ -279,8 +298,13 @@ fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {
     if why.is_empty() {
         Ok(())
     } else {
+        let hint = if job.holding == Holding::Frame && tx + b.length > m.travel[0] {
+            " (held in cradles, `holding: cradle` in the job, the stock needs no frame, tabs or holes beyond the tips: see the README, Holding in cradles)"
+        } else {
+            ""
+        };
         Err(CamError::Fit(format!(
-            "the stock does not fit the machine: {}",
+            "the stock does not fit the machine: {}{hint}",
             why.join("; ")
         )))
     }
