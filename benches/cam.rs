@@ -210,6 +210,7 @@ fn make_demo_end_to_end() -> usize {
     let cut = jobs::CutArgs {
         machine: None,
         job: None,
+        stock_list: None,
     };
     let m = jobs::make(
         &jobs::Input::Demo,

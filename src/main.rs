@@ -223,6 +223,10 @@ enum Command {
         /// Job profile (YAML); every default when left out.
         #[arg(long)]
         job: Option<PathBuf>,
+        /// The shop's stock list (YAML): the blank is picked from it, the
+        /// ranking written as `<name>.blanks.txt`.
+        #[arg(long, conflicts_with = "no_cut")]
+        stock_list: Option<PathBuf>,
         /// Make the shape's files only (STL, reports, templates, page): no
         /// router programs.
         #[arg(long)]
@@ -286,12 +290,35 @@ enum Command {
         /// Job profile (YAML); every default when left out.
         #[arg(long)]
         job: Option<PathBuf>,
+        /// The shop's stock list (YAML): the blank is picked from it.
+        #[arg(long)]
+        stock_list: Option<PathBuf>,
         /// Output folder.
         #[arg(short, long, default_value = "out")]
         out: PathBuf,
         /// No progress display.
         #[arg(long)]
         quiet: bool,
+    },
+    /// Pick the blank: the board tried in every blank of the shop's stock
+    /// list with the job's holding, on the machine; the ones it fits ranked
+    /// by the foam cut away, each with its least margin and where, and why
+    /// each other one does not fit. Writes nothing.
+    Blanks {
+        /// Board description (YAML) or closed mesh (STL, mm).
+        design: PathBuf,
+        /// The shop's stock list (YAML).
+        #[arg(long)]
+        stock_list: PathBuf,
+        /// Machine profile (YAML); the shipped generic gantry router when left out.
+        #[arg(long)]
+        machine: Option<PathBuf>,
+        /// Job profile (YAML): its holding, skin and tools; every default when left out.
+        #[arg(long)]
+        job: Option<PathBuf>,
+        /// Print JSON instead of text.
+        #[arg(long)]
+        json: bool,
     },
 }
 
@@ -527,10 +554,15 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             tolerance,
             machine,
             job,
+            stock_list,
             no_cut,
             quiet,
         } => {
-            let args = jobs::CutArgs { machine, job };
+            let args = jobs::CutArgs {
+                machine,
+                job,
+                stock_list,
+            };
             let cut = (!no_cut).then_some(&args);
             if boards.len() <= 1 {
                 let input = boards
@@ -614,10 +646,35 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 ExitCode::SUCCESS
             })
         }
+        Command::Blanks {
+            design,
+            stock_list,
+            machine,
+            job,
+            json,
+        } => {
+            let args = jobs::CutArgs {
+                machine,
+                job,
+                stock_list: Some(stock_list),
+            };
+            let (text, tried) = jobs::blanks(&design, &args)?;
+            if json {
+                say!("{}", blanksmith::toolpath::pick::to_json(&tried));
+            } else {
+                say!("{text}");
+            }
+            Ok(if tried.iter().any(|t| t.fit.is_ok()) {
+                ExitCode::SUCCESS
+            } else {
+                ExitCode::from(1)
+            })
+        }
         Command::Cut {
             design,
             machine,
             job,
+            stock_list,
             out,
             quiet,
         } => {
@@ -625,6 +682,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             let args = jobs::CutArgs {
                 machine: Some(machine),
                 job,
+                stock_list,
             };
             let result = jobs::cut(&design, &args, &out, &|s| bar.set_message(s.to_string()));
             bar.finish_and_clear();

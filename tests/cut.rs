@@ -500,6 +500,7 @@ fn a_block_too_long_for_the_machine_is_refused_with_the_numbers() {
         &commands::CutArgs {
             machine: None,
             job: None,
+            stock_list: None,
         },
         dir.path(),
         &|_| {},

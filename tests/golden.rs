@@ -105,9 +105,22 @@ fn cases() -> Vec<(String, Vec<String>)> {
             "{out}",
             "--job",
             "fixtures/job-cradle.yaml",
+            "--stock-list",
+            "fixtures/stock-list.yaml",
             "--machine",
             MACHINE,
             "--quiet",
+        ],
+    );
+    add(
+        "blanks-shortboard".into(),
+        &[
+            "blanks",
+            "fixtures/shortboard.yaml",
+            "--stock-list",
+            "fixtures/stock-list.yaml",
+            "--job",
+            "fixtures/job-cradle.yaml",
         ],
     );
     add(

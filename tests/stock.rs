@@ -7,7 +7,9 @@ use blanksmith::model::job::Job;
 use blanksmith::model::machine::Machine;
 use blanksmith::profiles::job;
 use blanksmith::profiles::machine as profile;
+use blanksmith::profiles::stock;
 use blanksmith::toolpath::cradle;
+use blanksmith::toolpath::pick;
 use blanksmith::toolpath::setup::{self, CamError};
 
 fn fixture(name: &str) -> std::path::PathBuf {
@@ -39,7 +41,7 @@ fn a_box_in_a_flat_block_has_the_margins_of_hand_arithmetic() {
     for (what, got, want) in [
         ("nose", g.nose, 50.0),
         ("tail", g.tail, 50.0),
-        ("side", g.side, 50.0),
+        ("side", g.side.0, 50.0),
         ("top", g.top.0, 5.0),
         ("bottom", g.bottom.0, 5.0),
     ] {
@@ -118,7 +120,7 @@ fn the_demo_is_cut_from_a_blank_two_and_a_half_inches_wider_and_three_longer() {
     let g = &plan.placement.margins;
     // 22 in blank, 19 1/2 in board: 1 1/4 in (31.75 mm) each side; 6'5"
     // blank, 6'2" board: 1 1/2 in (38.1 mm) each end (by hand).
-    assert!((g.side - 31.75).abs() < 0.05, "{}", g.side);
+    assert!((g.side.0 - 31.75).abs() < 0.05, "{}", g.side.0);
     assert!((g.nose - 38.1).abs() < 0.05 && (g.tail - 38.1).abs() < 0.05);
     let v = commands::verify_plan(&plan, &m, &j, &|_| {}).unwrap();
     assert!(!v.has_findings(), "{}", v.text());
@@ -193,4 +195,223 @@ fn a_cradle_job_refuses_a_frame_or_tabs_at_their_line() {
         .unwrap_err()
         .to_string();
     assert!(e.contains("holding") && e.contains("job.yaml:1"), "{e}");
+}
+
+/// The box (exactly 30 L) tried in six flat blocks held in cradles, by
+/// hand: the foam cut away is the block's volume less 30 L; the least
+/// margin is (T - 60) / 2 over the deck where that is smallest.
+#[test]
+fn blanks_for_the_box_rank_as_by_hand() {
+    let list = stock::stock_list_from_str(
+        "units: mm
+blanks:
+  - {name: A, length: 1100, width: 600, thickness: 70}
+  - {name: B, length: 1040, width: 560, thickness: 66}
+  - {name: C, length: 1200, width: 700, thickness: 80}
+  - {name: D, length: 1010, width: 600, thickness: 70}
+  - {name: E, length: 990, width: 600, thickness: 70}
+  - {name: F, length: 1100, width: 600, thickness: 64}
+",
+        "stock.yaml",
+    )
+    .unwrap();
+    let m = profile::generic_machine();
+    let j = job_text(
+        "units: mm\ntable_position: {x: 100, y: 100}\nholding: cradle\n",
+        &m,
+    );
+    let mesh = box_mesh();
+    let litres = blanksmith::volume::measure::volume(&mesh) / 1e6;
+    assert!((litres - 30.0).abs() < 1e-9, "{litres}");
+    let tried = pick::rank(&mesh, None, litres, &j, &m, &list);
+    let names: Vec<&str> = tried.iter().map(|t| t.entry.name.as_str()).collect();
+    // D 42.42 - 30 = 12.42 L, A 46.2 - 30 = 16.2 L, C 67.2 - 30 = 37.2 L;
+    // then B (no room for the hole pair: 280 + 267.7 + 17.7 > 560 mm),
+    // E (990 mm < 1000 + 2 x 3 mm skin), F (64 mm < 60 + 2 x 3 mm).
+    assert_eq!(names, ["D", "A", "C", "B", "E", "F"]);
+    for (t, waste, least) in [
+        (&tried[0], 12.42, 5.0),
+        (&tried[1], 16.2, 5.0),
+        (&tried[2], 37.2, 10.0),
+    ] {
+        let f = t.fit.as_ref().unwrap();
+        assert!(
+            (f.waste_litres - waste).abs() < 1e-6,
+            "{}: {}",
+            t.entry.name,
+            f.waste_litres
+        );
+        assert!(
+            (f.least.1 - least).abs() < 1e-6,
+            "{}: {:?}",
+            t.entry.name,
+            f.least
+        );
+    }
+    let why = |k: usize| tried[k].fit.as_ref().unwrap_err().clone();
+    assert!(why(3).contains("registration holes"), "{}", why(3));
+    assert!(
+        why(4).contains("length") && why(4).contains("16.0 mm"),
+        "{}",
+        why(4)
+    );
+    assert!(
+        why(5).contains("thickness") && why(5).contains("2.0 mm"),
+        "{}",
+        why(5)
+    );
+}
+
+/// A tapered blank: the side margin is read at the plan shape's width
+/// there. The box's 500 mm must stay 3 mm inside: a plan narrowing to
+/// 500 mm at the ends does not fit, one at 506 mm fits with exactly 3 mm
+/// at the ends (by hand), and its volume is the trapezoid's.
+#[test]
+fn a_plan_shape_sets_the_side_margin_and_the_volume() {
+    let text = |end: f64| {
+        format!(
+            "units: mm
+blanks:
+  - name: T
+    length: 1100
+    width: 600
+    thickness: 70
+    plan: [{{at: 0, width: {end}}}, {{at: 550, width: 600}}, {{at: 1100, width: {end}}}]
+"
+        )
+    };
+    let m = profile::generic_machine();
+    let j = job_text(
+        "units: mm\ntable_position: {x: 100, y: 100}\nholding: cradle\n",
+        &m,
+    );
+    let mesh = box_mesh();
+    // The box runs from X 50 to 1050 of the blank: at X 50 the plan is
+    // end + (600 - end) x 50 / 550 wide.
+    let end_at_tip = |w: f64| w + (600.0 - w) * 50.0 / 550.0;
+    let narrow = stock::stock_list_from_str(&text(490.0), "s.yaml").unwrap();
+    let t = &pick::rank(&mesh, None, 30.0, &j, &m, &narrow)[0];
+    assert!(
+        t.fit.as_ref().unwrap_err().contains("plan shape"),
+        "{:?}",
+        t.fit
+    );
+    let w = 506.0 - (600.0 - 506.0) * 50.0 / 500.0; // end width giving 506 mm at the tip
+    assert!((end_at_tip(w) - 506.0).abs() < 1e-9);
+    let list = stock::stock_list_from_str(&text(w), "s.yaml").unwrap();
+    let t = &pick::rank(&mesh, None, 30.0, &j, &m, &list)[0];
+    let f = t.fit.as_ref().unwrap();
+    assert!(
+        (f.margins.side.0 - 3.0).abs() < 1e-6,
+        "{:?}",
+        f.margins.side
+    );
+    // Two trapezoids: 1100 x (w + 600) / 2 x 70 mm³.
+    let vol = 1100.0 * (w + 600.0) / 2.0 * 70.0 / 1e6;
+    assert!(
+        (f.waste_litres - (vol - 30.0)).abs() < 1e-6,
+        "{}",
+        f.waste_litres
+    );
+}
+
+#[test]
+fn bad_stock_lists_are_refused_at_their_line() {
+    for (text, at, field) in [
+        (
+            "blanks:\n  - {name: A, length: 1100, width: 600, thickness: 70}\n  - {name: A, length: 1100, width: 600, thickness: 70}\n",
+            "s.yaml:3",
+            "blanks[1].name",
+        ),
+        (
+            "blanks:\n  - {name: A, length: 1100, width: 600, thickness: -70}\n",
+            "s.yaml:2",
+            "blanks[0].thickness",
+        ),
+        (
+            "blanks:\n  - name: A\n    length: 1100\n    width: 600\n    thickness: 70\n    plan: [{at: 0, width: 500}, {at: 900, width: 500}]\n",
+            "s.yaml:6",
+            "blanks[0].plan",
+        ),
+        (
+            "blanks:\n  - {name: A, length: 1100, width: 600, thickness: 70, colour: blue}\n",
+            "s.yaml:2",
+            "colour",
+        ),
+        ("blanks: []\n", "s.yaml:1", "blanks"),
+    ] {
+        let e = stock::stock_list_from_str(text, "s.yaml")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains(at) && e.contains(field), "{e}");
+    }
+}
+
+#[test]
+fn the_blanks_command_ranks_the_shops_list_and_a_bad_list_writes_nothing() {
+    let bin = env!("CARGO_BIN_EXE_blanksmith");
+    let root = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let out = std::process::Command::new(bin)
+        .current_dir(&root)
+        .args([
+            "blanks",
+            "fixtures/shortboard.yaml",
+            "--stock-list",
+            "fixtures/stock-list.yaml",
+            "--job",
+            "fixtures/job-cradle.yaml",
+            "--json",
+        ])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let names: Vec<&str> = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["name"].as_str().unwrap())
+        .collect();
+    // The tapered 6'5" blank wastes least (its plan shape), then the
+    // 6'4" rockered one, then the 7'0" flat block; the others do not fit.
+    assert_eq!(
+        names,
+        [
+            "PR 6'5\" x 22 tapered",
+            "PR 6'4\" x 21",
+            "FB 7'0\" x 24 x 6",
+            "FB 6'8\" x 23 x 3 1/2",
+            "PR 6'0\" x 21",
+            "PR 6'6\" x 19"
+        ]
+    );
+    let why: Vec<&str> = v.as_array().unwrap()[3..]
+        .iter()
+        .map(|r| r["why_not"].as_str().unwrap())
+        .collect();
+    assert!(why[0].contains("thickness"), "{}", why[0]);
+    assert!(why[1].contains("length"), "{}", why[1]);
+    assert!(why[2].contains("width"), "{}", why[2]);
+
+    let dir = tempfile::tempdir().unwrap();
+    let bad = dir.path().join("bad.yaml");
+    std::fs::write(&bad, "blanks:\n  - {name: A, length: 1100, width: 600}\n").unwrap();
+    let outdir = dir.path().join("out");
+    let r = std::process::Command::new(bin)
+        .current_dir(&root)
+        .args(["make", "--stock-list"])
+        .arg(&bad)
+        .arg("-o")
+        .arg(&outdir)
+        .arg("--quiet")
+        .output()
+        .unwrap();
+    assert_eq!(r.status.code(), Some(2));
+    let e = String::from_utf8_lossy(&r.stderr);
+    assert!(e.contains("blanks[0].thickness"), "{e}");
+    assert!(!outdir.exists(), "nothing written");
 }

@@ -9,6 +9,9 @@ use crate::model::mesh::Mesh;
 use crate::output;
 use crate::profiles::job;
 use crate::profiles::machine as profile;
+use crate::profiles::stock::StockEntry;
+use crate::toolpath::pick;
+use crate::toolpath::setup::CamError;
 use crate::verify::picture;
 use crate::verify::simulate::{
     self as simulate, ProgramSource, Setting, Verification, VerifyOptions,
@@ -21,6 +24,7 @@ use std::path::{Path, PathBuf};
 pub(crate) fn cut_family(name: &str) -> impl Fn(&str) -> bool + '_ {
     move |n: &str| {
         if n == format!("{name}.setup.txt")
+            || n == format!("{name}.blanks.txt")
             || n == format!("{name}.cradles.pdf")
             || n.strip_prefix(name)
                 .and_then(|r| r.strip_prefix(".cradle-"))
@@ -60,6 +64,18 @@ pub struct CutArgs {
     pub machine: Option<PathBuf>,
     /// Job profile; every default when `None`.
     pub job: Option<PathBuf>,
+    /// The shop's stock list: the blank is picked from it (the job's own
+    /// stock is then not used).
+    pub stock_list: Option<PathBuf>,
+}
+
+/// Reads the stock list a cut picks its blank from, if any.
+pub fn cut_blanks(args: &CutArgs) -> Result<Option<Vec<StockEntry>>, JobError> {
+    Ok(args
+        .stock_list
+        .as_deref()
+        .map(crate::profiles::stock::load_stock_list)
+        .transpose()?)
 }
 
 /// Reads the machine and job a cut runs with.
@@ -79,7 +95,7 @@ pub fn cut_profiles(args: &CutArgs) -> Result<(Machine, Job), JobError> {
 /// name and file (or that it is the shipped one), the job's file (or the
 /// defaults).
 pub fn profiles_used(args: &CutArgs, machine: &Machine) -> String {
-    format!(
+    let mut s = format!(
         "machine: {} ({}); job: {}",
         machine.name,
         args.machine
@@ -88,16 +104,52 @@ pub fn profiles_used(args: &CutArgs, machine: &Machine) -> String {
         args.job
             .as_ref()
             .map_or("the defaults".to_string(), |p| p.display().to_string())
-    )
+    );
+    if let Some(p) = &args.stock_list {
+        s.push_str(&format!("; blank picked from {}", p.display()));
+    }
+    s
 }
 
-/// The cutting stage in memory: programs and setup sheet for a design.
+/// The blank a stock list gives the board: the job with the first-ranked
+/// blank as its stock, and the ranking as text; a fit error with every
+/// blank's reason when none fits.
+fn picked_job(
+    design: &Design,
+    mesh: &Mesh,
+    apex: Option<&[[f64; 3]]>,
+    litres: f64,
+    machine: &Machine,
+    job: &Job,
+    blanks: &[StockEntry],
+) -> Result<(Job, String, String), JobError> {
+    let tried = pick::rank(mesh, apex, litres, job, machine, blanks);
+    let text = pick::text(design.name(), litres, &tried);
+    match tried.iter().find(|t| t.fit.is_ok()) {
+        Some(t) => Ok((
+            Job {
+                stock: Some(t.entry.block.clone()),
+                ..job.clone()
+            },
+            t.entry.name.clone(),
+            text,
+        )),
+        None => Err(JobError::Cam(CamError::Fit(format!(
+            "no blank in the stock list fits:\n{text}"
+        )))),
+    }
+}
+
+/// The cutting stage in memory: programs and setup sheet for a design,
+/// from the job's stock or the best blank of `blanks`.
+#[allow(clippy::too_many_arguments)]
 pub fn cut_files(
     design: &Design,
     mesh: &Mesh,
     litres: f64,
     machine: &Machine,
     job: &Job,
+    blanks: Option<&[StockEntry]>,
     dir: &Path,
     progress: &(dyn Fn(&str) + Sync),
 ) -> Result<(CutPlan, Verification, Files), JobError> {
@@ -105,6 +157,10 @@ pub fn cut_files(
         Design::Board(b) => Some(program::apex_line(b)),
         Design::Mesh { .. } => None,
     };
+    let picked = blanks
+        .map(|list| picked_job(design, mesh, apex.as_deref(), litres, machine, job, list))
+        .transpose()?;
+    let job = picked.as_ref().map_or(job, |p| &p.0);
     let plan = program::plan(
         design.name(),
         litres,
@@ -124,6 +180,17 @@ pub fn cut_files(
             ),
         )));
     }
+    let mut plan = plan;
+    if let Some((_, name, _)) = &picked {
+        plan.sheet = plan.sheet.replacen(
+            "\nFIT\n",
+            &format!(
+                "\nFIT\n  blank: {name}, picked from the stock list ({}.blanks.txt ranks them all)\n",
+                design.name()
+            ),
+            1,
+        );
+    }
     let mut files: Files = plan
         .programs
         .iter()
@@ -134,6 +201,12 @@ pub fn cut_files(
         plan.sheet.clone().into_bytes(),
     ));
     files.extend(verification_files(&verification, design.name(), dir));
+    if let Some((_, _, text)) = &picked {
+        files.push((
+            dir.join(format!("{}.blanks.txt", design.name())),
+            text.clone().into_bytes(),
+        ));
+    }
     let cradles = crate::toolpath::cradle::cradles(&plan.placement, job, design.name());
     if !cradles.is_empty() {
         let paper = crate::template::tiling::A4;
@@ -165,17 +238,52 @@ pub fn cut(
 ) -> Result<(CutPlan, Vec<PathBuf>), JobError> {
     let design = load_design(path)?;
     let (machine, job) = cut_profiles(args)?;
+    let blanks = cut_blanks(args)?;
     output::ready(dir)?;
     let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
     let litres = crate::volume::measure::volume(&mesh) / 1e6;
-    let (plan, _, files) = cut_files(&design, &mesh, litres, &machine, &job, dir, progress)
-        .map_err(|e| with_profiles(e, path, args))?;
-    let inputs: Vec<&Path> = [Some(path), args.machine.as_deref(), args.job.as_deref()]
-        .into_iter()
-        .flatten()
-        .collect();
+    let (plan, _, files) = cut_files(
+        &design,
+        &mesh,
+        litres,
+        &machine,
+        &job,
+        blanks.as_deref(),
+        dir,
+        progress,
+    )
+    .map_err(|e| with_profiles(e, path, args))?;
+    let inputs: Vec<&Path> = [
+        Some(path),
+        args.machine.as_deref(),
+        args.job.as_deref(),
+        args.stock_list.as_deref(),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
     let written = write_all(&files, &cut_family(design.name()), &inputs)?;
     Ok((plan, written))
+}
+
+/// `blanks`: the design tried in every blank of the stock list, ranked
+/// (nothing is written).
+pub fn blanks(path: &Path, args: &CutArgs) -> Result<(String, Vec<pick::Tried>), JobError> {
+    let design = load_design(path)?;
+    let (machine, job) = cut_profiles(args)?;
+    let Some(list) = cut_blanks(args)? else {
+        return Err(JobError::Flag(
+            "--stock-list: missing; give the shop's stock list (YAML)".into(),
+        ));
+    };
+    let mesh = design.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
+    let litres = crate::volume::measure::volume(&mesh) / 1e6;
+    let apex = match &design {
+        Design::Board(b) => Some(program::apex_line(b)),
+        Design::Mesh { .. } => None,
+    };
+    let tried = pick::rank(&mesh, apex.as_deref(), litres, &job, &machine, &list);
+    Ok((pick::text(design.name(), litres, &tried), tried))
 }
 
 /// Plans both setups' programs for a design at the default mesh

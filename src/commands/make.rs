@@ -65,6 +65,7 @@ pub fn make(
     progress: &(dyn Fn(&str) + Sync),
 ) -> Result<Made, JobError> {
     let profiles = cut.map(cut_profiles).transpose()?;
+    let blanks = cut.map(cut_blanks).transpose()?.flatten();
     let board = load(input)?;
     crate::meshing::mesher::check_tolerance(tolerance)?;
     output::ready(out)?;
@@ -95,6 +96,7 @@ pub fn make(
                 litres,
                 machine,
                 job,
+                blanks.as_deref(),
                 &dir,
                 progress,
             )
@@ -129,10 +131,13 @@ pub fn make(
         .collect();
     let inputs: Vec<&Path> = [Some(source.as_path())]
         .into_iter()
-        .chain(
-            cut.iter()
-                .flat_map(|a| [a.machine.as_deref(), a.job.as_deref()]),
-        )
+        .chain(cut.iter().flat_map(|a| {
+            [
+                a.machine.as_deref(),
+                a.job.as_deref(),
+                a.stock_list.as_deref(),
+            ]
+        }))
         .flatten()
         .collect();
     let written = output::write_folder(&dir, &named, &board_marker(&board.name), &inputs)?;
@@ -250,6 +255,7 @@ pub fn make_many(
         return Err(JobError::SameName(why));
     }
     cut.map(cut_profiles).transpose()?;
+    cut.map(cut_blanks).transpose()?;
     output::ready(out)?;
     let results: Vec<Result<Made, JobError>> = inputs
         .par_iter()

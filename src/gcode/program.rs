@@ -72,7 +72,7 @@ pub fn plan(
 ) -> Result<CutPlan, CamError> {
     progress("placing the board");
     let placement = setup::place(board, apex, job)?;
-    fits_machine(&placement, machine, job)?;
+    setup::fits_machine(&placement, machine, job)?;
     within_limits(&placement, job)?;
     // The two setups are independent: plan them side by side.
     let one = |side: Side| {
@@ -249,65 +249,6 @@ fn within_limits(p: &Placement, job: &Job) -> Result<(), CamError> {
         )));
     }
     Ok(())
-}
-
-fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {
-    let b = &p.block;
-    let [tx, ty] = job.table_position;
-    let mut why = Vec::new();
-    // In a cradle the roughing runs round the stock's edges: its offsets
-    // reach a tool radius and two 2 mm cells beyond them.
-    let g = match job.holding {
-        Holding::Frame => 0.0,
-        Holding::Cradle => job.roughing.tool.cutter.radius + 4.0,
-    };
-    let what = if g > 0.0 {
-        "the tool running round the block"
-    } else {
-        "the block"
-    };
-    if tx + b.length + g > m.travel[0] {
-        why.push(format!(
-            "{what} runs to machine X {:.1} mm but X travel is {:.1} mm",
-            tx + b.length + g,
-            m.travel[0]
-        ));
-    }
-    if ty + b.width + g > m.travel[1] {
-        why.push(format!(
-            "{what} runs to machine Y {:.1} mm but Y travel is {:.1} mm",
-            ty + b.width + g,
-            m.travel[1]
-        ));
-    }
-    if tx - g < 0.0 || ty - g < 0.0 {
-        why.push(format!(
-            "{what} reaches machine X {:.1} mm, Y {:.1} mm, below 0: move the block in (table_position) by at least {:.1} mm",
-            tx - g,
-            ty - g,
-            g
-        ));
-    }
-    let top = m.table_top + b.thickness + m.clearance;
-    if top > m.travel[2] {
-        why.push(format!(
-            "the block top plus clearance is {:.1} mm above the bed but Z travel is {:.1} mm",
-            top, m.travel[2]
-        ));
-    }
-    if why.is_empty() {
-        Ok(())
-    } else {
-        let hint = if job.holding == Holding::Frame && tx + b.length > m.travel[0] {
-            " (held in cradles, `holding: cradle` in the job, the stock needs no frame, tabs or holes beyond the tips: see the README, Holding in cradles)"
-        } else {
-            ""
-        };
-        Err(CamError::Fit(format!(
-            "the stock does not fit the machine: {}{hint}",
-            why.join("; ")
-        )))
-    }
 }
 
 /// Run time: a velocity plan over every move with the machine's axis

@@ -16,6 +16,10 @@ pub struct Block {
     pub thickness: f64,
     /// The curves of a pre-rockered blank; `None` for a flat block.
     pub rocker: Option<BlankRocker>,
+    /// The plan shape as bought: (X from the nose end, width) at stations
+    /// from end to end, centred on the stock's middle line, straight
+    /// between them; `None` for a rectangle of `width`.
+    pub plan: Option<Vec<[f64; 2]>>,
 }
 
 /// A pre-rockered blank's bottom and deck along its length, as heights
@@ -55,7 +59,38 @@ impl Block {
             width,
             thickness,
             rocker: None,
+            plan: None,
         }
+    }
+
+    /// The stock's width at X: its plan shape's, or `width`.
+    pub fn width_at(&self, x: f64) -> f64 {
+        let Some(p) = self.plan.as_deref().filter(|p| !p.is_empty()) else {
+            return self.width;
+        };
+        let k = p
+            .partition_point(|q| q[0] <= x)
+            .clamp(1, p.len().max(2) - 1);
+        if p.len() < 2 {
+            return p[0][1];
+        }
+        let (a, b) = (p[k - 1], p[k]);
+        let t = ((x - a[0]) / (b[0] - a[0]).max(1e-12)).clamp(0.0, 1.0);
+        a[1] + t * (b[1] - a[1])
+    }
+
+    /// The stock's volume, mm³: its width at X times its height there
+    /// (deck over bottom for a rockered blank), integrated along X by the
+    /// trapezoid rule on a 1 mm grid (exact for a rectangle block).
+    pub fn volume(&self) -> f64 {
+        let n = self.length.ceil().max(1.0) as usize;
+        let h = self.length / n as f64;
+        let f = |x: f64| {
+            let (d, b) = self.deck_bottom_z(x);
+            self.width_at(x) * (d - b)
+        };
+        let inner: f64 = (1..n).map(|k| f(k as f64 * h)).sum();
+        h * (0.5 * (f(0.0) + f(self.length)) + inner)
     }
 
     /// Setup-1 height (Z 0 at the highest deck point) of the stock's top

@@ -9,10 +9,10 @@ use serde_saphyr::{Location, Spanned};
 
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
-use crate::model::curve::Curve;
-use crate::model::job::{BlankRocker, Block, Finish, Holding, Job, Pass, Pitch, RailPass};
+use crate::model::job::{Finish, Holding, Job, Pass, Pitch, RailPass};
 use crate::model::machine::{Machine, ToolKind};
 use crate::profiles::machine::{FeedValue, Reader, StepoverValue, mm_text, read_text};
+use crate::profiles::stock::{self, BlockSpec};
 use crate::units::Unit;
 
 /// Smallest stepdown accepted, mm: below it the levels only multiply the
@@ -32,24 +32,6 @@ pub const MAX_STEPOVER_SHARE: f64 = 0.9;
 /// 0.2 mm, for the same reason.
 pub fn min_stepover(d: f64) -> f64 {
     (0.02 * d).max(0.2)
-}
-
-#[derive(Debug, Default, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct BlockSpec {
-    length: Option<Spanned<LengthValue>>,
-    width: Option<Spanned<LengthValue>>,
-    thickness: Option<Spanned<LengthValue>>,
-    rocker: Option<Spanned<Vec<Spanned<BlankStationSpec>>>>,
-    allowance: Option<Spanned<LengthValue>>,
-}
-
-#[derive(Debug, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct BlankStationSpec {
-    at: Spanned<LengthValue>,
-    bottom: Spanned<LengthValue>,
-    deck: Spanned<LengthValue>,
 }
 
 #[derive(Debug, Default, Deserialize)]
@@ -478,46 +460,6 @@ impl JobReader<'_> {
         })
     }
 
-    /// The stock as the job gives it: a flat block, a pre-rockered blank,
-    /// or none (sized from the board).
-    fn stock(&self, stock: Option<&BlockSpec>) -> Result<Option<Block>, DescriptionError> {
-        let r = &self.r;
-        Ok(match stock {
-            None => None,
-            Some(b) => {
-                let need = |v: &Option<Spanned<LengthValue>>,
-                            name: &str,
-                            hi: f64|
-                 -> Result<f64, DescriptionError> {
-                    match v {
-                        Some(v) => r.length(v, &format!("stock.{name}"), 0.0, hi, "the block's size"),
-                        None => r.fail(&Location::UNKNOWN, &format!("stock.{name}"), "is missing", "give length, width and thickness, or leave out `stock:` to size the block from the board"),
-                    }
-                };
-                let length = need(&b.length, "length", 20_000.0)?;
-                let width = need(&b.width, "width", 20_000.0)?;
-                match &b.rocker {
-                    None => {
-                        if let Some(a) = &b.allowance {
-                            return r.fail(
-                                &a.referenced,
-                                "stock.allowance",
-                                "is only for a rockered blank",
-                                "a flat block's faces are flat; leave it out, or give `rocker:` stations",
-                            );
-                        }
-                        Some(Block::flat(
-                            length,
-                            width,
-                            need(&b.thickness, "thickness", 2000.0)?,
-                        ))
-                    }
-                    Some(st) => Some(rockered_blank(r, b, st, length, width)?),
-                }
-            }
-        })
-    }
-
     /// The frame's width: the band cut round the outline, wider than the
     /// roughing and outline tools.
     fn frame(
@@ -608,151 +550,6 @@ impl JobReader<'_> {
     }
 }
 
-/// A pre-rockered blank from its stations.
-fn rockered_blank(
-    r: &Reader,
-    b: &BlockSpec,
-    st: &Spanned<Vec<Spanned<BlankStationSpec>>>,
-    length: f64,
-    width: f64,
-) -> Result<Block, DescriptionError> {
-    if let Some(t) = &b.thickness {
-        return r.fail(
-            &t.referenced,
-            "stock.thickness",
-            "is set by the rocker stations of a rockered blank",
-            "leave it out: the blank's thickness at each station is deck - bottom",
-        );
-    }
-    let list = &st.value;
-    if list.len() < 2 {
-        return r.fail(
-            &st.referenced,
-            "stock.rocker",
-            format!(
-                "has {} station(s); a blank's curves need at least 2",
-                list.len()
-            ),
-            "give {at, bottom, deck} at both ends of the blank and every 300 mm or so between",
-        );
-    }
-    let mut stations: Vec<[f64; 3]> = Vec::new();
-    for (k, sp) in list.iter().enumerate() {
-        let v = &sp.value;
-        let field = |f: &str| format!("stock.rocker[{k}].{f}");
-        let at = v.at.value.0.to_mm(r.unit);
-        let bottom = v.bottom.value.0.to_mm(r.unit);
-        let deck = v.deck.value.0.to_mm(r.unit);
-        for (val, f, loc) in [
-            (at, "at", &v.at.referenced),
-            (bottom, "bottom", &v.bottom.referenced),
-            (deck, "deck", &v.deck.referenced),
-        ] {
-            if !(0.0..=20_000.0).contains(&val) {
-                return r.fail(
-                    loc,
-                    &field(f),
-                    format!("is {}; it must be from 0 to 20 m", mm_text(val)),
-                    "heights are above the table the blank lies on, bottom down; `at` is from the blank's nose end",
-                );
-            }
-        }
-        if let Some(prev) = stations.last()
-            && at <= prev[0]
-        {
-            return r.fail(
-                &v.at.referenced,
-                &field("at"),
-                format!(
-                    "is {}; stations must increase along the blank (the one before is at {})",
-                    mm_text(at),
-                    mm_text(prev[0])
-                ),
-                "list the stations from the nose end",
-            );
-        }
-        if deck < bottom + 10.0 {
-            return r.fail(
-                &v.deck.referenced,
-                &field("deck"),
-                format!(
-                    "is {} over a bottom of {}; the blank must be at least 10 mm thick",
-                    mm_text(deck),
-                    mm_text(bottom)
-                ),
-                "heights of the deck and the bottom above the table, at the same station",
-            );
-        }
-        stations.push([at, bottom, deck]);
-    }
-    let (first, last) = (stations[0][0], stations[stations.len() - 1][0]);
-    if first > 0.5 || (last - length).abs() > 0.5 {
-        return r.fail(
-            &st.referenced,
-            "stock.rocker",
-            format!(
-                "runs from {} to {}; it must run from 0 to the blank's length, {}",
-                mm_text(first),
-                mm_text(last),
-                mm_text(length)
-            ),
-            "measure the blank at both its ends",
-        );
-    }
-    // Heights from the lowest bottom point. The curves do not overshoot
-    // their stations, so the box runs from the lowest bottom station to
-    // the highest deck station.
-    let lo = stations.iter().map(|s| s[1]).fold(f64::INFINITY, f64::min);
-    let hi = stations
-        .iter()
-        .map(|s| s[2])
-        .fold(f64::NEG_INFINITY, f64::max);
-    for s in &mut stations {
-        s[1] -= lo;
-        s[2] -= lo;
-    }
-    let curve = |k: usize| {
-        Curve::new(&stations.iter().map(|s| (s[0], s[k])).collect::<Vec<_>>())
-            .expect("stations checked: finite and increasing")
-    };
-    let (bottom, deck) = (curve(1), curve(2));
-    // Between stations the two curves may come closer than at any station.
-    let n = length.ceil() as usize;
-    let thin = (0..=n)
-        .map(|k| {
-            let x = (k as f64).min(length);
-            deck.eval(x) - bottom.eval(x)
-        })
-        .fold(f64::INFINITY, f64::min);
-    if thin < 10.0 {
-        return r.fail(
-            &st.referenced,
-            "stock.rocker",
-            format!(
-                "makes the blank {} thick between stations; it must be at least 10 mm",
-                mm_text(thin)
-            ),
-            "add stations where the curves come close",
-        );
-    }
-    let allowance = match &b.allowance {
-        None => 5.0,
-        Some(a) => r.length_or_zero(
-            a,
-            "stock.allowance",
-            0.0,
-            50.0,
-            "how far the real blank may stand proud of its measured curves, e.g. 5 mm",
-        )?,
-    };
-    Ok(Block {
-        length,
-        width,
-        thickness: hi - lo,
-        rocker: Some(BlankRocker::new(stations, bottom, deck, allowance)),
-    })
-}
-
 fn resolve(
     raw: JobFile,
     text: &str,
@@ -766,7 +563,7 @@ fn resolve(
         top: Location::UNKNOWN,
     };
     let r = &jr.r;
-    let stock = jr.stock(raw.stock.as_ref())?;
+    let stock = stock::read_block(&jr.r, raw.stock.as_ref(), "stock")?;
     let tp = raw.table_position.unwrap_or_default();
     let table_position = [
         jr.length_or(

@@ -7,6 +7,7 @@
 //! and its zero is again the top front-left corner.
 
 use crate::model::job::{Block, Holding, Job, Pitch};
+use crate::model::machine::Machine;
 use crate::model::mesh::{Mesh, cross, norm, sub};
 use crate::profiles::machine::mm_text;
 use crate::units;
@@ -62,8 +63,9 @@ pub struct Margins {
     pub nose: f64,
     /// From the tail to the block's back end.
     pub tail: f64,
-    /// From each long side of the block to the board.
-    pub side: f64,
+    /// From each long side of the stock (its plan shape, where it has
+    /// one) to the board at the tightest, and where (X from the nose).
+    pub side: (f64, f64),
 }
 
 /// The board placed in its block, ready for toolpaths.
@@ -217,6 +219,33 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
             both(block.length),
             both(need_len),
             both(need_len - block.length)
+        ));
+    }
+    // The least room at the sides, and where (X from the board's nose):
+    // against the plan shape where the stock has one.
+    let sx = block.length / 2.0 - (tlo[0] + thi[0]) / 2.0;
+    let mid_y = (tlo[1] + thi[1]) / 2.0;
+    let side_room = turned
+        .iter()
+        .map(|v| {
+            let x = v[0] + sx;
+            (
+                block.width_at(x) / 2.0 - (v[1] - mid_y).abs(),
+                x - sx - tlo[0],
+            )
+        })
+        .fold((f64::INFINITY, 0.0), |a, b| if b.0 < a.0 { b } else { a });
+    if block.plan.is_some() && side_room.0 < side_need {
+        short.push(format!(
+            "width: the blank's plan shape leaves {} at the side {} from the board's nose, the board with {} needs {} ({} short)",
+            both(side_room.0),
+            both(side_room.1),
+            match job.holding {
+                Holding::Frame => "its cut band and frame",
+                Holding::Cradle => "its skin",
+            },
+            both(side_need),
+            both(side_need - side_room.0)
         ));
     }
     let need_w = size[1] + 2.0 * side_need;
@@ -420,9 +449,70 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
             bottom,
             nose: x_range[0],
             tail,
-            side: centre_y - half_width,
+            side: (side_room.0, side_room.1),
         },
     })
+}
+
+/// Whether the placed stock (and, in a cradle, the tool running round it)
+/// stays inside the machine's travel, with the clearance above it.
+pub fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamError> {
+    let b = &p.block;
+    let [tx, ty] = job.table_position;
+    let mut why = Vec::new();
+    // In a cradle the roughing runs round the stock's edges: its offsets
+    // reach a tool radius and two 2 mm cells beyond them.
+    let g = match job.holding {
+        Holding::Frame => 0.0,
+        Holding::Cradle => job.roughing.tool.cutter.radius + 4.0,
+    };
+    let what = if g > 0.0 {
+        "the tool running round the block"
+    } else {
+        "the block"
+    };
+    if tx + b.length + g > m.travel[0] {
+        why.push(format!(
+            "{what} runs to machine X {:.1} mm but X travel is {:.1} mm",
+            tx + b.length + g,
+            m.travel[0]
+        ));
+    }
+    if ty + b.width + g > m.travel[1] {
+        why.push(format!(
+            "{what} runs to machine Y {:.1} mm but Y travel is {:.1} mm",
+            ty + b.width + g,
+            m.travel[1]
+        ));
+    }
+    if tx - g < 0.0 || ty - g < 0.0 {
+        why.push(format!(
+            "{what} reaches machine X {:.1} mm, Y {:.1} mm, below 0: move the block in (table_position) by at least {:.1} mm",
+            tx - g,
+            ty - g,
+            g
+        ));
+    }
+    let top = m.table_top + b.thickness + m.clearance;
+    if top > m.travel[2] {
+        why.push(format!(
+            "the block top plus clearance is {:.1} mm above the bed but Z travel is {:.1} mm",
+            top, m.travel[2]
+        ));
+    }
+    if why.is_empty() {
+        Ok(())
+    } else {
+        let hint = if job.holding == Holding::Frame && tx + b.length > m.travel[0] {
+            " (held in cradles, `holding: cradle` in the job, the stock needs no frame, tabs or holes beyond the tips: see the README, Holding in cradles)"
+        } else {
+            ""
+        };
+        Err(CamError::Fit(format!(
+            "the stock does not fit the machine: {}{hint}",
+            why.join("; ")
+        )))
+    }
 }
 
 /// Least stock between a registration hole and the stock's edge.
@@ -633,12 +723,22 @@ impl Placement {
                 both(m.bottom.0),
                 both(m.bottom.1.max(0.0))
             ),
-            format!(
-                "block end to nose {}, tail to block end {}, each side {}",
-                both(m.nose),
-                both(m.tail),
-                both(m.side)
-            ),
+            match &b.plan {
+                None => format!(
+                    "block end to nose {}, tail to block end {}, each side {}",
+                    both(m.nose),
+                    both(m.tail),
+                    both(m.side.0)
+                ),
+                Some(p) => format!(
+                    "blank end to nose {}, tail to blank end {}, each side at least {} ({} from the nose; plan shape of {} stations)",
+                    both(m.nose),
+                    both(m.tail),
+                    both(m.side.0),
+                    both(m.side.1.max(0.0)),
+                    p.len()
+                ),
+            },
         ]
     }
 }
