@@ -122,7 +122,10 @@ impl ZMap {
     /// Volume of material, mm³.
     pub fn volume(&self) -> f64 {
         let area = self.cell[0] * self.cell[1];
-        self.top
+        // Rows in parallel, then summed in row order: a parallel sum's
+        // order (and so its last bits) depends on how the threads split it.
+        let rows: Vec<f64> = self
+            .top
             .par_chunks(self.dims[0])
             .zip(self.bottom.par_chunks(self.dims[0]))
             .map(|(t, b)| {
@@ -131,8 +134,8 @@ impl ZMap {
                     .map(|(&t, &b)| (t as f64 - b as f64).max(0.0))
                     .sum::<f64>()
             })
-            .sum::<f64>()
-            * area
+            .collect();
+        rows.iter().sum::<f64>() * area
     }
 
     /// Applies the moves in order; returns what each met. Rows are shared
