@@ -415,3 +415,48 @@ fn the_blanks_command_ranks_the_shops_list_and_a_bad_list_writes_nothing() {
     assert!(e.contains("blanks[0].thickness"), "{e}");
     assert!(!outdir.exists(), "nothing written");
 }
+
+/// Setup 2 is zeroed on the spoilboard, which the first setup's top rests
+/// on after the flip: a block 2 mm thicker than declared still gives the
+/// design's thickness. Simulated with the real (thicker) block: the design
+/// stands where setup 1 put it, 2 mm further from the turned block's new
+/// top than planned (zeroed on that top instead, the bottom would be cut
+/// 2 mm into the board).
+#[test]
+fn a_block_thicker_than_declared_still_gives_the_design_thickness() {
+    use blanksmith::verify::simulate::{self, ProgramSource, Setting, VerifyOptions};
+    let m = profile::generic_machine();
+    let j = job::default_job(&m).unwrap();
+    let design = commands::load_design(&fixture("check-box.yaml")).unwrap();
+    let plan = commands::plan_design(&design, &m, &j, &|_| {}).unwrap();
+    let declared = plan.placement.block.clone();
+    let run = |extra: f64, table: bool| {
+        let mut real = declared.clone();
+        real.thickness += extra;
+        let sources = plan
+            .programs
+            .iter()
+            .map(|p| ProgramSource {
+                name: p.file_name.clone(),
+                side: p.side,
+                reader: Box::new(p.text.as_bytes()),
+            })
+            .collect();
+        let setting = Setting {
+            table_zero_after_flip: table,
+            machine: &m,
+            block: real,
+            table_position: j.table_position,
+            default_tool: None,
+            design: Some(&plan.placement.part),
+            keep: commands::tab_rectangles(&plan.placement, &j),
+            floor: None,
+        };
+        simulate::verify(sources, &setting, VerifyOptions::default(), &|_| {}).unwrap()
+    };
+    let v = run(2.0, true);
+    assert!(!v.has_findings(), "{}", v.text());
+    assert!(v.gouge_max_mm.unwrap() <= 0.05, "{}", v.text());
+    let target = j.finishing.scallop + j.finishing.tolerance;
+    assert!(v.leftover_p95_mm.unwrap() <= target, "{}", v.text());
+}

@@ -32,6 +32,8 @@ fn run(
         })
         .collect();
     let setting = Setting {
+        // Hand-written programs zeroed on the turned block's top.
+        table_zero_after_flip: false,
         machine: &m,
         block,
         table_position: [0.0, 0.0],

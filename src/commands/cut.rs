@@ -362,6 +362,7 @@ pub fn verify_plan_with(
         })
         .collect();
     let setting = Setting {
+        table_zero_after_flip: true,
         machine,
         block: plan.placement.block.clone(),
         table_position: job.table_position,
@@ -376,10 +377,7 @@ pub fn verify_plan_with(
 /// The tabs' plan rectangles, grown by the finishing tool's radius plus
 /// 1 mm: the ball cannot reach closer to a tab's side, and that foam goes
 /// with the tab when it is cut off and sanded.
-pub(crate) fn tab_rectangles(
-    place: &crate::toolpath::setup::Placement,
-    job: &Job,
-) -> Vec<[[f64; 2]; 2]> {
+pub fn tab_rectangles(place: &crate::toolpath::setup::Placement, job: &Job) -> Vec<[[f64; 2]; 2]> {
     let g = job.finishing.pass.tool.cutter.radius + 1.0;
     place
         .tabs

@@ -175,6 +175,10 @@ pub fn verify_programs(
         });
     }
     let setting = Setting {
+        // Programs planned against a job are written with setup 2's Z0 on
+        // the spoilboard top; a bare block's programs are read as zeroed
+        // on the turned block's top.
+        table_zero_after_flip: job.is_some(),
         machine: &machine,
         block,
         table_position,

@@ -122,9 +122,11 @@ pub fn plan(
                     format!("setup {} of 2: {} up{}", sp.side.number(), sp.side.name(), if sp.side == Side::Bottom { ", after the flip about X onto the registration pins" } else { "" }),
                     format!("cuts: {}", g.iter().map(|p| p.label).collect::<Vec<_>>().join(", ")),
                     format!("tool: {}", tools.join("; ")),
-                    match b.rocker {
-                        None => "zero: X0 Y0 at the front-left corner of the block's top face, Z0 on the top face (touch off the tool tip)".to_string(),
-                        Some(_) => format!("zero: X0 at the blank's nose end, Y0 on its front side, Z0 on its highest point in this setup, at X{:.1} (touch off the tool tip)", b.zero_x(sp.side == Side::Deck)),
+                    match (b.rocker.is_some(), sp.side) {
+                        (false, Side::Deck) => "zero: X0 Y0 at the front-left corner of the block's top face, Z0 on the top face (touch off the tool tip)".to_string(),
+                        (true, Side::Deck) => format!("zero: X0 at the blank's nose end, Y0 on its front side, Z0 on its highest point in this setup, at X{:.1} (touch off the tool tip)", b.zero_x(true)),
+                        (false, Side::Bottom) => format!("zero: X0 Y0 at the front-left corner of the block as in setup 1, Z0 on the spoilboard top, not on the block (its top should stand at Z{} if it is as thick as declared)", f1(b.thickness)),
+                        (true, Side::Bottom) => format!("zero: X0 at the blank's nose end, Y0 on its front side, as in setup 1; Z0 on the spoilboard top, not on the blank (its highest point, at X{:.1}, should stand at Z{})", b.zero_x(false), f1(b.thickness)),
                     },
                     match b.rocker {
                         None => format!("stock: {} x {} x {} mm block (L x W x T), front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), job.table_position[0], job.table_position[1]),
@@ -134,11 +136,16 @@ pub fn plan(
                 ],
                 cautions: CAUTIONS.iter().map(|s| s.to_string()).collect(),
             };
+            // Setup 2 is written with Z0 on the table: every height raised
+            // by the declared thickness.
+            let dz = zero_shift(sp.side, b);
+            let raised: Vec<Toolpath> = g.iter().map(|p| raise(p, dz)).collect();
+            let raised: Vec<&Toolpath> = raised.iter().collect();
             let text = write::program(
                 &header,
-                &g,
+                &raised,
                 machine.output,
-                machine.clearance,
+                machine.clearance + dz,
                 machine.spindle_ramp,
                 machine.tool_changer,
                 machine.max_feed_z,
@@ -171,6 +178,41 @@ pub fn plan(
         programs,
         sheet,
     })
+}
+
+/// How far a setup's program Z stand above the planner's own: 0 in setup
+/// 1 (Z0 on the stock's top), the declared thickness in setup 2 (Z0 on the
+/// spoilboard top, which the stock's original top rests on or is held to
+/// by its cradle): so the bottom is cut from the table the deck side was
+/// referenced to, and the board's thickness does not follow the block's.
+pub fn zero_shift(side: Side, block: &crate::model::job::Block) -> f64 {
+    match side {
+        Side::Deck => 0.0,
+        Side::Bottom => block.thickness,
+    }
+}
+
+/// A toolpath with every height raised by `dz`.
+fn raise(p: &Toolpath, dz: f64) -> Toolpath {
+    let up = |q: [f64; 3]| [q[0], q[1], q[2] + dz];
+    Toolpath {
+        label: p.label,
+        pass: p.pass.clone(),
+        steps: p
+            .steps
+            .iter()
+            .map(|s| match *s {
+                Step::Rapid(q) => Step::Rapid(up(q)),
+                Step::Plunge(q) => Step::Plunge(up(q)),
+                Step::Cut(q) => Step::Cut(up(q)),
+                Step::Arc { to, centre, cw } => Step::Arc {
+                    to: up(to),
+                    centre,
+                    cw,
+                },
+            })
+            .collect(),
+    }
 }
 
 fn f1(v: f64) -> String {
@@ -313,9 +355,10 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
     };
     let mut first_move = true;
     let mut spindle_started = false;
+    let dz = zero_shift(p.side, b);
     let bed = Bed {
         machine: m,
-        thickness: b.thickness,
+        zero_height: b.thickness - dz,
         table_position: job.table_position,
     };
     let result = read::read(
@@ -338,7 +381,7 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                     if motion != Motion::Rapid
                         || to[0] != from[0]
                         || to[1] != from[1]
-                        || to[2] < m.clearance - 1e-6
+                        || to[2] < m.clearance + dz - 1e-6
                     {
                         note(format!(
                             "line {line}: the first move must rise to clearance height"
@@ -352,7 +395,7 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                     // Depth below the stock's top there (a rockered
                     // blank's top, with its allowance, is below Z 0 along
                     // its middle).
-                    let top = b.top_under(p.side == Side::Deck, q[0]).0 + b.allowance();
+                    let top = b.top_under(p.side == Side::Deck, q[0]).0 + b.allowance() + dz;
                     if top - q[2] > p.tool.reach + 1e-6 {
                         note(format!(
                             "line {line}: Z {:.3} mm is {:.3} mm below the stock top there, deeper than T{} reaches below its holder ({})",
@@ -534,21 +577,23 @@ pub fn setup_sheet(
                     &mut s,
                 );
             }
-            if rockered {
-                next(
-                    format!(
-                        "Set Z0 again on the new highest point (the bottom's lowest point), at X {}; X0 Y0 are unchanged.",
-                        both(b.zero_x(false))
-                    ),
-                    &mut s,
-                );
-            } else {
-                next(
-                    "Set Z0 again on the new top face (it was the bottom face); X0 Y0 are unchanged."
-                        .into(),
-                    &mut s,
-                );
-            }
+            next(
+                format!(
+                    "Set Z0 on the spoilboard top (touch the tool tip off on the spoilboard beside the stock), not on the stock; X0 Y0 are unchanged. Setup 2 cuts from the table the first setup's top now rests on{}, so the board's thickness does not follow the stock's: a stock thicker or thinner than declared only moves its top (declared: {} above the spoilboard{}).",
+                    if cradle || rockered {
+                        " or is held to by its cradle"
+                    } else {
+                        ""
+                    },
+                    both(b.thickness),
+                    if rockered {
+                        format!(", at its highest point, X {}", both(b.zero_x(false)))
+                    } else {
+                        String::new()
+                    }
+                ),
+                &mut s,
+            );
         }
         next(
             format!(

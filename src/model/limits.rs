@@ -4,13 +4,15 @@
 use crate::model::machine::Machine;
 
 /// Where a program runs: the machine, and the block on its table (program
-/// zero on the block's top face at its front-left corner).
+/// X0 Y0 at the block's front-left corner, Z0 `zero_height` above the
+/// table top: on the block's top face, or on the table itself).
 #[derive(Debug, Clone, Copy)]
 pub struct Bed<'a> {
     /// The machine.
     pub machine: &'a Machine,
-    /// Block thickness (the table top is at Z −thickness).
-    pub thickness: f64,
+    /// Height of program Z0 above the table top (the table top is at Z
+    /// −zero_height): the block's thickness when zero is on its top face.
+    pub zero_height: f64,
     /// Machine X, Y of the block's front-left corner.
     pub table_position: [f64; 2],
 }
@@ -23,7 +25,7 @@ impl Bed<'_> {
         let mach = [
             to[0] + self.table_position[0],
             to[1] + self.table_position[1],
-            to[2] + self.thickness + m.table_top,
+            to[2] + self.zero_height + m.table_top,
         ];
         let mut out = Vec::new();
         for a in 0..3 {
@@ -36,10 +38,10 @@ impl Bed<'_> {
                 ));
             }
         }
-        if to[2] < -self.thickness - m.spoilboard_allowance - 1e-6 {
+        if to[2] < -self.zero_height - m.spoilboard_allowance - 1e-6 {
             out.push(format!(
                 "Z {:.3} mm is below the table top (the block's bottom is Z {:.3} mm, spoilboard allowance {:.1} mm)",
-                to[2], -self.thickness, m.spoilboard_allowance
+                to[2], -self.zero_height, m.spoilboard_allowance
             ));
         }
         out

@@ -43,6 +43,10 @@ pub struct Setting<'a> {
     /// Plan rectangles (min, max corners, setup-1 coordinates) left on
     /// purpose, e.g. the tabs: not counted as leftover.
     pub keep: Vec<[[f64; 2]; 2]>,
+    /// Setup 2's program zero is on the spoilboard top (the table), not on
+    /// the turned stock's new top: its Z are heights above the table, and
+    /// the turned stock's top stands at its real thickness.
+    pub table_zero_after_flip: bool,
     /// For programs planned here: the placement and the parting overlap,
     /// whose floor (the parting surface less the overlap) no tool tip goes
     /// below, so the rail just above the parting line is out of the ball's
@@ -319,9 +323,9 @@ pub fn verify(
 ) -> Result<Verification, GcodeError> {
     let b = &setting.block;
     let m = setting.machine;
-    let bed = Bed {
+    let mut bed = Bed {
         machine: m,
-        thickness: b.thickness,
+        zero_height: b.thickness,
         table_position: setting.table_position,
     };
     let mut map = ZMap::of_stock(b, true, options.cell, 0.0).map_err(|e| GcodeError {
@@ -364,7 +368,17 @@ pub fn verify(
             side = Side::Bottom;
             top1 = Some(map.top.clone());
             map = flipped(&map, b.thickness);
+            if setting.table_zero_after_flip {
+                bed.zero_height = 0.0;
+            }
         }
+        // Program Z less this is the simulation's own (zero on the turned
+        // stock's top, the table at minus its thickness).
+        let shift = if side == Side::Bottom && setting.table_zero_after_flip {
+            b.thickness
+        } else {
+            0.0
+        };
         progress(&format!("simulating {}", src.name));
         let before = map.volume();
         let name = src.name.clone();
@@ -493,9 +507,16 @@ pub fn verify(
                         findings.push(Kind::Envelope, line, why, [to[0], to[1]]);
                     }
                     at = to;
+                    let (from, to) = (
+                        [from[0], from[1], from[2] - shift],
+                        [to[0], to[1], to[2] - shift],
+                    );
                     let Some(c) = cutter else {
-                        // Above the stock a move needs no tool; below it, it does.
-                        if from[2].min(to[2]) < 0.0 {
+                        // Above the stock a move needs no tool; below it, it
+                        // does (a move can only start below the stock's top
+                        // after one that ended there; the reader's start,
+                        // Z0, may be the table).
+                        if to[2] < 0.0 {
                             missing_tool.get_or_insert(line);
                         }
                         return;
