@@ -460,3 +460,112 @@ fn a_block_thicker_than_declared_still_gives_the_design_thickness() {
     let target = j.finishing.scallop + j.finishing.tolerance;
     assert!(v.leftover_p95_mm.unwrap() <= target, "{}", v.text());
 }
+
+/// A stringer down the block: the cutting feed is the job's share where
+/// the tool touches it (tool centre within half its width plus the tool's
+/// radius of the middle line), the full feed elsewhere, read back from the
+/// programs by the project's G-code reader; the simulated run time grows;
+/// holes and tabs stand beside it.
+#[test]
+fn a_stringer_slows_the_feed_over_it_and_keeps_holes_and_tabs_off_it() {
+    use blanksmith::gcode::read::{self, Event, Motion, ReadOptions};
+    let m = profile::generic_machine();
+    let base = "units: mm\nstock: {length: 1250, width: 700, thickness: 80STRINGER}\ntable_position: {x: 100, y: 100}\nstringer_feed: 40%\n";
+    let with = job_text(
+        &base.replace("STRINGER", ", stringer: {width: 5, material: spruce}"),
+        &m,
+    );
+    let without = job_text(&base.replace("STRINGER", ""), &m);
+    let design = commands::load_design(&fixture("check-box.yaml")).unwrap();
+    let plan = commands::plan_design(&design, &m, &with, &|_| {}).unwrap();
+    let (c, half) = (350.0, 2.5);
+    let mut slowed = 0;
+    for p in &plan.programs {
+        let r = p.tool.cutter.radius;
+        let feeds = [
+            with.roughing.feed,
+            with.outline.feed,
+            with.finishing.pass.feed,
+            with.finishing.rail_tool().0.feed,
+        ];
+        read::read(
+            p.text.as_bytes(),
+            &p.file_name,
+            ReadOptions::default(),
+            |e| {
+                if let Event::Move {
+                    motion: Motion::Linear,
+                    from,
+                    to,
+                    feed,
+                    line,
+                    ..
+                } = e
+                {
+                    if (to[2] - from[2]).abs() > 1e-9 || from == to {
+                        return; // plunges and ramps: their own feed or the Z rate
+                    }
+                    let inside = |y: f64| (y - c).abs() <= half + r + 1e-3;
+                    let nominal = feeds
+                        .iter()
+                        .copied()
+                        .find(|&f| (feed - f).abs() < 1.0 || (feed - 0.4 * f).abs() < 1.0);
+                    let Some(f) = nominal else { return };
+                    if inside(from[1]) && inside(to[1]) {
+                        assert!(
+                            (feed - 0.4 * f).abs() < 1.0,
+                            "{}:{line}: F{feed} over the stringer",
+                            p.file_name
+                        );
+                        slowed += 1;
+                    } else if !inside(from[1])
+                        && !inside(to[1])
+                        && ((from[1] - c) * (to[1] - c)) > 0.0
+                    {
+                        assert!(
+                            (feed - f).abs() < 1.0,
+                            "{}:{line}: F{feed} off the stringer",
+                            p.file_name
+                        );
+                    }
+                }
+            },
+        )
+        .unwrap();
+    }
+    assert!(slowed > 100, "{slowed} moves slowed");
+    // Holes and tabs beside it: each hole's edge and each tab's side at
+    // least 3 mm from the stringer's faces.
+    let pl = &plan.placement;
+    assert_eq!(pl.holes.len(), 4);
+    for h in &pl.holes {
+        assert!(
+            (h[1] - c).abs() - with.hole_diameter / 2.0 >= half + 3.0 - 1e-9,
+            "{h:?}"
+        );
+    }
+    assert_eq!(pl.tabs.len(), 4);
+    for t in &pl.tabs {
+        let (lo, hi) = t.bounding_box().unwrap();
+        assert!(
+            lo[1] >= c + half + 3.0 - 1e-9 || hi[1] <= c - half - 3.0 + 1e-9,
+            "{lo:?} {hi:?}"
+        );
+    }
+    // Slower over the stringer, in the simulation's own run time, and clean.
+    let v = commands::verify_plan(&plan, &m, &with, &|_| {}).unwrap();
+    assert!(!v.has_findings(), "{}", v.text());
+    let plain = commands::plan_design(&design, &m, &without, &|_| {}).unwrap();
+    let w = commands::verify_plan(&plain, &m, &without, &|_| {}).unwrap();
+    assert!(
+        v.time_estimate_s > w.time_estimate_s + 1.0,
+        "{} vs {}",
+        v.time_estimate_s,
+        w.time_estimate_s
+    );
+    assert!(
+        plan.sheet.contains("stringer: 5.0 mm") && plan.sheet.contains("spruce"),
+        "{}",
+        plan.sheet
+    );
+}

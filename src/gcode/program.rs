@@ -6,7 +6,7 @@ use std::io::BufReader;
 
 use crate::gcode::read::{self, Event, Motion, ReadOptions};
 use crate::gcode::timing;
-use crate::gcode::write::{self, CAUTIONS, Header};
+use crate::gcode::write::{self, CAUTIONS, Header, StringerFeed};
 use crate::model::job::{Holding, Job};
 use crate::model::limits::Bed;
 use crate::model::machine::{Machine, Tool};
@@ -98,7 +98,7 @@ pub fn plan(
         }
         for g in groups {
             let tool = g[0].pass.tool.clone();
-            let (time_s, path_mm) = estimate(&g, machine);
+            let (time_s, path_mm) = estimate(&g, machine, stringer_feed(&placement.block, job));
             let tools: Vec<String> = {
                 let mut t: Vec<String> = g.iter().map(|p| p.pass.tool.describe()).collect();
                 t.dedup();
@@ -149,6 +149,7 @@ pub fn plan(
                 machine.spindle_ramp,
                 machine.tool_changer,
                 machine.max_feed_z,
+                stringer_feed(b, job),
             );
             programs.push(Program {
                 file_name,
@@ -190,6 +191,15 @@ pub fn zero_shift(side: Side, block: &crate::model::job::Block) -> f64 {
         Side::Deck => 0.0,
         Side::Bottom => block.thickness,
     }
+}
+
+/// The stringer's feed reduction for a stock, if it has one.
+fn stringer_feed(b: &crate::model::job::Block, job: &Job) -> Option<StringerFeed> {
+    b.stringer.as_ref().map(|st| StringerFeed {
+        centre: b.width / 2.0,
+        half_width: st.width / 2.0,
+        share: job.stringer_feed,
+    })
 }
 
 /// A toolpath with every height raised by `dz`.
@@ -297,44 +307,57 @@ fn within_limits(p: &Placement, job: &Job) -> Result<(), CamError> {
 /// speeds and accelerations ([`timing`]): feed moves at most at their feed
 /// (and the machine's Z feed on steep moves), rapids as fast as the axes go
 /// together; plus the spindle's ramp.
-fn estimate(paths: &[&Toolpath], m: &Machine) -> (f64, f64) {
+fn estimate(paths: &[&Toolpath], m: &Machine, stringer: Option<StringerFeed>) -> (f64, f64) {
     let mut at = [0.0, 0.0, m.clearance];
     let mut len = 0.0;
     let mut moves = Vec::new();
     for p in paths {
-        for s in &p.steps {
-            let (to, feed, arc) = match *s {
-                Step::Rapid(to) => (to, None, None),
-                Step::Plunge(to) => (to, Some(p.pass.plunge_feed), None),
-                Step::Cut(to) => (to, Some(p.pass.feed), None),
-                Step::Arc { to, centre, .. } => (to, Some(p.pass.feed), Some(centre)),
+        for &step in &p.steps {
+            // Cuts split where they cross the stringer's band, as written.
+            let pieces = match (step, stringer) {
+                (Step::Cut(to), Some(sf)) => {
+                    let band = sf.band(p.pass.tool.cutter.radius);
+                    write::split_at_band(at, to, band)
+                        .into_iter()
+                        .map(|(q, slow)| (Step::Cut(q), if slow { sf.share } else { 1.0 }))
+                        .collect::<Vec<_>>()
+                }
+                (s, _) => vec![(s, 1.0)],
             };
-            let radius = arc.map(|c| ((at[0] - c[0]).powi(2) + (at[1] - c[1]).powi(2)).sqrt());
-            let dxy = match radius {
-                // Full turns: the helix length is 2πr a turn.
-                Some(r) => 2.0 * std::f64::consts::PI * r,
-                None => ((to[0] - at[0]).powi(2) + (to[1] - at[1]).powi(2)).sqrt(),
-            };
-            let dz = to[2] - at[2];
-            let d = (dxy * dxy + dz * dz).sqrt();
-            len += d;
-            if d > 0.0 {
-                let dir = match radius {
-                    Some(_) => [dxy / d, 0.0, dz / d],
-                    None => [(to[0] - at[0]) / d, (to[1] - at[1]) / d, dz / d],
+            for (s, share) in pieces {
+                let (to, feed, arc) = match s {
+                    Step::Rapid(to) => (to, None, None),
+                    Step::Plunge(to) => (to, Some(p.pass.plunge_feed), None),
+                    Step::Cut(to) => (to, Some(p.pass.feed * share), None),
+                    Step::Arc { to, centre, .. } => (to, Some(p.pass.feed), Some(centre)),
                 };
-                let speed = match feed {
-                    None => f64::INFINITY,
-                    Some(f) => f.min(m.max_feed_z * d / dz.abs().max(1e-12)) / 60.0,
+                let radius = arc.map(|c| ((at[0] - c[0]).powi(2) + (at[1] - c[1]).powi(2)).sqrt());
+                let dxy = match radius {
+                    // Full turns: the helix length is 2πr a turn.
+                    Some(r) => 2.0 * std::f64::consts::PI * r,
+                    None => ((to[0] - at[0]).powi(2) + (to[1] - at[1]).powi(2)).sqrt(),
                 };
-                moves.push(timing::Move {
-                    dir,
-                    length: d,
-                    speed,
-                    radius,
-                });
+                let dz = to[2] - at[2];
+                let d = (dxy * dxy + dz * dz).sqrt();
+                len += d;
+                if d > 0.0 {
+                    let dir = match radius {
+                        Some(_) => [dxy / d, 0.0, dz / d],
+                        None => [(to[0] - at[0]) / d, (to[1] - at[1]) / d, dz / d],
+                    };
+                    let speed = match feed {
+                        None => f64::INFINITY,
+                        Some(f) => f.min(m.max_feed_z * d / dz.abs().max(1e-12)) / 60.0,
+                    };
+                    moves.push(timing::Move {
+                        dir,
+                        length: d,
+                        speed,
+                        radius,
+                    });
+                }
+                at = to;
             }
-            at = to;
         }
     }
     (
@@ -481,6 +504,16 @@ pub fn setup_sheet(
     s.push_str("\nFIT\n");
     for l in place.fit_lines() {
         s.push_str(&format!("  {l}\n"));
+    }
+    if let Some(st) = &place.block.stringer {
+        s.push_str(&format!(
+            "  stringer: {} {} down the middle (Y {:.1} mm); cutting feeds at {:.0} % where the tool touches it; holes{} beside it\n",
+            both(st.width),
+            st.material,
+            place.block.width / 2.0,
+            job.stringer_feed * 100.0,
+            if job.holding == Holding::Frame { " and tabs" } else { "" }
+        ));
     }
     let b = &place.block;
     let holes = place

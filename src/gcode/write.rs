@@ -192,8 +192,54 @@ impl Writer {
     }
 }
 
+/// Where cutting feeds are reduced: a stringer down the stock's middle.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StringerFeed {
+    /// Its middle line, Y (setup coordinates; the same after the flip).
+    pub centre: f64,
+    /// Half its width.
+    pub half_width: f64,
+    /// Share of each cutting feed used where the tool touches it.
+    pub share: f64,
+}
+
+impl StringerFeed {
+    /// The tool-centre band, in Y, where a tool of radius `r` touches it.
+    pub fn band(&self, r: f64) -> [f64; 2] {
+        let h = self.half_width + r;
+        [self.centre - h, self.centre + h]
+    }
+}
+
+/// A straight move from `a` to `b` cut where it enters and leaves the band
+/// `[y0, y1]`: the end of each piece, and whether the piece lies in it.
+pub fn split_at_band(a: [f64; 3], b: [f64; 3], band: [f64; 2]) -> Vec<([f64; 3], bool)> {
+    let dy = b[1] - a[1];
+    let mut ts: Vec<f64> = band
+        .iter()
+        .filter(|_| dy.abs() > 1e-12)
+        .map(|&y| (y - a[1]) / dy)
+        .filter(|&t| t > 1e-6 && t < 1.0 - 1e-6)
+        .collect();
+    ts.sort_by(f64::total_cmp);
+    ts.push(1.0);
+    let at = |t: f64| [0, 1, 2].map(|k| a[k] + t * (b[k] - a[k]));
+    let mut prev = 0.0;
+    ts.into_iter()
+        .map(|t| {
+            let mid = at(0.5 * (prev + t))[1];
+            prev = t;
+            (
+                if t == 1.0 { b } else { at(t) },
+                mid >= band[0] && mid <= band[1],
+            )
+        })
+        .collect()
+}
+
 /// One program: the header, then each toolpath (all with one tool unless
-/// `tool_changer`), then the end.
+/// `tool_changer`), then the end; cutting moves slowed over the stringer.
+#[allow(clippy::too_many_arguments)]
 pub fn program(
     header: &Header,
     paths: &[&Toolpath],
@@ -202,6 +248,7 @@ pub fn program(
     dwell: f64,
     tool_changer: bool,
     max_feed_z: f64,
+    stringer: Option<StringerFeed>,
 ) -> String {
     let mut w = Writer {
         out: String::new(),
@@ -258,7 +305,20 @@ pub fn program(
             match *s {
                 Step::Rapid(to) => w.motion("G0", to, None, None),
                 Step::Plunge(to) => w.motion("G1", to, Some(p.pass.plunge_feed), None),
-                Step::Cut(to) => w.motion("G1", to, Some(p.pass.feed), None),
+                Step::Cut(to) => match stringer {
+                    None => w.motion("G1", to, Some(p.pass.feed), None),
+                    Some(sf) => {
+                        let band = sf.band(p.pass.tool.cutter.radius);
+                        for (q, slow) in split_at_band(w.at, to, band) {
+                            let f = if slow {
+                                p.pass.feed * sf.share
+                            } else {
+                                p.pass.feed
+                            };
+                            w.motion("G1", q, Some(f), None);
+                        }
+                    }
+                },
                 Step::Arc { to, centre, cw } => w.motion(
                     if cw { "G2" } else { "G3" },
                     to,
@@ -277,6 +337,27 @@ pub fn program(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A move across the band is cut where it enters and leaves it, by
+    /// plain interpolation: from Y 0 to Y 100 across [40, 60], pieces end
+    /// at 40, 60 and 100, only the middle one in the band.
+    #[test]
+    fn a_move_across_the_stringer_is_cut_at_its_edges() {
+        let p = split_at_band([0.0, 0.0, -1.0], [10.0, 100.0, -3.0], [40.0, 60.0]);
+        assert_eq!(p.len(), 3);
+        assert_eq!(p[0], ([4.0, 40.0, -1.8], false));
+        assert_eq!(p[1], ([6.0, 60.0, -2.2], true));
+        assert_eq!(p[2], ([10.0, 100.0, -3.0], false));
+        // Along the band: one piece, in it; beside it: one piece, out.
+        assert_eq!(
+            split_at_band([0.0, 50.0, 0.0], [9.0, 50.0, 0.0], [40.0, 60.0]),
+            vec![([9.0, 50.0, 0.0], true)]
+        );
+        assert_eq!(
+            split_at_band([0.0, 10.0, 0.0], [9.0, 20.0, 0.0], [40.0, 60.0]),
+            vec![([9.0, 20.0, 0.0], false)]
+        );
+    }
     use crate::gcode::read::{self, Event, Motion, ReadOptions};
     use crate::model::job::Pass;
     use crate::model::machine::{Cutter, Tool};
@@ -377,6 +458,7 @@ mod tests {
                 5.0,
                 false,
                 5000.0,
+                None,
             );
             let mut worst: f64 = 0.0;
             read::read(text.as_bytes(), "t.nc", ReadOptions::default(), |e| {

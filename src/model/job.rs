@@ -16,10 +16,22 @@ pub struct Block {
     pub thickness: f64,
     /// The curves of a pre-rockered blank; `None` for a flat block.
     pub rocker: Option<BlankRocker>,
+    /// A stringer down the stock's middle line, if it has one.
+    pub stringer: Option<Stringer>,
     /// The plan shape as bought: (X from the nose end, width) at stations
     /// from end to end, centred on the stock's middle line, straight
     /// between them; `None` for a rectangle of `width`.
     pub plan: Option<Vec<[f64; 2]>>,
+}
+
+/// A stringer: a strip of wood (or another material) glued down the
+/// middle of the blank, its whole thickness.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Stringer {
+    /// Across, mm.
+    pub width: f64,
+    /// What it is made of, as the shop names it.
+    pub material: String,
 }
 
 /// A pre-rockered blank's bottom and deck along its length, as heights
@@ -59,8 +71,20 @@ impl Block {
             width,
             thickness,
             rocker: None,
+            stringer: None,
             plan: None,
         }
+    }
+
+    /// The band a tool of radius `r` touches the stringer from: tool
+    /// centres with Y within it (the stringer's half width plus `r` of the
+    /// middle line, W / 2, the same after the flip); `None` without one.
+    pub fn stringer_band(&self, r: f64) -> Option<[f64; 2]> {
+        self.stringer.as_ref().map(|s| {
+            let c = self.width / 2.0;
+            let h = s.width / 2.0 + r;
+            [c - h, c + h]
+        })
     }
 
     /// The stock's width at X: its plan shape's, or `width`.
@@ -270,6 +294,8 @@ pub struct Job {
     pub pin_depth: f64,
     /// Least stock kept above and below the board.
     pub skin: f64,
+    /// Share of each cutting feed used where the tool touches the stringer.
+    pub stringer_feed: f64,
     /// Roughing.
     pub roughing: Pass,
     /// Outline (separation) pass.

@@ -108,6 +108,7 @@ struct JobFile {
     table_position: Option<XySpec>,
     placement: Option<PlacementSpec>,
     holding: Option<Spanned<HoldingWord>>,
+    stringer_feed: Option<Spanned<StepoverValue>>,
     frame: Option<Spanned<LengthValue>>,
     parting_overlap: Option<Spanned<LengthValue>>,
     tabs: Option<TabsSpec>,
@@ -664,6 +665,20 @@ fn resolve(
         100.0,
         "tab height; more than twice the parting overlap",
     )?;
+    let stringer_feed = match &raw.stringer_feed {
+        None => 0.5,
+        Some(v) => match v.value {
+            StepoverValue::Share(x) if (0.1..=1.0).contains(&x) => x,
+            _ => {
+                return r.fail(
+                    &v.referenced,
+                    "stringer_feed",
+                    "must be a share of each feed from 10% to 100%",
+                    "e.g. 50%: the feed where the tool touches the stringer",
+                );
+            }
+        },
+    };
     let [hole_diameter, hole_gap, pin_depth] = jr.registration(
         raw.registration.unwrap_or_default(),
         holding,
@@ -682,6 +697,7 @@ fn resolve(
         hole_gap,
         pin_depth,
         skin,
+        stringer_feed,
         roughing,
         outline,
         finishing,

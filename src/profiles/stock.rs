@@ -9,7 +9,7 @@ use serde_saphyr::{Location, Spanned};
 use crate::description::DescriptionError;
 use crate::description::values::LengthValue;
 use crate::model::curve::Curve;
-use crate::model::job::{BlankRocker, Block};
+use crate::model::job::{BlankRocker, Block, Stringer};
 use crate::profiles::machine::{Reader, mm_text};
 
 #[derive(Debug, Default, Deserialize)]
@@ -21,6 +21,14 @@ pub(crate) struct BlockSpec {
     rocker: Option<Spanned<Vec<Spanned<BlankStationSpec>>>>,
     allowance: Option<Spanned<LengthValue>>,
     plan: Option<Spanned<Vec<Spanned<PlanStationSpec>>>>,
+    stringer: Option<StringerSpec>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct StringerSpec {
+    width: Spanned<LengthValue>,
+    material: Option<Spanned<String>>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -87,7 +95,27 @@ pub(crate) fn read_block(
                 }
                 Some(st) => rockered_blank(r, b, st, length, width, prefix)?,
             };
-            Some(Block { plan, ..block })
+            let stringer = match &b.stringer {
+                None => None,
+                Some(st) => Some(Stringer {
+                    width: r.length(
+                        &st.width,
+                        &format!("{prefix}.stringer.width"),
+                        0.0,
+                        50.0,
+                        "the stringer's width across the blank, e.g. 1/8in",
+                    )?,
+                    material: st
+                        .material
+                        .as_ref()
+                        .map_or("wood".to_string(), |m| m.value.trim().to_string()),
+                }),
+            };
+            Some(Block {
+                plan,
+                stringer,
+                ..block
+            })
         }
     })
 }
@@ -298,6 +326,7 @@ fn rockered_blank(
         width,
         thickness: hi - lo,
         rocker: Some(BlankRocker::new(stations, bottom, deck, allowance)),
+        stringer: None,
         plan: None,
     })
 }
@@ -328,6 +357,7 @@ struct BlankEntry {
     rocker: Option<Spanned<Vec<Spanned<BlankStationSpec>>>>,
     allowance: Option<Spanned<LengthValue>>,
     plan: Option<Spanned<Vec<Spanned<PlanStationSpec>>>>,
+    stringer: Option<StringerSpec>,
 }
 
 /// Reads a stock list from its text: `units` (default mm) and `blanks`,
@@ -373,6 +403,7 @@ pub fn stock_list_from_str(text: &str, file: &str) -> Result<Vec<StockEntry>, De
             rocker: e.rocker,
             allowance: e.allowance,
             plan: e.plan,
+            stringer: e.stringer,
         };
         let block = read_block(&r, Some(&spec), &prefix)?.expect("a spec was given");
         out.push(StockEntry { name, block });

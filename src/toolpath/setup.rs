@@ -381,21 +381,33 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
             )
         }
     };
+    // Off the stringer, where there is one: beside it, in pairs.
+    let beside = block
+        .stringer
+        .as_ref()
+        .map(|st| st.width / 2.0 + STRINGER_CLEAR + job.hole_diameter / 2.0);
     let holes = match job.holding {
         Holding::Frame => {
             let hr = job.hole_diameter / 2.0;
-            vec![
-                [x_range[0] - job.hole_gap - hr, centre_y],
-                [x_range[1] + job.hole_gap + hr, centre_y],
-            ]
+            let ends = [
+                x_range[0] - job.hole_gap - hr,
+                x_range[1] + job.hole_gap + hr,
+            ];
+            match beside {
+                None => ends.map(|x| [x, centre_y]).to_vec(),
+                Some(d) => ends
+                    .iter()
+                    .flat_map(|&x| [[x, centre_y - d], [x, centre_y + d]])
+                    .collect(),
+            }
         }
-        Holding::Cradle => cradle_holes(&part, x_range, centre_y, &block, job)?,
+        Holding::Cradle => cradle_holes(&part, x_range, centre_y, &block, job, beside)?,
     };
     // Tabs: from 5 mm inside each tip out past the cut band, centred on the
     // parting height at the tip.
-    let tab = |x0: f64, x1: f64, z: f64| {
+    let tab = |x0: f64, x1: f64, y: f64, z: f64| {
         Mesh::cuboid(
-            [x0, centre_y - job.tabs[0] / 2.0, z - job.tabs[1] / 2.0],
+            [x0, y - job.tabs[0] / 2.0, z - job.tabs[1] / 2.0],
             [x1 - x0, job.tabs[0], job.tabs[1]],
         )
     };
@@ -425,12 +437,30 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
     let z_nose = parting.first().map_or(0.0, |p| p[1]);
     let z_tail = parting.last().map_or(0.0, |p| p[1]);
     let reach = job.frame + 2.0 * r_rough + 5.0;
-    let tabs = match job.holding {
-        Holding::Frame => vec![
-            tab(x_range[0] - reach, x_range[0] + 5.0, z_nose),
-            tab(x_range[1] - 5.0, x_range[1] + reach, z_tail),
+    let tabs = match (job.holding, &block.stringer) {
+        (Holding::Frame, None) => vec![
+            tab(x_range[0] - reach, x_range[0] + 5.0, centre_y, z_nose),
+            tab(x_range[1] - 5.0, x_range[1] + reach, centre_y, z_tail),
         ],
-        Holding::Cradle => Vec::new(),
+        // Beside the stringer, in pairs: each from 5 mm inside the
+        // board's end across its own width, out past the cut band.
+        (Holding::Frame, Some(st)) => {
+            let d = st.width / 2.0 + STRINGER_CLEAR + job.tabs[0] / 2.0;
+            let mut v = Vec::new();
+            for y in [centre_y - d, centre_y + d] {
+                let near = part
+                    .vertices
+                    .iter()
+                    .filter(|q| (q[1] - y).abs() <= job.tabs[0] / 2.0);
+                let (x0, x1) = near.fold((f64::INFINITY, f64::NEG_INFINITY), |a, q| {
+                    (a.0.min(q[0]), a.1.max(q[0]))
+                });
+                v.push(tab(x_range[0] - reach, x0 + 5.0, y, z_nose));
+                v.push(tab(x1 - 5.0, x_range[1] + reach, y, z_tail));
+            }
+            v
+        }
+        (Holding::Cradle, _) => Vec::new(),
     };
     let tail = block.length - x_range[1];
     Ok(Placement {
@@ -515,6 +545,9 @@ pub fn fits_machine(p: &Placement, m: &Machine, job: &Job) -> Result<(), CamErro
     }
 }
 
+/// Least foam between the stringer and a hole or tab beside it.
+const STRINGER_CLEAR: f64 = 3.0;
+
 /// Least stock between a registration hole and the stock's edge.
 const HOLE_WALL: f64 = 5.0;
 
@@ -530,6 +563,7 @@ fn cradle_holes(
     centre_y: f64,
     block: &Block,
     job: &Job,
+    beside: Option<f64>,
 ) -> Result<Vec<[f64; 2]>, CamError> {
     let hr = job.hole_diameter / 2.0;
     let gap = job.hole_gap;
@@ -537,7 +571,13 @@ fn cradle_holes(
     for (end, tip, out) in [("nose", x_range[0], -1.0), ("tail", x_range[1], 1.0)] {
         let on_line = tip + out * (gap + hr);
         if on_line - hr >= HOLE_WALL && on_line + hr <= block.length - HOLE_WALL {
-            holes.push([on_line, centre_y]);
+            match beside {
+                None => holes.push([on_line, centre_y]),
+                Some(d) => {
+                    holes.push([on_line, centre_y - d]);
+                    holes.push([on_line, centre_y + d]);
+                }
+            }
             continue;
         }
         let x = if out < 0.0 {
@@ -552,7 +592,7 @@ fn cradle_holes(
             .filter(|v| (v[0] - x).abs() <= reach)
             .map(|v| (v[1] - centre_y).abs())
             .fold(0.0, f64::max);
-        let d = half + gap + hr;
+        let d = (half + gap + hr).max(beside.unwrap_or(0.0));
         if centre_y + d + hr + HOLE_WALL > block.width {
             return Err(CamError::Fit(format!(
                 "registration holes: a {} hole at the {end} needs {} of stock beyond the tip, or a pair beside it {} from the centreline; the stock has {} beyond the tip and is {} wide",
