@@ -412,7 +412,10 @@ fn the_blanks_command_ranks_the_shops_list_and_a_bad_list_writes_nothing() {
         .unwrap();
     assert_eq!(r.status.code(), Some(2));
     let e = String::from_utf8_lossy(&r.stderr);
-    assert!(e.contains("blanks[0].thickness"), "{e}");
+    assert!(
+        e.contains("blanks[0].thickness") && e.contains("bad.yaml:2"),
+        "{e}"
+    );
     assert!(!outdir.exists(), "nothing written");
 }
 

@@ -564,7 +564,7 @@ fn resolve(
         top: Location::UNKNOWN,
     };
     let r = &jr.r;
-    let stock = stock::read_block(&jr.r, raw.stock.as_ref(), "stock")?;
+    let stock = stock::read_block(&jr.r, raw.stock.as_ref(), "stock", Location::UNKNOWN)?;
     let tp = raw.table_position.unwrap_or_default();
     let table_position = [
         jr.length_or(

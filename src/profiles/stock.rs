@@ -53,6 +53,7 @@ pub(crate) fn read_block(
     r: &Reader,
     stock: Option<&BlockSpec>,
     prefix: &str,
+    at: Location,
 ) -> Result<Option<Block>, DescriptionError> {
     Ok(match stock {
         None => None,
@@ -64,7 +65,7 @@ pub(crate) fn read_block(
                 match v {
                     Some(v) => r.length(v, &format!("{prefix}.{name}"), 0.0, hi, "the block's size"),
                     None => r.fail(
-                        &Location::UNKNOWN,
+                        &at,
                         &format!("{prefix}.{name}"),
                         "is missing",
                         if prefix == "stock" {
@@ -382,6 +383,7 @@ pub fn stock_list_from_str(text: &str, file: &str) -> Result<Vec<StockEntry>, De
     let mut out: Vec<StockEntry> = Vec::new();
     for (k, e) in raw.blanks.value.into_iter().enumerate() {
         let prefix = format!("blanks[{k}]");
+        let at = e.referenced;
         let e = e.value;
         let name = e.name.value.trim().to_string();
         if name.is_empty() || out.iter().any(|o| o.name == name) {
@@ -405,7 +407,7 @@ pub fn stock_list_from_str(text: &str, file: &str) -> Result<Vec<StockEntry>, De
             plan: e.plan,
             stringer: e.stringer,
         };
-        let block = read_block(&r, Some(&spec), &prefix)?.expect("a spec was given");
+        let block = read_block(&r, Some(&spec), &prefix, at)?.expect("a spec was given");
         out.push(StockEntry { name, block });
     }
     Ok(out)
