@@ -259,3 +259,139 @@ fn roll_paper_is_as_wide_as_asked_and_tabloid_and_a3_are_exact() {
     );
     assert!(tiling::paper("roll:2cm").is_err() && tiling::paper("b5").is_err());
 }
+
+/// The outline template holds the planform of the board as meshed, for
+/// every fixture and every tail shape: at stations every 10 mm, the
+/// template's band across (from the stringer or the notch's edge out to the
+/// rail) matches the mesh's section on that side (sliced by the project's
+/// slicer; the mesh at 0.05 mm), within 0.5 mm (the template is straight
+/// between its samples, which the mesher's own stations and every 5 mm
+/// give). Before the notch was drawn, the fish's template ran straight to
+/// the stringer at the tail: a square tail where the board has a notch.
+#[test]
+fn the_outline_template_holds_the_meshed_planform_for_every_tail() {
+    use blanksmith::commands::{self, Design};
+    use blanksmith::slice::plane::{Axis, slice_many};
+    use blanksmith::template::drawing::{self, BORDER, Item, Role};
+    let root = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("fixtures");
+    let short = std::fs::read_to_string(root.join("shortboard.yaml")).unwrap();
+    let mut cases: Vec<(String, String)> = ["shortboard", "fish", "longboard", "check-box"]
+        .iter()
+        .map(|f| {
+            (
+                f.to_string(),
+                std::fs::read_to_string(root.join(format!("{f}.yaml"))).unwrap(),
+            )
+        })
+        .collect();
+    for tail in [
+        "round",
+        "pin",
+        "rounded_pin",
+        "square",
+        "swallow",
+        "diamond",
+    ] {
+        let mut t = short.replace(
+            "tail: squash",
+            &if tail == "swallow" {
+                "tail: swallow\n  notch_depth: 4".to_string()
+            } else {
+                format!("tail: {tail}")
+            },
+        );
+        if matches!(tail, "round" | "pin" | "rounded_pin") {
+            t = t
+                .lines()
+                .filter(|l| {
+                    !l.trim_start().starts_with("tail_end_width")
+                        && !l.trim_start().starts_with("corner_radius")
+                })
+                .collect::<Vec<_>>()
+                .join("\n");
+        }
+        if tail != "squash" {
+            t = t
+                .lines()
+                .filter(|l| !l.trim_start().starts_with("corner_radius"))
+                .collect::<Vec<_>>()
+                .join("\n");
+        }
+        cases.push((format!("shortboard, {tail} tail"), t));
+    }
+    for (what, text) in cases {
+        let dir = tempfile::tempdir().unwrap();
+        let f = dir.path().join("b.yaml");
+        std::fs::write(&f, &text).unwrap();
+        let design = commands::load_design(&f).unwrap_or_else(|e| panic!("{what}: {e}"));
+        let Design::Board(board) = &design else {
+            panic!()
+        };
+        let mesh = design.mesh(0.05).unwrap();
+        let d = drawing::outline(&drawing::side_of(board));
+        let poly: Vec<[f64; 2]> = d
+            .items
+            .iter()
+            .find_map(|i| match i {
+                Item::Line {
+                    points,
+                    closed: true,
+                    role: Role::Cut,
+                } => Some(points.clone()),
+                _ => None,
+            })
+            .unwrap()
+            .iter()
+            .map(|p| [p[0] - BORDER, p[1] - BORDER])
+            .collect();
+        let (lo, _) = mesh.bounding_box().unwrap();
+        let xs: Vec<f64> = (1..)
+            .map(|k| 10.0 * k as f64 - 5.0)
+            .take_while(|&x| x < board.length - 1.0)
+            .collect();
+        let slices = slice_many(
+            &mesh,
+            Axis::X,
+            &xs.iter().map(|x| x + lo[0]).collect::<Vec<_>>(),
+        );
+        for (x, s) in xs.iter().zip(&slices) {
+            // The template's band at x: where its edges cross the vertical.
+            let mut ys: Vec<f64> = Vec::new();
+            for k in 0..poly.len() {
+                let (a, b) = (poly[k], poly[(k + 1) % poly.len()]);
+                if (a[0] - x) * (b[0] - x) < 0.0 || (a[0] == *x && b[0] != *x) {
+                    ys.push(a[1] + (b[1] - a[1]) * (x - a[0]) / (b[0] - a[0]));
+                }
+            }
+            ys.sort_by(f64::total_cmp);
+            let (t0, t1) = (ys[0], ys[ys.len() - 1]);
+            // The mesh's section on the +Y side of the stringer.
+            let pts: Vec<f64> = s
+                .loops
+                .iter()
+                .flatten()
+                .map(|q| q[0])
+                .filter(|&y| y >= -1e-9)
+                .collect();
+            let m1 = pts.iter().copied().fold(0.0, f64::max);
+            // A loop across the stringer starts the band at 0; a loop wholly
+            // on the +Y side (a swallow's point) at its nearest point.
+            let m0 = s
+                .loops
+                .iter()
+                .filter(|l| l.iter().any(|q| q[0] > 1e-6))
+                .map(|l| {
+                    if l.iter().any(|q| q[0] < -1e-6) {
+                        0.0
+                    } else {
+                        l.iter().map(|q| q[0]).fold(f64::INFINITY, f64::min)
+                    }
+                })
+                .fold(f64::INFINITY, f64::min);
+            assert!(
+                (t1 - m1).abs() <= 0.5 && (t0 - m0).abs() <= 0.5,
+                "{what} at {x} mm from the nose: template {t0:.2}..{t1:.2} mm, mesh {m0:.2}..{m1:.2} mm"
+            );
+        }
+    }
+}

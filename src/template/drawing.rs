@@ -70,6 +70,8 @@ pub struct Side {
     pub x: Vec<f64>,
     /// Half-width.
     pub half_width: Vec<f64>,
+    /// Half-width of a swallow tail's notch (0 elsewhere, and for a mesh).
+    pub inner: Vec<f64>,
     /// Bottom (rocker) at the stringer.
     pub bottom: Vec<f64>,
     /// Deck at the stringer.
@@ -91,6 +93,10 @@ pub fn side_of(board: &Board) -> Side {
     x.sort_by(f64::total_cmp);
     x.dedup_by(|a, b| (*a - *b).abs() < 1e-6);
     let half_width = x.iter().map(|&v| board.half_width(v)).collect();
+    let inner = x
+        .iter()
+        .map(|&v| board.outline.inner(v, board.length))
+        .collect();
     let bottom: Vec<f64> = x.iter().map(|&v| board.rocker.eval(v)).collect();
     let deck = x
         .iter()
@@ -102,6 +108,7 @@ pub fn side_of(board: &Board) -> Side {
         step: station_step(board),
         x,
         half_width,
+        inner,
         bottom,
         deck,
     }
@@ -132,6 +139,7 @@ pub fn side_of_mesh(name: &str, mesh: &Mesh) -> Side {
         step: 6.0 * MM_PER_INCH,
         x: p.x.clone(),
         half_width: p.half_width.clone(),
+        inner: vec![0.0; n],
         bottom: fix(&p.bottom),
         deck: fix(&p.deck),
     }
@@ -194,8 +202,30 @@ pub fn outline(side: &Side) -> Drawing {
         .zip(&side.half_width)
         .map(|(&x, &w)| [b + x, b + w])
         .collect();
-    // Close the template along the stringer so it can be cut out.
-    cut.push([b + l, b]);
+    // Close the template along the tail's end and the stringer so it can
+    // be cut out; a swallow's end runs in to the notch, then along the
+    // notch's edge back to its apex on the stringer.
+    let notch: Vec<[f64; 2]> = side
+        .x
+        .iter()
+        .zip(&side.inner)
+        .filter(|(_, w)| **w > 0.0)
+        .map(|(&x, &w)| [b + x, b + w])
+        .rev()
+        .collect();
+    match side
+        .x
+        .iter()
+        .zip(&side.inner)
+        .rev()
+        .find(|(_, w)| **w <= 0.0)
+    {
+        Some((&apex, _)) if !notch.is_empty() => {
+            cut.extend(notch);
+            cut.push([b + apex, b]);
+        }
+        _ => cut.push([b + l, b]),
+    }
     cut.push([b, b]);
     items.push(Item::Line {
         points: cut,
