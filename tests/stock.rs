@@ -443,6 +443,7 @@ fn a_block_thicker_than_declared_still_gives_the_design_thickness() {
                 name: p.file_name.clone(),
                 side: p.side,
                 reader: Box::new(p.text.as_bytes()),
+                loaded: Some(p.tool.id),
             })
             .collect();
         let setting = Setting {

@@ -29,6 +29,7 @@ fn run(
             name: format!("p{k}.nc"),
             side: if k == 0 { Side::Deck } else { Side::Bottom },
             reader: Box::new(t.as_bytes()),
+            loaded: None,
         })
         .collect();
     let setting = Setting {

@@ -359,6 +359,7 @@ pub fn verify_plan_with(
             name: p.file_name.clone(),
             side: p.side,
             reader: Box::new(p.text.as_bytes()),
+            loaded: Some(p.tool.id),
         })
         .collect();
     let setting = Setting {

@@ -172,6 +172,7 @@ pub fn verify_programs(
             name: path.display().to_string(),
             side,
             reader: Box::new(reader),
+            loaded: None,
         });
     }
     let setting = Setting {

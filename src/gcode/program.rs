@@ -35,8 +35,10 @@ pub struct Program {
     pub file_name: String,
     /// Setup.
     pub side: Side,
-    /// Tool.
+    /// Tool (the first, with a changer).
     pub tool: Tool,
+    /// Every tool it uses, in the order it calls them.
+    pub tools: Vec<Tool>,
     /// What it cuts, in order.
     pub labels: Vec<&'static str>,
     /// The program text.
@@ -132,7 +134,7 @@ pub fn plan(
                         None => format!("stock: {} x {} x {} mm block (L x W x T), front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), job.table_position[0], job.table_position[1]),
                         Some(_) => format!("stock: {} x {} mm rockered blank, {} mm high overall, in a cradle cut to its {} curve, front-left corner at machine X{:.1} Y{:.1}", f1(b.length), f1(b.width), f1(b.thickness), if sp.side == Side::Deck { "bottom" } else { "deck" }, job.table_position[0], job.table_position[1]),
                     },
-                    format!("units: {}; estimated run time {}", unit_name(machine.output), duration(time_s)),
+                    format!("units: {}; controller: {}; estimated run time {}", unit_name(machine.output), machine.controller.name(), duration(time_s)),
                 ],
                 cautions: CAUTIONS.iter().map(|s| s.to_string()).collect(),
             };
@@ -144,17 +146,21 @@ pub fn plan(
             let text = write::program(
                 &header,
                 &raised,
-                machine.output,
+                machine,
                 machine.clearance + dz,
-                machine.spindle_ramp,
-                machine.tool_changer,
-                machine.max_feed_z,
                 stringer_feed(b, job),
             );
+            let mut used: Vec<Tool> = Vec::new();
+            for p in &g {
+                if used.last().is_none_or(|t| t.id != p.pass.tool.id) {
+                    used.push(p.pass.tool.clone());
+                }
+            }
             programs.push(Program {
                 file_name,
                 side: sp.side,
                 tool,
+                tools: used,
                 labels: g.iter().map(|p| p.label).collect(),
                 text,
                 time_s,
@@ -387,7 +393,10 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
     let result = read::read(
         BufReader::new(p.text.as_bytes()),
         &p.file_name,
-        ReadOptions::default(),
+        ReadOptions {
+            controller: m.controller,
+            ..Default::default()
+        },
         |e| match e {
             Event::Move {
                 line,
@@ -494,8 +503,9 @@ pub fn setup_sheet(
     let mut s = String::new();
     let both = |v: f64| units::Both(v).to_string();
     s.push_str(&format!(
-        "SETUP SHEET: {name} ({litres:.2} L) on {}\n\n",
-        m.name
+        "SETUP SHEET: {name} ({litres:.2} L) on {}, a {} controller\n\n",
+        m.name,
+        m.controller.name()
     ));
     for c in CAUTIONS {
         s.push_str(c);
@@ -628,12 +638,23 @@ pub fn setup_sheet(
                 &mut s,
             );
         }
+        let load = if p.tools.len() > 1 {
+            format!(
+                "load {} in the changer and measure each one's length (the program calls them in that order with M6)",
+                p.tools
+                    .iter()
+                    .map(|t| t.describe())
+                    .collect::<Vec<_>>()
+                    .join(", then ")
+            )
+        } else {
+            format!("load {} and measure its length", p.tool.describe())
+        };
         next(
             format!(
-                "Setup {} ({} up): load {}; run {} ({}); about {}.",
+                "Setup {} ({} up): {load}; run {} ({}); about {}.",
                 p.side.number(),
                 p.side.name(),
-                p.tool.describe(),
                 p.file_name,
                 p.labels.join(", "),
                 duration(p.time_s)

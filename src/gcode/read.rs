@@ -10,6 +10,8 @@
 use std::f64::consts::PI;
 use std::io::BufRead;
 
+use crate::model::machine::Controller;
+
 /// How a straight piece of motion was commanded.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Motion {
@@ -103,6 +105,8 @@ pub struct ReadOptions {
     pub lenient: bool,
     /// Chord tolerance for cutting arcs into straight pieces, mm.
     pub tolerance: f64,
+    /// Whose dialect the program is in (dwell units, program numbers).
+    pub controller: Controller,
 }
 
 impl Default for ReadOptions {
@@ -110,6 +114,7 @@ impl Default for ReadOptions {
         ReadOptions {
             lenient: false,
             tolerance: 0.005,
+            controller: Controller::LinuxCnc,
         }
     }
 }
@@ -451,6 +456,8 @@ fn block(
         }
         match w.letter {
             'N' => {}
+            // A Fanuc-style program number, on a line of its own.
+            'O' if options.controller == Controller::Fanuc && words.len() == 1 => {}
             'X' | 'Y' | 'Z' => target[(w.letter as u8 - b'X') as usize] = Some(w.value),
             'I' => ij[0] = Some(w.value),
             'J' => ij[1] = Some(w.value),
@@ -576,6 +583,7 @@ fn block(
         let Some(p) = p_word else {
             return Err(err(file, line, 1, "G4 without P (seconds)", "e.g. G4 P5"));
         };
+        let p = options.controller.dwell_seconds(p);
         if !(0.0..=3600.0).contains(&p) {
             return Err(err(
                 file,

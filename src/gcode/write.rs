@@ -7,6 +7,7 @@
 
 use std::fmt::Write as _;
 
+use crate::model::machine::{Controller, Machine};
 use crate::model::toolpath::{Step, Toolpath};
 use crate::units::Unit;
 
@@ -77,6 +78,29 @@ fn comment(out: &mut String, text: &str) {
         })
         .collect();
     let _ = writeln!(out, "({clean})");
+}
+
+/// A comment wrapped at word boundaries into lines of at most `width`
+/// characters of text (a word longer than that stands alone).
+fn comment_wrapped(out: &mut String, text: &str, width: Option<usize>) {
+    let Some(width) = width else {
+        comment(out, text);
+        return;
+    };
+    let mut line = String::new();
+    for word in text.split_whitespace() {
+        if !line.is_empty() && line.len() + 1 + word.len() > width {
+            comment(out, &line);
+            line.clear();
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    if !line.is_empty() {
+        comment(out, &line);
+    }
 }
 
 /// Modal state of the program being written, so each line carries only
@@ -239,17 +263,19 @@ pub fn split_at_band(a: [f64; 3], b: [f64; 3], band: [f64; 2]) -> Vec<([f64; 3],
 
 /// One program: the header, then each toolpath (all with one tool unless
 /// `tool_changer`), then the end; cutting moves slowed over the stringer.
-#[allow(clippy::too_many_arguments)]
+/// Written in `machine`'s units and its controller's dialect (start and
+/// end markers, dwell units, tool changes, comment width), with rapids at
+/// `clearance`.
 pub fn program(
     header: &Header,
     paths: &[&Toolpath],
-    unit: Unit,
+    machine: &Machine,
     clearance: f64,
-    dwell: f64,
-    tool_changer: bool,
-    max_feed_z: f64,
     stringer: Option<StringerFeed>,
 ) -> String {
+    let (unit, dwell, tool_changer) = (machine.output, machine.spindle_ramp, machine.tool_changer);
+    let controller = machine.controller;
+    let width = controller.comment_width();
     let mut w = Writer {
         out: String::new(),
         unit,
@@ -257,13 +283,19 @@ pub fn program(
         feed: None,
         mode: None,
         at: [0.0, 0.0, clearance],
-        max_feed_z,
+        max_feed_z: machine.max_feed_z,
     };
+    if controller == Controller::Fanuc {
+        // Tape start and the program number (common practice on these
+        // controls, from memory).
+        w.raw("%");
+        w.raw("O1000");
+    }
     for l in &header.lines {
-        comment(&mut w.out, l);
+        comment_wrapped(&mut w.out, l, width);
     }
     for c in &header.cautions {
-        comment(&mut w.out, c);
+        comment_wrapped(&mut w.out, c, width);
     }
     w.raw(match unit {
         Unit::Mm => "G21 G90 G17 G94",
@@ -277,9 +309,10 @@ pub fn program(
     let mut tool: Option<u32> = None;
     let mut rpm: Option<f64> = None;
     for p in paths {
-        comment(
+        comment_wrapped(
             &mut w.out,
             &format!("{}: {}", p.label, p.pass.tool.describe()),
+            width,
         );
         if tool != Some(p.pass.tool.id) {
             if tool.is_some() {
@@ -291,14 +324,16 @@ pub fn program(
             }
             if tool_changer {
                 w.raw(&format!("T{} M6", p.pass.tool.id));
-            } else {
+            } else if controller != Controller::Grbl {
+                // GRBL 1.1 takes no tool change: the operator loads the
+                // tool this program is for, as the setup sheet says.
                 w.raw(&format!("T{}", p.pass.tool.id));
             }
             tool = Some(p.pass.tool.id);
         }
         if rpm != Some(p.pass.spindle) {
             w.raw(&format!("S{:.0} M3", p.pass.spindle));
-            w.raw(&format!("G4 P{dwell:.1}"));
+            w.raw(&controller.dwell(dwell));
             rpm = Some(p.pass.spindle);
         }
         for s in &p.steps {
@@ -331,6 +366,9 @@ pub fn program(
     w.raw(&format!("G0 Z{z}"));
     w.raw("M5");
     w.raw("M30");
+    if controller == Controller::Fanuc {
+        w.raw("%");
+    }
     w.out
 }
 
@@ -447,17 +485,21 @@ mod tests {
             steps,
         };
         for unit in [Unit::Mm, Unit::In] {
+            let machine = Machine {
+                output: unit,
+                max_feed_z: 5000.0,
+                spindle_ramp: 5.0,
+                tool_changer: false,
+                ..crate::profiles::machine::generic_machine()
+            };
             let text = program(
                 &Header {
                     lines: vec![],
                     cautions: vec![],
                 },
                 &[&path],
-                unit,
+                &machine,
                 25.0,
-                5.0,
-                false,
-                5000.0,
                 None,
             );
             let mut worst: f64 = 0.0;

@@ -162,6 +162,72 @@ impl Tool {
     }
 }
 
+/// The controller a router runs, and so the dialect of its programs. What
+/// each changes is in the README (Controllers); the differences are from
+/// each controller's documentation as remembered, not re-read here.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Controller {
+    /// LinuxCNC (RS-274/NGC): G4 P in seconds, `T M6` with a changer.
+    LinuxCnc,
+    /// GRBL 1.1: no tool change (one program per tool, no T word), G4 P
+    /// in seconds, short lines.
+    Grbl,
+    /// Mach3/Mach4-style: G4 P in seconds (the default setting), `T M6`.
+    Mach,
+    /// Fanuc-style: `%` and an O number round the program, G4 P in
+    /// milliseconds, `T M6`.
+    Fanuc,
+}
+
+impl Controller {
+    /// The word in a machine profile.
+    pub fn word(self) -> &'static str {
+        match self {
+            Controller::LinuxCnc => "linuxcnc",
+            Controller::Grbl => "grbl",
+            Controller::Mach => "mach",
+            Controller::Fanuc => "fanuc",
+        }
+    }
+
+    /// The name on the setup sheet and in headers.
+    pub fn name(self) -> &'static str {
+        match self {
+            Controller::LinuxCnc => "LinuxCNC",
+            Controller::Grbl => "GRBL 1.1",
+            Controller::Mach => "Mach3/Mach4-style",
+            Controller::Fanuc => "Fanuc-style",
+        }
+    }
+
+    /// Seconds of a dwell's P word.
+    pub fn dwell_seconds(self, p: f64) -> f64 {
+        match self {
+            Controller::Fanuc => p / 1000.0,
+            _ => p,
+        }
+    }
+
+    /// A dwell of `seconds` as this controller reads it.
+    pub fn dwell(self, seconds: f64) -> String {
+        match self {
+            Controller::Fanuc => format!("G4 P{:.0}", (seconds * 1000.0).round()),
+            _ => format!("G4 P{seconds:.1}"),
+        }
+    }
+
+    /// Longest comment text on one line, characters, where the controller
+    /// (or the way it is fed) limits lines; longer comments are wrapped.
+    pub fn comment_width(self) -> Option<usize> {
+        match self {
+            // GRBL 1.1 streams through a 128-byte serial buffer and an
+            // 80-character line buffer (from memory): keep every line short.
+            Controller::Grbl => Some(70),
+            _ => None,
+        }
+    }
+}
+
 /// A 3-axis router, resolved: lengths in mm, feeds in mm/min.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Machine {
@@ -195,6 +261,8 @@ pub struct Machine {
     pub clearance: f64,
     /// Whether tools change within a program (M6).
     pub tool_changer: bool,
+    /// The controller, and so the programs' dialect.
+    pub controller: Controller,
     /// Tool list.
     pub tools: Vec<Tool>,
 }

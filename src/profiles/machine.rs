@@ -12,7 +12,7 @@ use serde_saphyr::{Location, Spanned};
 
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
-use crate::model::machine::{Cutter, Machine, Tool, ToolKind};
+use crate::model::machine::{Controller, Cutter, Machine, Tool, ToolKind};
 use crate::units::{self, Unit};
 
 /// The shipped generic gantry router profile.
@@ -206,7 +206,18 @@ struct MachineFile {
     clearance: Spanned<LengthValue>,
     #[serde(default)]
     tool_changer: bool,
+    #[serde(default)]
+    controller: Option<Spanned<ControllerWord>>,
     tools: Spanned<Vec<ToolSpec>>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize)]
+#[serde(rename_all = "snake_case")]
+enum ControllerWord {
+    Linuxcnc,
+    Grbl,
+    Mach,
+    Fanuc,
 }
 
 /// `acceleration: {x: .., y: .., z: ..}`, in the file's units per second
@@ -354,6 +365,23 @@ fn resolve_machine(raw: MachineFile, text: &str, file: &str) -> Result<Machine, 
         file,
         unit: raw.units.value,
     };
+    let controller = match raw.controller.as_ref().map(|c| c.value) {
+        None | Some(ControllerWord::Linuxcnc) => Controller::LinuxCnc,
+        Some(ControllerWord::Grbl) => Controller::Grbl,
+        Some(ControllerWord::Mach) => Controller::Mach,
+        Some(ControllerWord::Fanuc) => Controller::Fanuc,
+    };
+    if controller == Controller::Grbl
+        && raw.tool_changer
+        && let Some(c) = &raw.controller
+    {
+        return r.fail(
+            &c.referenced,
+            "controller",
+            "is grbl, which has no tool change (GRBL 1.1 does not take M6), but tool_changer is true",
+            "set tool_changer: false (one program per tool), or name the controller that changes tools",
+        );
+    }
     let travel = [
         r.length(
             &raw.travel.x,
@@ -613,6 +641,7 @@ fn resolve_machine(raw: MachineFile, text: &str, file: &str) -> Result<Machine, 
             .map_or(raw.units.value, |u| u.value),
         clearance,
         tool_changer: raw.tool_changer,
+        controller,
         tools,
     })
 }

@@ -26,6 +26,10 @@ pub struct ProgramSource<'a> {
     pub side: Side,
     /// Its text, streamed.
     pub reader: Box<dyn BufRead + 'a>,
+    /// The tool in the spindle when it starts (from the machine's list),
+    /// for a controller whose programs name none (GRBL: one program per
+    /// tool, loaded by hand as the setup sheet says).
+    pub loaded: Option<u32>,
 }
 
 /// Where and with what the programs run.
@@ -393,8 +397,9 @@ pub fn verify(
         };
         let mut sweeps: Vec<Sweep> = Vec::with_capacity(CHUNK);
         let mut metas: Vec<Meta> = Vec::with_capacity(CHUNK);
-        let mut cutter: Option<Cutter> = setting.default_tool;
-        let mut stepdown: Option<f64> = None;
+        let loaded = src.loaded.and_then(|id| m.tool(id));
+        let mut cutter: Option<Cutter> = loaded.map(|t| t.cutter).or(setting.default_tool);
+        let mut stepdown: Option<f64> = loaded.map(|t| t.max_stepdown);
         let mut missing_tool: Option<usize> = None;
         let mut findings = Findings {
             v: &mut v,
@@ -440,12 +445,17 @@ pub fn verify(
                 metas.clear();
             };
         let mut at = [0.0, 0.0, m.clearance];
+        // The reader starts at program zero, which is not where the tool
+        // is: a first move straight up (to clearance, as the gates ask of
+        // our programs) is not swept from there.
+        let mut first = true;
         let mut moves: Vec<timing::Move> = Vec::new();
         let rd = read::read(
             src.reader,
             &name,
             ReadOptions {
                 lenient: options.lenient,
+                controller: m.controller,
                 ..Default::default()
             },
             |e| match e {
@@ -507,6 +517,11 @@ pub fn verify(
                         findings.push(Kind::Envelope, line, why, [to[0], to[1]]);
                     }
                     at = to;
+                    let rise = first && from[0] == to[0] && from[1] == to[1] && to[2] >= from[2];
+                    first = false;
+                    if rise {
+                        return;
+                    }
                     let (from, to) = (
                         [from[0], from[1], from[2] - shift],
                         [to[0], to[1], to[2] - shift],
