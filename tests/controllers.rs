@@ -151,3 +151,28 @@ fn the_tool_changer_sheet_lists_every_tool_to_load() {
     );
     assert!(p.sheet.contains("measure each one's length"), "{}", p.sheet);
 }
+
+/// Inch output: positions rounded to 4 decimals of an inch stand up to
+/// 0.00127 mm from those planned; the gates and the simulation allow that
+/// rounding, so a hole planned exactly at the spoilboard allowance passes
+/// (it was refused 0.00036 mm past it), and the programs simulate clean.
+#[test]
+fn inch_programs_pass_the_gates_and_simulate_clean() {
+    let m = machine("").clone();
+    let m = Machine {
+        output: blanksmith::units::Unit::In,
+        ..m
+    };
+    for board in ["check-box.yaml", "fish.yaml"] {
+        let path = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+            .join("fixtures")
+            .join(board);
+        let design = commands::load_design(&path).unwrap();
+        let j = job::default_job(&m).unwrap();
+        let p = commands::plan_design(&design, &m, &j, &|_| {})
+            .unwrap_or_else(|e| panic!("{board}: {e}"));
+        assert!(p.programs.iter().all(|q| q.text.contains("G20")));
+        let v = commands::verify_plan(&p, &m, &j, &|_| {}).unwrap();
+        assert!(!v.has_findings(), "{board}: {}", v.text());
+    }
+}

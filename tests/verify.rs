@@ -142,6 +142,60 @@ fn a_rapid_through_stock_is_a_collision_on_its_line() {
     assert_eq!(v.collisions[0].line, 6, "{:?}", v.collisions);
 }
 
+/// A clean verdict says what it covers: without a design there is no
+/// gouge figure, so it does not claim there is no gouge.
+#[test]
+fn a_clean_verdict_without_a_design_does_not_claim_no_gouge() {
+    let p = format!("{HEAD}G0 X50 Y50\nG1 Z-3 F500\nG1 X150\n{TAIL}");
+    let v = run(&[&p], block(), Cutter::flat(10.0), None, 0.5);
+    assert!(!v.has_findings(), "{}", v.text());
+    assert!(v.gouge_max_mm.is_none());
+    assert!(v.text().contains("gouges not checked"), "{}", v.text());
+    assert!(
+        !v.text().contains("no gouge beyond tolerance"),
+        "{}",
+        v.text()
+    );
+}
+
+/// As LinuxCNC's `rs274` runs them (its canonical output, checked by
+/// hand: `../shared/linuxcnc/README.md`): `G4 P1 Z-40` dwells, then moves
+/// in the modal G0; `M3` with no S starts the spindle at 0.
+#[test]
+fn constructs_move_as_linuxcnc_moves_them() {
+    // The rapid 40 mm into the 50 mm block is made, and caught on its line.
+    let p = format!("{HEAD}G0 X50 Y50\nG4 P1 Z-40\n{TAIL}");
+    let v = run(&[&p], block(), Cutter::flat(10.0), None, 0.5);
+    assert!(v.collisions.iter().any(|f| f.line == 6), "{}", v.text());
+    // M3 with no S: a cut at speed 0 is a cut with the spindle stopped.
+    let p =
+        "G21 G90 G17 G94\nG0 Z10\nM3\nG4 P2\nG0 X50 Y50\nG1 Z-20 F500\nG1 X100\nG0 Z10\nM5\nM30\n";
+    let v = run(&[p], block(), Cutter::flat(10.0), None, 0.5);
+    assert!(
+        v.spindle_off_cuts.iter().any(|f| f.line == 6),
+        "{}",
+        v.text()
+    );
+}
+
+/// A program with no end (a file cut short) or no moves is not clean.
+#[test]
+fn a_program_without_its_end_or_moves_is_a_finding() {
+    let p = format!("{HEAD}G0 X50 Y50\nG1 Z-3 F500\nG1 X150\n");
+    let v = run(&[&p], block(), Cutter::flat(10.0), None, 0.5);
+    assert!(
+        v.has_findings() && v.text().contains("no M2/M30 end"),
+        "{}",
+        v.text()
+    );
+    let v = run(&["(nothing)\n"], block(), Cutter::flat(10.0), None, 0.5);
+    assert!(
+        v.has_findings() && v.text().contains("makes no move"),
+        "{}",
+        v.text()
+    );
+}
+
 #[test]
 fn cutting_with_the_spindle_off_is_caught_on_its_line() {
     let p = "G21 G90\nG0 Z10\nG0 X50 Y50\nG1 Z-2 F500\nG1 X100\nM30\n";

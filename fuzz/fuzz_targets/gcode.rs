@@ -12,14 +12,15 @@ use libfuzzer_sys::fuzz_target;
 fuzz_target!(|data: &[u8]| {
     let machine = profile::generic_machine();
     let setting = Setting {
+        table_zero_after_flip: false,
         machine: &machine,
-        block: Block { length: 60.0, width: 40.0, thickness: 20.0, rocker: None },
+        block: Block::flat(60.0, 40.0, 20.0),
         table_position: [0.0, 0.0],
         default_tool: Some(Cutter::ball(6.0)),
         design: None,
         keep: vec![],
         floor: None,
     };
-    let sources = vec![ProgramSource { name: "fuzz.nc".into(), side: Side::Deck, reader: Box::new(data) }];
+    let sources = vec![ProgramSource { name: "fuzz.nc".into(), side: Side::Deck, reader: Box::new(data), loaded: None }];
     let _ = verify::verify(sources, &setting, VerifyOptions { cell: 1.0, ..Default::default() }, &|_| {});
 });

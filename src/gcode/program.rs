@@ -8,7 +8,7 @@ use crate::gcode::read::{self, Event, Motion, ReadOptions};
 use crate::gcode::timing;
 use crate::gcode::write::{self, CAUTIONS, Header, StringerFeed};
 use crate::model::job::{Holding, Job};
-use crate::model::limits::Bed;
+use crate::model::limits::{Bed, ROUNDING};
 use crate::model::machine::{Machine, Tool};
 use crate::model::mesh::Mesh;
 use crate::model::toolpath::{Step, Toolpath};
@@ -413,7 +413,7 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                     if motion != Motion::Rapid
                         || to[0] != from[0]
                         || to[1] != from[1]
-                        || to[2] < m.clearance + dz - 1e-6
+                        || to[2] < m.clearance + dz - ROUNDING
                     {
                         note(format!(
                             "line {line}: the first move must rise to clearance height"
@@ -428,7 +428,7 @@ pub fn check_text(p: &Program, m: &Machine, place: &Placement, job: &Job) -> Vec
                     // blank's top, with its allowance, is below Z 0 along
                     // its middle).
                     let top = b.top_under(p.side == Side::Deck, q[0]).0 + b.allowance() + dz;
-                    if top - q[2] > p.tool.reach + 1e-6 {
+                    if top - q[2] > p.tool.reach + ROUNDING {
                         note(format!(
                             "line {line}: Z {:.3} mm is {:.3} mm below the stock top there, deeper than T{} reaches below its holder ({})",
                             q[2],

@@ -599,7 +599,7 @@ fn block(
         st.motion = Some(c);
     }
     let has_axis = target.iter().any(Option::is_some);
-    if has_axis && !dwell {
+    if has_axis {
         let Some(kind) = st.motion else {
             let c = words
                 .iter()

@@ -17,6 +17,12 @@ pub struct Bed<'a> {
     pub table_position: [f64; 2],
 }
 
+/// How far a position written in a program may stand from the one planned:
+/// half the last digit of a 4-decimal inch program (0.00005 in), more than
+/// a 3-decimal millimetre one's. The limits allow it, so a position exactly
+/// at a limit passes in either unit.
+pub const ROUNDING: f64 = 0.00005 * 25.4;
+
 impl Bed<'_> {
     /// Problems with a tip position: outside the travel, below the table
     /// top beyond the spoilboard allowance.
@@ -29,7 +35,7 @@ impl Bed<'_> {
         ];
         let mut out = Vec::new();
         for a in 0..3 {
-            if mach[a] < -1e-6 || mach[a] > m.travel[a] + 1e-6 {
+            if mach[a] < -ROUNDING || mach[a] > m.travel[a] + ROUNDING {
                 out.push(format!(
                     "machine {} {:.3} mm is outside the travel 0..{:.1} mm",
                     ["X", "Y", "Z"][a],
@@ -38,7 +44,7 @@ impl Bed<'_> {
                 ));
             }
         }
-        if to[2] < -self.zero_height - m.spoilboard_allowance - 1e-6 {
+        if to[2] < -self.zero_height - m.spoilboard_allowance - ROUNDING {
             out.push(format!(
                 "Z {:.3} mm is below the table top (the block's bottom is Z {:.3} mm, spoilboard allowance {:.1} mm)",
                 to[2], -self.zero_height, m.spoilboard_allowance

@@ -204,8 +204,10 @@ impl Verification {
         let mut s = String::new();
         let verdict = if self.has_findings() {
             "FINDINGS: do not run these programs as they are"
-        } else {
+        } else if self.gouge_max_mm.is_some() {
             "clean: no collision, no move outside the machine, no cut with the spindle off, no gouge beyond tolerance"
+        } else {
+            "clean: no collision, no move outside the machine, no cut with the spindle off; gouges not checked (no design given: give --design or --job)"
         };
         let _ = writeln!(s, "verification ({} mm cells): {verdict}", self.cell_mm);
         for (name, list) in [
@@ -491,8 +493,12 @@ pub fn verify(
                     to,
                     feed,
                     spindle_on,
+                    spindle,
                     ..
                 } => {
+                    // A spindle started with no speed (M3 with no S) turns
+                    // at 0, as LinuxCNC runs it: no better than stopped.
+                    let spindle_on = spindle_on && spindle > 0.0;
                     let d = [to[0] - from[0], to[1] - from[1], to[2] - from[2]];
                     let dxy = (d[0] * d[0] + d[1] * d[1]).sqrt();
                     let len = (dxy * dxy + d[2] * d[2]).sqrt();
@@ -560,6 +566,21 @@ pub fn verify(
         );
         let summary = rd?;
         flush(&mut map, &mut sweeps, &mut metas, &mut findings);
+        if report.path_length_mm == 0.0 {
+            findings.push(
+                Kind::Limit,
+                summary.lines.max(1),
+                "the program makes no move: nothing to run".into(),
+                [0.0, 0.0],
+            );
+        } else if summary.missing_end {
+            findings.push(
+                Kind::Limit,
+                summary.lines.max(1),
+                "the program has no M2/M30 end: it may be cut short (a file that did not arrive whole)".into(),
+                [at[0], at[1]],
+            );
+        }
         if let Some(line) = missing_tool {
             return Err(GcodeError {
                 file: name,
