@@ -419,3 +419,21 @@ fn a_groove_narrower_than_the_ball_is_reported_out_of_reach() {
     assert!(reach <= 0.021, "{}", v.text());
     assert!(v.text().contains("cannot reach"), "{}", v.text());
 }
+
+/// Words LinuxCNC reads as something the reader does not do are refused
+/// at their line and column, never dropped: P on G2/G3 (helix turns, which
+/// `rs274` runs as extra turns), P on G1, I/J/R on a straight move.
+#[test]
+fn unsupported_words_are_refused_where_they_stand() {
+    use blanksmith::gcode::read::{self, ReadOptions};
+    for (body, line, column, what) in [
+        ("G2 X20 Y0 I10 J0 P2 F500\n", 5, 18, "P on G2/G3"),
+        ("G1 X20 P2 F500\n", 5, 8, "P outside G4"),
+        ("G1 X20 I5 F500\n", 5, 8, "I, J or R"),
+    ] {
+        let text = format!("G21 G90 G17 G94\nG0 Z10\nS18000 M3\nG0 X0 Y0\n{body}M30\n");
+        let e = read::read(text.as_bytes(), "t.nc", ReadOptions::default(), |_| {}).unwrap_err();
+        assert_eq!((e.line, e.column), (line, column), "{body}: {e:?}");
+        assert!(e.message.contains(what), "{body}: {}", e.message);
+    }
+}

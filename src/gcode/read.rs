@@ -598,6 +598,37 @@ fn block(
     if let Some((c, _)) = motion_here {
         st.motion = Some(c);
     }
+    // Words a controller would read as something this reader does not do
+    // (arc turns, an arc's centre on a straight move): refused, never
+    // dropped.
+    let col_of_word = |l: char| words.iter().find(|w| w.letter == l).map(|w| w.column);
+    let arc = matches!(st.motion, Some(2 | 3));
+    if !dwell && let Some(c) = col_of_word('P') {
+        return Err(err(
+            file,
+            line,
+            c,
+            if arc {
+                "P on G2/G3 (full turns of a helix) is not supported"
+            } else {
+                "P outside G4 is not supported (it is a dwell's time or an arc's turns)"
+            },
+            "write each turn as its own G2/G3, or give the dwell as G4 P",
+        ));
+    }
+    if !arc
+        && let Some(c) = col_of_word('I')
+            .or_else(|| col_of_word('J'))
+            .or_else(|| col_of_word('R'))
+    {
+        return Err(err(
+            file,
+            line,
+            c,
+            "I, J or R without G2/G3 in force is not supported",
+            "they give an arc's centre or radius: state G2 or G3",
+        ));
+    }
     let has_axis = target.iter().any(Option::is_some);
     if has_axis {
         let Some(kind) = st.motion else {
