@@ -395,3 +395,37 @@ fn the_outline_template_holds_the_meshed_planform_for_every_tail() {
         }
     }
 }
+
+/// Station labels speak the board's own units: the fish is written in
+/// millimetres (ticks every 150 mm, labelled in mm), the shortboard in
+/// inches (every 6 in); each section names its distance from both ends,
+/// which add up to the board's length.
+#[test]
+fn labels_are_in_the_boards_units_and_sections_name_both_ends() {
+    let root = std::path::PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("fixtures");
+    let texts = |d: &blanksmith::template::drawing::Drawing| -> Vec<String> {
+        d.items
+            .iter()
+            .filter_map(|i| match i {
+                Item::Text { text, .. } => Some(text.clone()),
+                _ => None,
+            })
+            .collect()
+    };
+    let fish = blanksmith::description::load(&root.join("fish.yaml")).unwrap();
+    let t = texts(&template::outline(&template::side_of(&fish)));
+    assert!(t.iter().any(|s| s == "150 mm from nose"), "{t:?}");
+    assert!(!t.iter().any(|s| s.contains("\" from nose")), "{t:?}");
+    let short = board();
+    let t = texts(&template::outline(&template::side_of(&short)));
+    assert!(t.iter().any(|s| s == "6\" from nose"), "{t:?}");
+    let design = jobs::load_design(&root.join("shortboard.yaml")).unwrap();
+    let mesh = design.mesh(0.05).unwrap();
+    let t = texts(&template::sections("s", &mesh, &[304.8]));
+    // 6'2" = 1879.6 mm; 1879.6 - 304.8 = 1574.8 mm from the tail.
+    assert!(
+        t.iter()
+            .any(|s| s.contains("304.8 mm (12\") from nose, 1574.8 mm (5' 2\") from tail")),
+        "{t:?}"
+    );
+}

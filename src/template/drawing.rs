@@ -167,6 +167,16 @@ impl Side {
         [lerp(&self.half_width), lerp(&self.bottom), lerp(&self.deck)]
     }
 
+    /// A distance along the board in its own units: inches for a board
+    /// written in inches (6 in ticks), millimetres for one in mm.
+    pub fn distance(&self, x: f64) -> String {
+        if (self.step - 150.0).abs() < 1e-9 {
+            format!("{x:.0} mm")
+        } else {
+            units::inches(x)
+        }
+    }
+
     /// Where the half-width is greatest.
     pub fn wide_point(&self) -> f64 {
         let i = (0..self.x.len())
@@ -254,7 +264,7 @@ pub fn outline(side: &Side) -> Drawing {
         items.push(Item::Text {
             at: [b + x + 1.0, b + w + 6.0],
             size: 3.0,
-            text: format!("{} from nose", units::inches(x)),
+            text: format!("{} from nose", side.distance(x)),
         });
         items.push(Item::Text {
             at: [b + x + 1.0, b + 3.0],
@@ -391,7 +401,8 @@ pub fn rocker(side: &Side) -> Drawing {
 pub fn sections(name: &str, mesh: &Mesh, stations: &[f64]) -> Drawing {
     let b = BORDER;
     let frame = 30.0;
-    let (lo, _) = mesh.bounding_box().unwrap_or(([0.0; 3], [0.0; 3]));
+    let (lo, hi) = mesh.bounding_box().unwrap_or(([0.0; 3], [0.0; 3]));
+    let length = hi[0] - lo[0];
     let xs: Vec<f64> = stations.iter().map(|s| lo[0] + s).collect();
     let slices = slice_many(mesh, Axis::X, &xs);
     let mut items = vec![];
@@ -455,7 +466,11 @@ pub fn sections(name: &str, mesh: &Mesh, stations: &[f64]) -> Drawing {
         items.push(Item::Text {
             at: [left + 3.0, b + fh + 4.0],
             size: 3.5,
-            text: format!("SECTION {} from nose", units::Both(at)),
+            text: format!(
+                "SECTION {} from nose, {} from tail",
+                units::Both(at),
+                units::Both(length - at)
+            ),
         });
         items.push(Item::Text {
             at: [left + 3.0, b + fh + 9.0],
