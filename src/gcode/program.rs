@@ -544,7 +544,7 @@ pub fn setup_sheet(
     let (what, hold) = if rockered {
         (
             format!(
-                "the {} x {} rockered blank ({} high overall) bottom down in a cradle cut to its bottom curve (the job's stations), its lowest point on the spoilboard, its nose end and front side",
+                "the {} x {} rockered blank ({} high overall) bottom down in a cradle cut to its bottom curve (the job's stations: {name}.cradle-1.svg, full size in {name}.cradles.pdf), its lowest point on the spoilboard, its nose end and front side",
                 both(b.length),
                 both(b.width),
                 both(b.thickness)
@@ -592,7 +592,7 @@ pub fn setup_sheet(
             if cradle {
                 next(
                     format!(
-                        "Flip: lift the {stock} off, turn it over about its long (X) axis, and set it deck down in the deck cradle (cut to the board's deck as designed, which setup 1 cut: the cradle template's profile), on pins in the {n_holes} registration holes ({holes}), through the stock and {:.1} mm into {under}: the pins stand at the same machine X, Y. Pins must not stand above the stock. The pins register the stock until the roughing clears the margin round the board; from then the board lies free in the cradle: hold it down by vacuum through the cradle or by the shop's own hold-downs away from the cut, never by hand.",
+                        "Flip: lift the {stock} off, turn it over about its long (X) axis, and set it deck down in the deck cradle (cut to the board's deck as designed, which setup 1 cut: {name}.cradle-2.svg, full size in {name}.cradles.pdf), on pins in the {n_holes} registration holes ({holes}), through the stock and {:.1} mm into {under}: the pins stand at the same machine X, Y. Pins must not stand above the stock. The pins register the stock until the roughing clears the margin round the board; from then the board lies free in the cradle: hold it down by vacuum through the cradle or by the shop's own hold-downs away from the cut, never by hand.",
                         job.pin_depth,
                         stock = if rockered { "blank" } else { "block" },
                         under = if rockered {
@@ -606,7 +606,7 @@ pub fn setup_sheet(
             } else if rockered {
                 next(
                     format!(
-                        "Flip: lift the blank off, turn it over about its long (X) axis, and set it deck down in a second cradle cut to its deck curve, on pins in the {n_holes} registration holes ({holes}), drilled through the blank and {:.1} mm into the first cradle: the second cradle's pin holes stand at the same machine X, Y. Pins must not stand above the blank.",
+                        "Flip: lift the blank off, turn it over about its long (X) axis, and set it deck down in a second cradle cut to its deck curve ({name}.cradle-2.svg), on pins in the {n_holes} registration holes ({holes}), drilled through the blank and {:.1} mm into the first cradle: the second cradle's pin holes stand at the same machine X, Y. Pins must not stand above the blank.",
                         job.pin_depth
                     ),
                     &mut s,
