@@ -245,7 +245,7 @@ enum Command {
         /// Machine profile (YAML).
         #[arg(long)]
         machine: PathBuf,
-        /// Job profile (YAML): its block and placement.
+        /// Job profile (YAML): its block and placement (without it, the programs' headers give them).
         #[arg(long, conflicts_with = "stock")]
         job: Option<PathBuf>,
         /// Block X 0..L, Y 0..W, Z -T..0 (zero on the top face, front-left corner), e.g. 300x200x50mm.
@@ -255,8 +255,8 @@ enum Command {
         /// e.g. flat:10mm, ball:12.7mm, bull:20mm:3mm.
         #[arg(long)]
         tool: Option<String>,
-        /// Design to measure against: description (placed as the job places it) or STL
-        /// (taken in the programs' own coordinates).
+        /// Design to measure against: description or STL, placed as the job or the programs'
+        /// header places it (else taken in the programs' own coordinates).
         #[arg(long)]
         design: Option<PathBuf>,
         /// How many programs run before the flip (default: from the programs' headers;

@@ -453,7 +453,7 @@ fn a_block_thicker_than_declared_still_gives_the_design_thickness() {
             table_position: j.table_position,
             default_tool: None,
             design: Some(&plan.placement.part),
-            keep: commands::tab_rectangles(&plan.placement, &j),
+            keep: blanksmith::toolpath::setup::tab_rectangles(&plan.placement, &j),
             floor: None,
         };
         simulate::verify(sources, &setting, VerifyOptions::default(), &|_| {}).unwrap()

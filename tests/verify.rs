@@ -437,3 +437,170 @@ fn unsupported_words_are_refused_where_they_stand() {
         assert!(e.message.contains(what), "{body}: {}", e.message);
     }
 }
+
+/// The project's programs verified with no job: their header records the
+/// block, where the design sits in it, the tabs and setup 2's zero, so the
+/// fish's programs give the gouge, the stock left and the foam removed that
+/// the same programs give verified with the job (the figures the job's
+/// placement gives, to the last printed digit). Without the header's
+/// placement the design would sit where its own coordinates put it (the
+/// 136 mm gouge of the issue); programs cut from a shaped blank, whose
+/// shape is not in the header, are refused with the way out.
+#[test]
+fn programs_verify_from_their_own_headers_as_with_the_job() {
+    let dir = tempfile::tempdir().unwrap();
+    let m = root().join("fixtures/machine-gantry-3000.yaml");
+    let m = m.to_str().unwrap();
+    let fish = root().join("fixtures/fish.yaml");
+    let fish = fish.to_str().unwrap();
+    let o = blanksmith(
+        &["cut", fish, "--machine", m, "-o", "cut", "--quiet"],
+        dir.path(),
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let mut programs: Vec<String> = std::fs::read_dir(dir.path().join("cut"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "nc"))
+        .map(|p| p.display().to_string())
+        .collect();
+    programs.sort();
+    let with_job: serde_json::Value = serde_json::from_slice(
+        &std::fs::read(dir.path().join("cut/saltgrass-fish-5-6.verify.json")).unwrap(),
+    )
+    .unwrap();
+    let verify = |extra: &[&str], progs: &[String]| {
+        let mut args = vec!["verify", "--machine", m, "--json", "--quiet"];
+        args.extend_from_slice(extra);
+        args.extend(progs.iter().map(String::as_str));
+        blanksmith(&args, dir.path())
+    };
+    let o = verify(&["--design", fish], &programs);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let alone: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    // The header rounds positions to 0.0001 mm: the design stands within
+    // that of where the job put it, so the depths agree to 0.001 mm.
+    for (key, tol) in [
+        ("gouge_max_mm", 1e-3),
+        ("leftover_max_mm", 1e-3),
+        ("leftover_p95_mm", 1e-3),
+        ("removed_volume_litres", 1e-9),
+        ("path_length_mm", 1e-9),
+    ] {
+        let (a, b) = (
+            alone[key].as_f64().unwrap(),
+            with_job[key].as_f64().unwrap(),
+        );
+        assert!((a - b).abs() <= tol, "{key}: {a} alone, {b} with the job");
+    }
+    assert!(
+        alone["basis"].as_str().unwrap().contains("header"),
+        "{alone}"
+    );
+
+    // The header's placement taken out: the design sits in its own
+    // coordinates, far from the cut, and the verdict says where it came from.
+    let stripped: Vec<String> = programs
+        .iter()
+        .map(|p| {
+            let text = std::fs::read_to_string(p).unwrap();
+            let text: String = text
+                .lines()
+                .filter(|l| !l.starts_with("(placement:"))
+                .map(|l| format!("{l}\n"))
+                .collect();
+            let to = format!("{p}.bare.nc");
+            std::fs::write(&to, text).unwrap();
+            to
+        })
+        .collect();
+    let o = verify(&["--design", fish], &stripped);
+    let bare: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert!(bare["gouge_max_mm"].as_f64().unwrap() > 10.0, "{bare}");
+    assert!(
+        bare["basis"].as_str().unwrap().contains("as given"),
+        "{bare}"
+    );
+
+    // From a shaped blank: refused, naming the way out.
+    let short = root().join("fixtures/shortboard.yaml");
+    let cradle = root().join("fixtures/job-cradle.yaml");
+    let o = blanksmith(
+        &[
+            "cut",
+            short.to_str().unwrap(),
+            "--machine",
+            m,
+            "--job",
+            cradle.to_str().unwrap(),
+            "-o",
+            "cradle",
+            "--quiet",
+        ],
+        dir.path(),
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let first = std::fs::read_dir(dir.path().join("cradle"))
+        .unwrap()
+        .map(|e| e.unwrap().path().display().to_string())
+        .find(|p| p.ends_with("-1-deck-T1.nc"))
+        .unwrap();
+    let o = verify(&[], &[first]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("shaped blank") && err.contains("--job"),
+        "{err}"
+    );
+}
+
+/// The header lines read back as written, also when GRBL's short lines
+/// wrap them.
+#[test]
+fn header_placement_reads_back_as_written() {
+    use blanksmith::gcode::program::{header_text, kept_line, pose_line, read_kept, read_pose};
+    use blanksmith::toolpath::setup::Pose;
+    let pose = Pose {
+        pitch: -2.5,
+        centre: [838.0, 0.0, 58.9526],
+        centre_at: [945.0692, 340.0, -27.1107],
+    };
+    let kept = vec![
+        [[15.7974, 298.6], [137.6474, 381.4]],
+        [[1752.35, 298.6], [1874.2, 381.4]],
+    ];
+    let program = format!(
+        "(blanksmith program p.nc)\n({})\n({})\nG21\n",
+        pose_line(&pose).replace(['(', ')'], "-"),
+        kept_line(&kept).replace(['(', ')'], "-")
+    );
+    let head = header_text(&program);
+    assert_eq!(read_pose(&head), Some(pose));
+    assert_eq!(read_kept(&head), Some(kept.clone()));
+    // Wrapped at spaces into comments of at most 70 characters.
+    let mut wrapped = String::new();
+    for line in program.lines().take(3) {
+        let inner = line.trim_start_matches('(').trim_end_matches(')');
+        let mut cur = String::new();
+        for w in inner.split(' ') {
+            if !cur.is_empty() && cur.len() + 1 + w.len() > 68 {
+                wrapped += &format!("({cur})\n");
+                cur.clear();
+            }
+            if !cur.is_empty() {
+                cur.push(' ');
+            }
+            cur += w;
+        }
+        wrapped += &format!("({cur})\n");
+    }
+    wrapped += "G21\n";
+    let head = header_text(&wrapped);
+    assert_eq!(read_pose(&head), Some(pose));
+    assert_eq!(read_kept(&head), Some(kept));
+}

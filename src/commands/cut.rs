@@ -369,23 +369,10 @@ pub fn verify_plan_with(
         table_position: job.table_position,
         default_tool: None,
         design: Some(&plan.placement.part),
-        keep: tab_rectangles(&plan.placement, job),
+        keep: crate::toolpath::setup::tab_rectangles(&plan.placement, job),
         floor: Some((&plan.placement, job.overlap)),
     };
     simulate::verify(sources, &setting, options, progress).map_err(JobError::Gcode)
-}
-
-/// The tabs' plan rectangles, grown by the finishing tool's radius plus
-/// 1 mm: the ball cannot reach closer to a tab's side, and that foam goes
-/// with the tab when it is cut off and sanded.
-pub fn tab_rectangles(place: &crate::toolpath::setup::Placement, job: &Job) -> Vec<[[f64; 2]; 2]> {
-    let g = job.finishing.pass.tool.cutter.radius + 1.0;
-    place
-        .tabs
-        .iter()
-        .filter_map(|t| t.bounding_box())
-        .map(|(lo, hi)| [[lo[0] - g, lo[1] - g], [hi[0] + g, hi[1] + g]])
-        .collect()
 }
 
 /// The verification's JSON, text and pictures, in memory.

@@ -101,31 +101,87 @@ pub fn verify_programs(
         Some(p) => Some(load_design(p)?),
         None => None,
     };
-    // The block, and where the design sits in it.
-    let (block, table_position, part, keep, placed) = match (&args.stock, &job) {
-        (Some(s), _) => {
-            let block = parse_block(s)?;
-            let part = match &design {
-                Some(d) => Some(d.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?),
-                None => None,
-            };
-            let at = job.as_ref().map_or([0.0, 0.0], |j| j.table_position);
-            (block, at, part, vec![], None)
+    // The programs' headers: the project's own programs record their block,
+    // where the design sits in it, and where setup 2's Z0 is.
+    let mut heads = Vec::new();
+    for path in &args.programs {
+        use std::io::Read as _;
+        let mut head = Vec::new();
+        std::fs::File::open(path)
+            .and_then(|f| f.take(16 * 1024).read_to_end(&mut head))
+            .map_err(|e| JobError::Read {
+                path: path.display().to_string(),
+                message: e.to_string(),
+            })?;
+        heads.push(program::header_text(&String::from_utf8_lossy(&head)));
+    }
+    let first_head = heads.first().map_or("", String::as_str);
+    let pose = program::read_pose(first_head);
+    let mesh = match &design {
+        Some(d) => Some(d.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?),
+        None => None,
+    };
+    let posed = |mesh: Option<crate::model::mesh::Mesh>| match (mesh, pose) {
+        (Some(m), Some(p)) => Some(p.apply_mesh(&m)),
+        (m, _) => m,
+    };
+    let design_basis = match (&design, pose) {
+        (None, _) => "",
+        (Some(_), Some(_)) => {
+            "; the design placed as the programs' header records (the ball's reach is judged without the job's parting surface: give --job for that)"
         }
-        (None, Some(j)) => match &design {
-            Some(d) => {
-                let mesh = d.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?;
+        (Some(_), None) => {
+            "; the design as given, in the programs' coordinates (their header records no placement)"
+        }
+    };
+    // The block, and where the design sits in it.
+    let (block, table_position, part, keep, placed, basis) = match (&args.stock, &job) {
+        (Some(s), None) => {
+            let block = parse_block(s)?;
+            let at = program::read_stock(first_head)
+                .ok()
+                .flatten()
+                .map_or([0.0, 0.0], |(_, at)| at);
+            let basis = format!("block from --stock{design_basis}");
+            let keep = match pose {
+                Some(_) => program::read_kept(first_head).unwrap_or_default(),
+                None => vec![],
+            };
+            (block, at, posed(mesh), keep, None, basis)
+        }
+        (Some(s), Some(j)) => {
+            let block = parse_block(s)?;
+            let basis = "block from --stock, placed as the job says; the design as given".into();
+            (block, j.table_position, mesh, vec![], None, basis)
+        }
+        (None, Some(j)) => match (&design, mesh) {
+            (Some(d), Some(mesh)) => {
                 let apex = match d {
                     Design::Board(b) => Some(program::apex_line(b)),
                     Design::Mesh { .. } => None,
                 };
                 let place = crate::toolpath::setup::place(&mesh, apex.as_deref(), j)?;
-                let keep = tab_rectangles(&place, j);
+                let keep = crate::toolpath::setup::tab_rectangles(&place, j);
                 let (block, part) = (place.block.clone(), place.part.clone());
-                (block, j.table_position, Some(part), keep, Some(place))
+                let basis = "block and the design's placement from the job".into();
+                (
+                    block,
+                    j.table_position,
+                    Some(part),
+                    keep,
+                    Some(place),
+                    basis,
+                )
             }
-            None => match &j.stock {
-                Some(b) => (b.clone(), j.table_position, None, vec![], None),
+            _ => match &j.stock {
+                Some(b) => (
+                    b.clone(),
+                    j.table_position,
+                    None,
+                    vec![],
+                    None,
+                    "block from the job".into(),
+                ),
                 None => {
                     return Err(JobError::Flag(
                         "the job sizes its block from the board: give --design, or --stock LxWxT"
@@ -134,33 +190,42 @@ pub fn verify_programs(
                 }
             },
         },
-        (None, None) => {
-            return Err(JobError::Flag(
-                "give --stock LxWxT (e.g. 300x200x50mm) or --job JOB.yaml".into(),
-            ));
-        }
+        (None, None) => match program::read_stock(first_head) {
+            Ok(Some((block, at))) => {
+                let basis = format!("block from the programs' header{design_basis}");
+                let keep = program::read_kept(first_head).unwrap_or_default();
+                (block, at, posed(mesh), keep, None, basis)
+            }
+            Ok(None) => {
+                return Err(JobError::Flag(
+                    "the programs' header names no stock: give --stock LxWxT (e.g. 300x200x50mm) or --job JOB.yaml".into(),
+                ));
+            }
+            Err(why) => {
+                return Err(JobError::Flag(format!(
+                    "{why}: give --job JOB.yaml (the job they were cut with), or --stock LxWxT"
+                )));
+            }
+        },
     };
     let mut sources = Vec::new();
     let count = args.programs.len();
+    let mut zero_on_table = job.is_some();
     for (k, path) in args.programs.iter().enumerate() {
         let file = std::fs::File::open(path).map_err(|e| JobError::Read {
             path: path.display().to_string(),
             message: e.to_string(),
         })?;
-        let mut reader = std::io::BufReader::new(file);
+        let reader = std::io::BufReader::new(file);
+        let head = &heads[k];
         let side = match args.flip_after {
             Some(n) if k < n => Side::Deck,
             Some(_) => Side::Bottom,
+            // The project's own programs name their setup in the header;
+            // of two programs from elsewhere, the second follows the flip.
             None => {
-                // The project's own programs name their setup in the header;
-                // of two programs from elsewhere, the second follows the flip.
-                use std::io::BufRead as _;
-                let head = reader
-                    .fill_buf()
-                    .map(|b| String::from_utf8_lossy(&b[..b.len().min(4096)]).to_string())
-                    .unwrap_or_default();
-                if head.contains("(setup 2 of 2")
-                    || (count == 2 && k == 1 && !head.contains("(setup 1 of 2"))
+                if head.contains("setup 2 of 2")
+                    || (count == 2 && k == 1 && !head.contains("setup 1 of 2"))
                 {
                     Side::Bottom
                 } else {
@@ -168,6 +233,9 @@ pub fn verify_programs(
                 }
             }
         };
+        if side == Side::Bottom && head.contains("Z0 on the spoilboard top") {
+            zero_on_table = true;
+        }
         sources.push(ProgramSource {
             name: path.display().to_string(),
             side,
@@ -177,9 +245,9 @@ pub fn verify_programs(
     }
     let setting = Setting {
         // Programs planned against a job are written with setup 2's Z0 on
-        // the spoilboard top; a bare block's programs are read as zeroed
-        // on the turned block's top.
-        table_zero_after_flip: job.is_some(),
+        // the spoilboard top (their header says so); others are read as
+        // zeroed on the turned block's top.
+        table_zero_after_flip: zero_on_table,
         machine: &machine,
         block,
         table_position,
@@ -196,7 +264,8 @@ pub fn verify_programs(
         lenient: args.lenient,
         ..Default::default()
     };
-    let v = simulate::verify(sources, &setting, options, progress).map_err(JobError::Gcode)?;
+    let mut v = simulate::verify(sources, &setting, options, progress).map_err(JobError::Gcode)?;
+    v.basis = Some(basis);
     let mut written = vec![];
     if let Some(dir) = dir {
         let name = design

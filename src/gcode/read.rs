@@ -423,6 +423,7 @@ fn block(
     let mut feed_word = None;
     let mut speed_word = None;
     let mut tool_change = false;
+    let mut spindle_word: Option<bool> = None;
     let mut end = false;
     let mut seen = [false; 26];
     let outside = |w: &Word, sink: &mut dyn FnMut(Event)| -> Result<(), GcodeError> {
@@ -521,8 +522,8 @@ fn block(
             'M' => match code(w) {
                 Some(0 | 1) => {}
                 Some(2 | 30) => end = true,
-                Some(3 | 4) => st.spindle_on = true,
-                Some(5) => st.spindle_on = false,
+                Some(3 | 4) => spindle_word = Some(true),
+                Some(5) => spindle_word = Some(false),
                 Some(6) => tool_change = true,
                 _ => outside(w, sink)?,
             },
@@ -571,6 +572,16 @@ fn block(
             feed: feed_word.map(|f| f * k),
             spindle: speed_word,
         });
+    }
+    // RS-274/NGC's order of execution (NIST IR 6556, 3.8): the tool
+    // change, then the spindle words. LinuxCNC stops the spindle for M6
+    // (`rs274` prints STOP_SPINDLE_TURNING before CHANGE_TOOL), so after a
+    // change it turns only once M3/M4 is given again.
+    if tool_change {
+        st.spindle_on = false;
+    }
+    if let Some(on) = spindle_word {
+        st.spindle_on = on;
     }
     if (tool_change || (st.next_tool.is_some() && st.tool.is_none()))
         && let Some(t) = st.next_tool

@@ -98,6 +98,51 @@ pub struct Placement {
     pub tabs: Vec<Mesh>,
     /// Room around the board.
     pub margins: Margins,
+    /// How the design was put into the block: turned `pitch` degrees about
+    /// Y round `centre` (the design's own box centre), then moved by
+    /// `shift` (see [`Pose`]).
+    pub pose: Pose,
+}
+
+/// A design's rigid placement in setup-1 coordinates: turned `pitch`
+/// degrees about Y (nose up for positive) round `centre`, then moved so
+/// that `centre` lands at `centre_at`. The programs' headers carry it, so
+/// they can be verified without the job that placed the board.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Pose {
+    /// Tilt about Y, degrees.
+    pub pitch: f64,
+    /// The point turned round, in the design's coordinates (mm).
+    pub centre: [f64; 3],
+    /// Where that point lands, setup-1 coordinates (mm).
+    pub centre_at: [f64; 3],
+}
+
+impl Pose {
+    /// A design point in setup-1 coordinates.
+    pub fn apply(&self, v: [f64; 3]) -> [f64; 3] {
+        let t = rotate_y(
+            [
+                v[0] - self.centre[0],
+                v[1] - self.centre[1],
+                v[2] - self.centre[2],
+            ],
+            self.pitch,
+        );
+        [
+            t[0] + self.centre_at[0],
+            t[1] + self.centre_at[1],
+            t[2] + self.centre_at[2],
+        ]
+    }
+
+    /// A design mesh in setup-1 coordinates.
+    pub fn apply_mesh(&self, mesh: &Mesh) -> Mesh {
+        Mesh {
+            vertices: mesh.vertices.iter().map(|&v| self.apply(v)).collect(),
+            triangles: mesh.triangles.clone(),
+        }
+    }
 }
 
 /// Turns a setup-1 point into setup-2 coordinates (and back: the flip is
@@ -481,7 +526,26 @@ pub fn place(board: &Mesh, apex: Option<&[[f64; 3]]>, job: &Job) -> Result<Place
             tail,
             side: (side_room.0, side_room.1),
         },
+        pose: Pose {
+            pitch,
+            centre,
+            centre_at: shift,
+        },
     })
+}
+
+/// The tabs' plan rectangles (setup-1 X and Y, low and high corners),
+/// grown by the finishing tool's radius plus 1 mm: the ball cannot reach
+/// closer to a tab's side, and that foam goes with the tab when it is cut
+/// off and sanded.
+pub fn tab_rectangles(place: &Placement, job: &Job) -> Vec<[[f64; 2]; 2]> {
+    let g = job.finishing.pass.tool.cutter.radius + 1.0;
+    place
+        .tabs
+        .iter()
+        .filter_map(|t| t.bounding_box())
+        .map(|(lo, hi)| [[lo[0] - g, lo[1] - g], [hi[0] + g, hi[1] + g]])
+        .collect()
 }
 
 /// Whether the placed stock (and, in a cradle, the tool running round it)

@@ -154,6 +154,10 @@ pub struct Verification {
     pub path_length_mm: f64,
     /// Height-map cell, mm.
     pub cell_mm: f64,
+    /// Where the block and the design's placement came from, when the
+    /// caller says (`verify` from anywhere); none for a `make` or `cut` run.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub basis: Option<String>,
     /// Per program.
     pub programs: Vec<ProgramReport>,
     /// Deviation maps (setup 1, setup 2) for pictures; not in the JSON.
@@ -210,6 +214,9 @@ impl Verification {
             "clean: no collision, no move outside the machine, no cut with the spindle off; gouges not checked (no design given: give --design or --job)"
         };
         let _ = writeln!(s, "verification ({} mm cells): {verdict}", self.cell_mm);
+        if let Some(b) = &self.basis {
+            let _ = writeln!(s, "  {b}");
+        }
         for (name, list) in [
             ("rapid into stock", &self.collisions),
             ("outside the machine", &self.out_of_envelope),
@@ -362,6 +369,7 @@ pub fn verify(
         time_estimate_s: 0.0,
         path_length_mm: 0.0,
         cell_mm: options.cell,
+        basis: None,
         programs: vec![],
         maps: vec![],
     };
