@@ -87,7 +87,11 @@ pub(crate) fn template_files(
     }
     let mut drawings = vec![];
     if want("outline") {
-        drawings.push(template::outline(&side));
+        let mut d = template::outline(&side);
+        if let Design::Board(b) = design {
+            d.items.extend(template::fitting_marks(b));
+        }
+        drawings.push(d);
     }
     if want("rocker") {
         drawings.push(template::rocker(&side));

@@ -6,6 +6,7 @@
 //! rules and builds the continuous [`Board`].
 
 pub mod demo;
+pub mod fittings;
 mod resolve;
 pub mod values;
 pub mod write;
@@ -50,6 +51,14 @@ pub struct BoardFile {
     /// Bottom contour zones.
     #[serde(default)]
     pub bottom: Vec<ZoneSpec>,
+    /// Fin setup and boxes.
+    pub fins: Option<fittings::FinsSpec>,
+    /// Leash plug.
+    pub leash_plug: Option<Spanned<fittings::PlugSpec>>,
+    /// Glassing schedule and materials, for the weight.
+    pub laminate: Option<fittings::LaminateSpec>,
+    /// The customer's order, for the order sheet.
+    pub order: Option<fittings::OrderSpec>,
 }
 
 /// `outline:` fields.

@@ -198,7 +198,109 @@ pub fn to_yaml(board: &Board, unit: Unit, comment: &str) -> String {
             );
         }
     }
+    write_fittings(board, &mut o);
     o.text
+}
+
+/// `fins:`, `leash_plug:`, `laminate:` and `order:`, every value written
+/// out (no defaults left to the reader).
+fn write_fittings(board: &Board, o: &mut Out) {
+    let f = &board.fittings;
+    if let Some(setup) = f.setup {
+        let _ = writeln!(o.text, "\nfins:\n  setup: {}", setup.name());
+        for fin in &f.fins {
+            let p = &fin.pocket;
+            let pocket = format!(
+                "box: {{length: {}, width: {}, depth: {}, corner_radius: {}}}",
+                o.len(p.length),
+                o.len(p.width),
+                o.len(p.depth),
+                o.len(p.corner_radius)
+            );
+            if fin.centre {
+                let _ = writeln!(
+                    o.text,
+                    "  {}: {{from_tail: {}, {pocket}}}",
+                    fin.role,
+                    o.len(fin.from_tail)
+                );
+            } else {
+                let _ = writeln!(
+                    o.text,
+                    "  {}: {{from_tail: {}, from_rail: {}, toe: {}, cant: {}, {pocket}}}",
+                    fin.role,
+                    o.len(fin.from_tail),
+                    o.len(fin.from_rail),
+                    fin.toe,
+                    fin.cant
+                );
+            }
+        }
+    }
+    if let Some(p) = &f.plug {
+        let _ = writeln!(
+            o.text,
+            "\nleash_plug: {{from_tail: {}, diameter: {}, depth: {}}}",
+            o.len(p.from_tail),
+            o.len(p.diameter),
+            o.len(p.depth)
+        );
+    }
+    let l = &board.laminate;
+    if *l != crate::model::laminate::Laminate::default() {
+        let cloth = |layers: &[f64]| {
+            layers
+                .iter()
+                .map(|w| format!("{w}gsm"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        };
+        let _ = writeln!(
+            o.text,
+            "\nlaminate:\n  deck: [{}]\n  bottom: [{}]\n  lap: {}\n  resin_ratio: {}\n  hot_coat: {}\n  foam_density: {}",
+            cloth(&l.deck),
+            cloth(&l.bottom),
+            o.len(l.lap),
+            l.resin_ratio,
+            l.hot_coat,
+            l.foam_density
+        );
+        match l.stringer {
+            Some((w, d)) => {
+                let _ = writeln!(
+                    o.text,
+                    "  stringer_width: {}\n  stringer_density: {d}",
+                    o.len(w)
+                );
+            }
+            None => o.text.push_str("  stringer_width: none\n"),
+        }
+        let _ = writeln!(
+            o.text,
+            "  box_mass: {}\n  plug_mass: {}",
+            l.box_mass, l.plug_mass
+        );
+    }
+    let r = &board.order;
+    if !r.is_empty() {
+        o.text.push_str("\norder:\n");
+        for (name, v) in [
+            ("customer", &r.customer),
+            ("reference", &r.reference),
+            ("due", &r.due),
+            ("colour", &r.colour),
+            ("notes", &r.notes),
+        ] {
+            if let Some(v) = v {
+                // A JSON string is a YAML double-quoted scalar.
+                let _ = writeln!(
+                    o.text,
+                    "  {name}: {}",
+                    serde_json::to_string(v).unwrap_or_default()
+                );
+            }
+        }
+    }
 }
 
 #[cfg(test)]
@@ -220,6 +322,18 @@ mod tests {
                 let text = to_yaml(&board, unit, "round trip");
                 let back = description::board_from_str(&text, "written.yaml")
                     .unwrap_or_else(|e| panic!("{name}: {e}\n{text}"));
+                assert_eq!(back.order, board.order, "{name}");
+                assert_eq!(back.fittings.setup, board.fittings.setup, "{name}");
+                assert_eq!(back.fittings.fins.len(), board.fittings.fins.len());
+                for (a, b) in back.fittings.fins.iter().zip(&board.fittings.fins) {
+                    assert!((a.from_tail - b.from_tail).abs() < 1e-9, "{name}");
+                    assert!((a.from_rail - b.from_rail).abs() < 1e-9, "{name}");
+                    assert!((a.pocket.depth - b.pocket.depth).abs() < 1e-9);
+                    assert_eq!((a.toe, a.cant), (b.toe, b.cant), "{name}");
+                }
+                assert_eq!(back.fittings.plug.is_some(), board.fittings.plug.is_some());
+                assert_eq!(back.laminate.stringer, board.laminate.stringer, "{name}");
+                assert_eq!(back.laminate.deck.len(), board.laminate.deck.len());
                 for i in 0..=400 {
                     let x = board.length * i as f64 / 400.0;
                     let (a, b) = (

@@ -6,6 +6,9 @@
 //! stringer is the rocker curve; its lowest point sits at z = 0.
 
 use crate::model::curve::Curve;
+use crate::model::fittings::Fittings;
+use crate::model::laminate::Laminate;
+use crate::model::order::Order;
 use crate::units::Unit;
 
 /// A board resolved from its description: all lengths in mm.
@@ -35,6 +38,12 @@ pub struct Board {
     pub tip_station: f64,
     /// The unit the board was described in (for writing it back and labels).
     pub unit: Unit,
+    /// Fins and leash plug.
+    pub fittings: Fittings,
+    /// Glassing schedule and materials.
+    pub laminate: Laminate,
+    /// The customer's order.
+    pub order: Order,
 }
 
 /// A curve of half-width that is interpolated in `half_width ^ power`:
@@ -520,6 +529,11 @@ impl Board {
                 .collect(),
             tip_station: self.tip_station * kx,
             unit: self.unit,
+            // Fins and the plug stay where the shop's rules put them,
+            // measured from the tail and the rail.
+            fittings: self.fittings.clone(),
+            laminate: self.laminate.clone(),
+            order: self.order.clone(),
         }
     }
 }

@@ -2,8 +2,11 @@
 
 pub mod board;
 pub mod curve;
+pub mod fittings;
 pub mod job;
+pub mod laminate;
 pub mod limits;
 pub mod machine;
 pub mod mesh;
+pub mod order;
 pub mod toolpath;

@@ -310,6 +310,94 @@ pub fn outline(side: &Side) -> Drawing {
     }
 }
 
+/// The fins' boxes and the leash plug marked on the half outline (the +y
+/// half, drawn from the stringer): each box's pocket, its fin's centreline
+/// run past both ends so its toe can be laid off with a straightedge, and
+/// what the shop reads beside it. Centre boxes straddle the stringer; the
+/// plug goes on the deck, the boxes on the bottom.
+pub fn fitting_marks(board: &Board) -> Vec<Item> {
+    let b = BORDER;
+    let f = &board.fittings;
+    let at = |p: [f64; 2]| [b + p[0], b + p[1]];
+    let mut items = vec![];
+    for bx in f.boxes(board).iter().filter(|bx| bx.side >= 0) {
+        let fin = &f.fins[bx.fin];
+        let mut pocket: Vec<[f64; 2]> = bx.outline(0.0, 8).into_iter().map(at).collect();
+        if let Some(&first) = pocket.first() {
+            pocket.push(first);
+        }
+        items.push(Item::Line {
+            points: pocket,
+            closed: true,
+            role: Role::Cut,
+        });
+        let reach = 30.0;
+        items.push(Item::Line {
+            points: vec![
+                at(bx.at(-reach, 0.0)),
+                at(bx.at(bx.pocket.length + reach, 0.0)),
+            ],
+            closed: false,
+            role: Role::Guide,
+        });
+        let text = if fin.centre {
+            format!(
+                "{} FIN BOX (bottom): front {} from tail, on the stringer; pocket {} x {}, {} deep",
+                fin.role.to_uppercase(),
+                label(fin.from_tail),
+                label(fin.pocket.length),
+                label(fin.pocket.width),
+                label(fin.pocket.depth)
+            )
+        } else {
+            format!(
+                "{} FIN BOX (bottom): front {} from tail, {} in from rail; toe {} deg in, cant {} deg out; pocket {} x {}, {} deep",
+                fin.role.to_uppercase(),
+                label(fin.from_tail),
+                label(fin.from_rail),
+                fin.toe,
+                fin.cant,
+                label(fin.pocket.length),
+                label(fin.pocket.width),
+                label(fin.pocket.depth)
+            )
+        };
+        let [x, y] = at(bx.front);
+        let y_text = if fin.centre { y + 14.0 } else { y - 10.0 };
+        items.push(Item::Text {
+            at: [x - 150.0, y_text],
+            size: 3.0,
+            text,
+        });
+    }
+    if let (Some(c), Some(p)) = (f.plug_at(board), f.plug) {
+        let r = p.diameter / 2.0;
+        let circle: Vec<[f64; 2]> = (0..=48)
+            .map(|k| {
+                let a = std::f64::consts::TAU * k as f64 / 48.0;
+                at([c[0] + r * a.cos(), c[1] + r * a.sin()])
+            })
+            .collect();
+        items.push(Item::Line {
+            points: circle,
+            closed: true,
+            role: Role::Cut,
+        });
+        let [x, y] = at(c);
+        items.push(Item::Text {
+            at: [x - 120.0, y + r + 22.0],
+            size: 3.0,
+            text: format!(
+                "LEASH PLUG (deck): centre {} from tail on the stringer; {} across, {} deep",
+                label(p.from_tail),
+                label(p.diameter),
+                label(p.depth)
+            ),
+        });
+    }
+    items
+}
+
 /// The bottom and deck at the stringer over a straight baseline (the flat
 /// the board rests on), with heights at stations, nose and tail rocker and
 /// the tail exit angle.

@@ -8,3 +8,4 @@ pub mod measure;
 pub mod report;
 pub mod tail_pull;
 pub mod water;
+pub mod weight;

@@ -3,6 +3,7 @@
 //! Each rule names the field it is about, with the line and column the YAML
 //! reader recorded for it, so a shaper sees exactly which number to change.
 
+mod fittings;
 mod outline;
 mod section;
 mod side;
@@ -252,8 +253,14 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
         bottom,
         tip_station: d12,
         unit: cx.unit,
+        fittings: Default::default(),
+        laminate: fittings::laminate(&cx, raw)?,
+        order: fittings::order(&cx, raw)?,
     };
     check_sections(&cx, raw, &board)?;
+    let stringer = board.laminate.stringer.map(|s| s.0);
+    let mut board = board;
+    board.fittings = fittings::fittings(&cx, raw, &board, stringer)?;
     Ok(board)
 }
 
