@@ -77,6 +77,7 @@ fn demo_plan(
         28.0,
         &c.mesh,
         Some(&program::apex_line(&board)),
+        Some(&board),
         &m,
         &j,
         &|_| {},
@@ -215,6 +216,7 @@ fn make_demo_end_to_end() -> usize {
     let m = jobs::make(
         &jobs::Input::Demo,
         mesher::DEFAULT_TOLERANCE,
+        blanksmith::template::tiling::A4,
         dir.path(),
         Some(&cut),
         &|_| {},

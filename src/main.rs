@@ -217,6 +217,10 @@ enum Command {
         /// Chord tolerance of the mesh, mm.
         #[arg(long, default_value_t = DEFAULT_TOLERANCE)]
         tolerance: f64,
+        /// Paper for the templates and the order sheet: a4, a3, letter, tabloid, or
+        /// roll:WIDTH (the order sheet then on an A4-sized page).
+        #[arg(long, default_value = "a4")]
+        paper: String,
         /// Machine profile (YAML); the shipped generic gantry router when left out.
         #[arg(long)]
         machine: Option<PathBuf>,
@@ -552,6 +556,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
             boards,
             out,
             tolerance,
+            paper,
             machine,
             job,
             stock_list,
@@ -564,6 +569,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                 stock_list,
             };
             let cut = (!no_cut).then_some(&args);
+            let paper = blanksmith::template::tiling::paper(&paper).map_err(JobError::Flag)?;
             if boards.len() <= 1 {
                 let input = boards
                     .into_iter()
@@ -571,7 +577,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                     .map(Input::File)
                     .unwrap_or(Input::Demo);
                 let bar = progress(quiet);
-                let m = jobs::make(&input, tolerance, &out, cut, &|s| {
+                let m = jobs::make(&input, tolerance, paper, &out, cut, &|s| {
                     bar.set_message(s.to_string())
                 });
                 bar.finish_and_clear();
@@ -600,7 +606,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
                     jobs::Cutting::Done(_) => code,
                 });
             }
-            make_many(boards, tolerance, &out, cut, quiet)
+            make_many(boards, tolerance, paper, &out, cut, quiet)
         }
         Command::Verify {
             programs,
@@ -714,6 +720,7 @@ fn run(cli: Cli) -> Result<ExitCode, JobError> {
 fn make_many(
     boards: Vec<PathBuf>,
     tolerance: f64,
+    paper: blanksmith::template::tiling::Paper,
     out: &std::path::Path,
     cut: Option<&jobs::CutArgs>,
     quiet: bool,
@@ -736,7 +743,7 @@ fn make_many(
         })
         .collect();
     let inputs: Vec<Input> = boards.iter().cloned().map(Input::File).collect();
-    let result = jobs::make_many(&inputs, tolerance, out, cut, &|k, s| {
+    let result = jobs::make_many(&inputs, tolerance, paper, out, cut, &|k, s| {
         bars[k].set_message(s.to_string())
     });
     for b in &bars {

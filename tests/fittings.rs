@@ -57,7 +57,7 @@ fn fin_and_plug_marks_stand_where_the_description_puts_them() {
                     points,
                     role: Role::Guide,
                     ..
-                } => Some(points),
+                } if points.len() == 2 => Some(points),
                 _ => None,
             })
             .collect();
@@ -115,7 +115,7 @@ fn fin_and_plug_marks_stand_where_the_description_puts_them() {
             .find_map(|i| match i {
                 Item::Line {
                     points,
-                    role: Role::Cut,
+                    role: Role::Guide,
                     ..
                 } if points.len() == 49 => Some(points),
                 _ => None,
@@ -237,14 +237,14 @@ fn bad_fittings_are_refused_at_their_place() {
         ),
         ("toe: 2,", "toe: 25,", "fins.side.toe", "from 0 to 10"),
         (
-            "leash_plug: {from_tail: 3 1/2}",
-            "leash_plug: {from_tail: 3 1/2, depth: 1 1/4}",
+            "leash_plug: {from_tail: 4 1/2}",
+            "leash_plug: {from_tail: 4 1/2, depth: 1 1/4}",
             "leash_plug.depth",
             "left under it",
         ),
         (
-            "leash_plug: {from_tail: 3 1/2}",
-            "leash_plug: {from_tail: 3 1/2}\nlaminate: {deck: [60oz]}",
+            "leash_plug: {from_tail: 4 1/2}",
+            "leash_plug: {from_tail: 4 1/2}\nlaminate: {deck: [60oz]}",
             "laminate.deck",
             "outside 50 to 1000",
         ),
@@ -276,4 +276,131 @@ fn bad_fittings_are_refused_at_their_place() {
         assert!(line > 1, "{err}");
         assert!(!out.exists(), "{to}: something was written");
     }
+}
+
+/// `make` writes one order sheet per board: one page of the paper asked
+/// for (A4 by default, Letter with `--paper letter`; sizes from ISO 216
+/// and ANSI), read back with an independent PDF reader (lopdf), carrying
+/// the customer, the fins, the glassing, the weight and the cut.
+#[test]
+fn make_writes_an_order_sheet_on_the_paper_asked_for() {
+    let dir = tempfile::tempdir().unwrap();
+    let board = format!("{}/fixtures/shortboard.yaml", env!("CARGO_MANIFEST_DIR"));
+    for (paper, size_mm) in [("a4", [210.0, 297.0]), ("letter", [215.9, 279.4])] {
+        let out = format!("out-{paper}");
+        let o = blanksmith(
+            &["make", &board, "-o", &out, "--paper", paper, "--quiet"],
+            dir.path(),
+        );
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let pdf = dir
+            .path()
+            .join(&out)
+            .join("saltgrass-shortboard-6-2/saltgrass-shortboard-6-2.order.pdf");
+        let doc = lopdf::Document::load(&pdf).unwrap();
+        let pages = doc.get_pages();
+        assert_eq!(pages.len(), 1, "{paper}");
+        let (_, &id) = pages.iter().next().unwrap();
+        let media = doc.get_dictionary(id).unwrap().get(b"MediaBox").unwrap();
+        let m: Vec<f64> = media
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|o| {
+                o.as_float()
+                    .map(f64::from)
+                    .unwrap_or_else(|_| o.as_i64().unwrap() as f64)
+            })
+            .collect();
+        let pt = 72.0 / 25.4;
+        assert!(
+            (m[2] - size_mm[0] * pt).abs() < 0.01 && (m[3] - size_mm[1] * pt).abs() < 0.01,
+            "{paper}: {m:?}"
+        );
+        let text = doc.extract_text(&[1]).unwrap();
+        for want in [
+            "Ada Quillfeather",
+            "thruster",
+            "leash plug",
+            "glassing",
+            "finished weight about",
+            "on the router",
+        ] {
+            assert!(text.contains(want), "{paper}: no `{want}` in\n{text}");
+        }
+    }
+}
+
+/// The fin boxes and the plug routed on the shipped machine (its 1/4 in
+/// end mill), simulated: each pocket's plan area against the box's own
+/// geometry by hand (a 4 5/8 x 1/2 in slot with 1/4 in end radii: L W -
+/// (4 - pi) r^2 = 1457.3 mm²; the 1 in plug pi d²/4 = 506.7 mm²), its depth
+/// and volume against the description, and no gouge anywhere else.
+#[test]
+fn pockets_are_cut_to_the_box_geometry_and_nowhere_else() {
+    use blanksmith::commands::{self as jobs, Design};
+    let b = fixture("shortboard.yaml");
+    let m = blanksmith::profiles::machine::generic_machine();
+    let j = blanksmith::profiles::job::job_from_str("{}", "job.yaml", &m).unwrap();
+    let plan = jobs::plan_design(&Design::Board(Box::new(b.clone())), &m, &j, &|_| {}).unwrap();
+    let names: Vec<&str> = plan.programs.iter().map(|p| p.file_name.as_str()).collect();
+    assert!(
+        names.iter().any(|n| n.ends_with("-1-deck-T4.nc")),
+        "{names:?}"
+    );
+    assert!(
+        names.iter().any(|n| n.ends_with("-2-bottom-T4.nc")),
+        "{names:?}"
+    );
+    let v = jobs::verify_plan(&plan, &m, &j, &|_| {}).unwrap();
+    assert!(!v.has_findings(), "{}", v.text());
+    assert!(
+        v.gouge_max_mm.unwrap() <= v.gouge_tolerance_mm,
+        "{}",
+        v.text()
+    );
+    assert_eq!(v.pockets.len(), 4, "{}", v.text());
+    let slot = 117.475 * 12.7 - (4.0 - std::f64::consts::PI) * 6.35 * 6.35;
+    let plug = std::f64::consts::PI * 25.4 * 25.4 / 4.0;
+    for p in &v.pockets {
+        let want = if p.label == "leash plug" { plug } else { slot };
+        assert!(
+            (p.design_area_mm2 - want).abs() < 0.1,
+            "{}: {}",
+            p.label,
+            p.design_area_mm2
+        );
+        // Cells of 0.5 mm along a wall of about 260 mm: within 3 %.
+        assert!(
+            (p.area_mm2 - want).abs() < 0.03 * want,
+            "{}: {} mm² cut, {want} designed",
+            p.label,
+            p.area_mm2
+        );
+        // The floor follows the surface; a flat end mill on the rocker's
+        // slope cuts up to r tan(slope) deeper at its low edge (0.4 mm at
+        // 7°), and the depth is taken square to the design.
+        assert!(
+            p.depth_median_mm >= p.depth_mm - 0.1 && p.depth_median_mm <= p.depth_mm + 0.6,
+            "{}: {} deep at the median, {} designed",
+            p.label,
+            p.depth_median_mm,
+            p.depth_mm
+        );
+        assert!(p.depth_max_mm <= p.depth_mm + 1.0, "{}", p.label);
+        let nominal = want * p.depth_mm / 1000.0;
+        assert!(
+            (p.volume_ml - nominal).abs() < 0.06 * nominal,
+            "{}: {} ml, {nominal} by hand",
+            p.label,
+            p.volume_ml
+        );
+    }
+    // Without a small enough flat end mill the pockets are left to the
+    // shop, and the setup sheet says so.
+    let mut small = m.clone();
+    small.tools.retain(|t| t.id != 4);
+    let plan = jobs::plan_design(&Design::Board(Box::new(b)), &small, &j, &|_| {}).unwrap();
+    assert!(plan.pockets.is_empty());
+    assert!(plan.sheet.contains("not routed"), "{}", plan.sheet);
 }

@@ -343,7 +343,7 @@ fn run_rs274(rs274: &Path, program: &Path, work: &Path) -> String {
         // The shipped router's tools (fixtures/machine-gantry-3000.yaml).
         std::fs::write(
             &table,
-            "T1 P1 D19.05 Z0 ;\nT2 P2 D50.8 Z0 ;\nT3 P3 D12.7 Z0 ;\n",
+            "T1 P1 D19.05 Z0 ;\nT2 P2 D50.8 Z0 ;\nT3 P3 D12.7 Z0 ;\nT4 P4 D6.35 Z0 ;\n",
         )
         .unwrap();
     }

@@ -455,6 +455,7 @@ fn a_block_thicker_than_declared_still_gives_the_design_thickness() {
             design: Some(&plan.placement.part),
             keep: blanksmith::toolpath::setup::tab_rectangles(&plan.placement, &j),
             floor: None,
+            pockets: vec![],
         };
         simulate::verify(sources, &setting, VerifyOptions::default(), &|_| {}).unwrap()
     };

@@ -292,7 +292,10 @@ fn the_outline_template_holds_the_meshed_planform_for_every_tail() {
         "swallow",
         "diamond",
     ] {
-        let mut t = short.replace(
+        // The demo's fins are placed for its squash tail: other tails
+        // would move the rail under them, so they are left out here.
+        let bare = short.split("\n# Fins and plug").next().unwrap();
+        let mut t = bare.replace(
             "tail: squash",
             &if tail == "swallow" {
                 "tail: swallow\n  notch_depth: 4".to_string()

@@ -42,6 +42,7 @@ fn run(
         design,
         keep: vec![],
         floor: None,
+        pockets: vec![],
     };
     verify::verify(
         sources,

@@ -20,6 +20,7 @@ fuzz_target!(|data: &[u8]| {
         design: None,
         keep: vec![],
         floor: None,
+        pockets: vec![],
     };
     let sources = vec![ProgramSource { name: "fuzz.nc".into(), side: Side::Deck, reader: Box::new(data), loaded: None }];
     let _ = verify::verify(sources, &setting, VerifyOptions { cell: 1.0, ..Default::default() }, &|_| {});

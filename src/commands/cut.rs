@@ -166,6 +166,7 @@ pub fn cut_files(
         litres,
         mesh,
         apex.as_deref(),
+        design.board(),
         machine,
         job,
         progress,
@@ -305,6 +306,7 @@ pub fn plan_design(
         litres,
         &mesh,
         apex.as_deref(),
+        design.board(),
         machine,
         job,
         progress,
@@ -371,6 +373,7 @@ pub fn verify_plan_with(
         design: Some(&plan.placement.part),
         keep: crate::toolpath::setup::tab_rectangles(&plan.placement, job),
         floor: Some((&plan.placement, job.overlap)),
+        pockets: plan.pockets.clone(),
     };
     simulate::verify(sources, &setting, options, progress).map_err(JobError::Gcode)
 }

@@ -60,6 +60,7 @@ pub(crate) fn board_marker(name: &str) -> String {
 pub fn make(
     input: &Input,
     tolerance: f64,
+    paper: crate::template::tiling::Paper,
     out: &Path,
     cut: Option<&CutArgs>,
     progress: &(dyn Fn(&str) + Sync),
@@ -77,7 +78,7 @@ pub fn make(
         &design,
         &certified.mesh,
         Some(&report),
-        crate::template::tiling::A4,
+        paper,
         &[],
         &[],
         &dir,
@@ -122,6 +123,21 @@ pub fn make(
         )
     };
     files.push((dir.join("index.html"), page.into_bytes()));
+    // The order sheet: the order, the board, fins, glassing and weight, the cut.
+    let weight = crate::volume::weight::estimate(
+        &board,
+        &certified.mesh,
+        certified.certificate.mesh_litres * 1e6,
+    );
+    let summary = match &cutting {
+        Ok((plan, verification, _)) => cut_summary(plan, verification),
+        _ => vec![],
+    };
+    let sheet = crate::template::order::order_page(&board, &report, &weight, &summary, paper);
+    files.push((
+        dir.join(format!("{}.order.pdf", board.name)),
+        crate::template::tiling::to_pdf(&[sheet]),
+    ));
     let named: Vec<(String, Vec<u8>)> = files
         .into_iter()
         .map(|(p, b)| {
@@ -155,6 +171,51 @@ pub fn make(
         },
         cutting,
     })
+}
+
+/// The cut in a few lines for the order sheet.
+pub(crate) fn cut_summary(
+    plan: &CutPlan,
+    v: &crate::verify::simulate::Verification,
+) -> Vec<String> {
+    use crate::gcode::program::duration;
+    let [t1, t2] = setup_times(plan);
+    let b = &plan.placement.block;
+    let mut out = vec![
+        format!(
+            "cut: {} on the router (setup 1 {}, setup 2 {}), {} programs",
+            duration(t1 + t2),
+            duration(t1),
+            duration(t2),
+            plan.programs.len()
+        ),
+        format!(
+            "  stock: {} x {} x {}{}",
+            crate::units::Both(b.length),
+            crate::units::Both(b.width),
+            crate::units::Both(b.thickness),
+            if b.rocker.is_some() {
+                ", a rockered blank"
+            } else {
+                ""
+            }
+        ),
+    ];
+    out.push(format!(
+        "  simulated: {}; {:.2} L of foam cut away",
+        if v.has_findings() {
+            "FINDINGS (see the verification)".to_string()
+        } else {
+            match (v.gouge_max_mm, v.leftover_p95_mm) {
+                (Some(g), Some(p)) => format!(
+                    "clean, deepest gouge {g:.3} mm, 95 % of the stock left under {p:.3} mm"
+                ),
+                _ => "clean".to_string(),
+            }
+        },
+        v.removed_volume_litres
+    ));
+    out
 }
 
 pub(crate) fn setup_times(plan: &CutPlan) -> [f64; 2] {
@@ -245,6 +306,7 @@ pub(crate) fn duplicate_names(
 pub fn make_many(
     inputs: &[Input],
     tolerance: f64,
+    paper: crate::template::tiling::Paper,
     out: &Path,
     cut: Option<&CutArgs>,
     progress: &(dyn Fn(usize, &str) + Sync),
@@ -262,7 +324,7 @@ pub fn make_many(
         .enumerate()
         .map(|(k, input)| {
             std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-                make(input, tolerance, out, cut, &|s| progress(k, s))
+                make(input, tolerance, paper, out, cut, &|s| progress(k, s))
             }))
             .unwrap_or_else(|p| Err(JobError::Internal(panic_text(&p))))
         })

@@ -202,6 +202,14 @@ impl Design {
         }
     }
 
+    /// The description, when the design is one (not a mesh).
+    pub fn board(&self) -> Option<&Board> {
+        match self {
+            Design::Board(b) => Some(b),
+            Design::Mesh { .. } => None,
+        }
+    }
+
     /// The mesh to slice or cut (a board is meshed at `tolerance`).
     pub fn mesh(&self, tolerance: f64) -> Result<Mesh, JobError> {
         match self {

@@ -208,6 +208,7 @@ pub fn verify_programs(
             }
         },
     };
+    let block_for_pockets = block.clone();
     let mut sources = Vec::new();
     let count = args.programs.len();
     let mut zero_on_table = job.is_some();
@@ -258,6 +259,14 @@ pub fn verify_programs(
             .as_ref()
             .zip(job.as_ref())
             .map(|(p, j)| (p, j.overlap)),
+        // The design's fin boxes and plug, where the placement is known.
+        pockets: match (design.as_ref().and_then(Design::board), &placed, pose) {
+            (Some(b), Some(p), _) => crate::toolpath::pockets::zones(b, &p.pose, &p.block),
+            (Some(b), None, Some(pose)) if args.stock.is_none() => {
+                crate::toolpath::pockets::zones(b, &pose, &block_for_pockets)
+            }
+            _ => vec![],
+        },
     };
     let options = VerifyOptions {
         cell: args.cell,

@@ -7,6 +7,7 @@ use std::io::BufReader;
 use crate::gcode::read::{self, Event, Motion, ReadOptions};
 use crate::gcode::timing;
 use crate::gcode::write::{self, CAUTIONS, Header, StringerFeed};
+use crate::model::board::Board;
 use crate::model::job::{Block, Holding, Job};
 use crate::model::limits::{Bed, ROUNDING};
 use crate::model::machine::{Machine, Tool};
@@ -14,6 +15,7 @@ use crate::model::mesh::Mesh;
 use crate::model::toolpath::{Step, Toolpath};
 use crate::profiles::machine::mm_text;
 use crate::toolpath::paths::{self, SetupPaths};
+use crate::toolpath::pockets;
 use crate::toolpath::setup::{self, CamError, Placement, Pose, Side};
 use crate::units::{self, Unit};
 
@@ -60,14 +62,20 @@ pub struct CutPlan {
     pub programs: Vec<Program>,
     /// The setup sheet text.
     pub sheet: String,
+    /// The fins' boxes and the plug routed, for the simulation to measure.
+    pub pockets: Vec<pockets::PocketZone>,
 }
 
-/// Builds and checks the programs for a board mesh (nose at low X).
+/// Builds and checks the programs for a board mesh (nose at low X);
+/// with the board's description (`design`), its fin boxes and leash plug
+/// are routed too, when the machine has a flat end mill small enough.
+#[allow(clippy::too_many_arguments)]
 pub fn plan(
     name: &str,
     litres: f64,
     board: &Mesh,
     apex: Option<&[[f64; 3]]>,
+    design: Option<&Board>,
     machine: &Machine,
     job: &Job,
     progress: &(dyn Fn(&str) + Sync),
@@ -87,7 +95,42 @@ pub fn plan(
         })
     };
     let (deck, bottom) = rayon::join(|| one(Side::Deck), || one(Side::Bottom));
-    let setups = vec![deck, bottom];
+    let mut setups = vec![deck, bottom];
+    // The fins' boxes and the plug, last on their side.
+    let recesses = design.map(pockets::recesses).unwrap_or_default();
+    let mut pocket_zones = vec![];
+    let mut pocket_note = None;
+    if let (Some(b), false) = (design, recesses.is_empty()) {
+        match pockets::pocket_tool(machine, &recesses) {
+            Some(tool) => {
+                let pass = pockets::pocket_pass(tool, machine, job.roughing.climb);
+                for sp in &mut setups {
+                    if let Some(p) = pockets::pocket_paths(
+                        b,
+                        &recesses,
+                        &placement,
+                        &pass,
+                        sp.side,
+                        machine.clearance,
+                    ) {
+                        sp.paths.push(p);
+                    }
+                }
+                pocket_zones = pockets::zones(b, &placement.pose, &placement.block);
+            }
+            None => {
+                pocket_note = Some(format!(
+                    "fin boxes and leash plug: not routed, the machine has no flat end mill of at most {} (80 % of the narrowest pocket); rout them by hand or jig from the templates' marks, or add such a tool to the machine profile",
+                    units::Both(
+                        0.8 * recesses
+                            .iter()
+                            .map(pockets::Recess::narrowest)
+                            .fold(f64::INFINITY, f64::min)
+                    )
+                ));
+            }
+        }
+    }
     let mut programs = Vec::new();
     for sp in &setups {
         // Group the paths by tool, in cutting order.
@@ -181,12 +224,16 @@ pub fn plan(
             )));
         }
     }
-    let sheet = setup_sheet(name, litres, &placement, &programs, machine, job);
+    let mut sheet = setup_sheet(name, litres, &placement, &programs, machine, job);
+    if let Some(note) = pocket_note {
+        sheet.push_str(&format!("\nNOTE: {note}\n"));
+    }
     Ok(CutPlan {
         placement,
         setups,
         programs,
         sheet,
+        pockets: pocket_zones,
     })
 }
 

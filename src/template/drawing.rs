@@ -314,7 +314,8 @@ pub fn outline(side: &Side) -> Drawing {
 /// half, drawn from the stringer): each box's pocket, its fin's centreline
 /// run past both ends so its toe can be laid off with a straightedge, and
 /// what the shop reads beside it. Centre boxes straddle the stringer; the
-/// plug goes on the deck, the boxes on the bottom.
+/// plug goes on the deck, the boxes on the bottom. All are guides: the
+/// template's cut edge stays the outline alone.
 pub fn fitting_marks(board: &Board) -> Vec<Item> {
     let b = BORDER;
     let f = &board.fittings;
@@ -329,7 +330,7 @@ pub fn fitting_marks(board: &Board) -> Vec<Item> {
         items.push(Item::Line {
             points: pocket,
             closed: true,
-            role: Role::Cut,
+            role: Role::Guide,
         });
         let reach = 30.0;
         items.push(Item::Line {
@@ -381,7 +382,7 @@ pub fn fitting_marks(board: &Board) -> Vec<Item> {
         items.push(Item::Line {
             points: circle,
             closed: true,
-            role: Role::Cut,
+            role: Role::Guide,
         });
         let [x, y] = at(c);
         items.push(Item::Text {

@@ -2,3 +2,4 @@
 
 pub mod drawing;
 pub mod tiling;
+pub mod order;

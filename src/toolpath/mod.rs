@@ -5,4 +5,5 @@
 pub mod cradle;
 pub mod paths;
 pub mod pick;
+pub mod pockets;
 pub mod setup;

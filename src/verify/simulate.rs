@@ -14,6 +14,7 @@ use crate::model::job::Block;
 use crate::model::limits::Bed;
 use crate::model::machine::{Cutter, Machine, ToolKind};
 use crate::model::mesh::Mesh;
+use crate::toolpath::pockets::PocketZone;
 use crate::toolpath::setup::{Placement, Side, flip_mesh};
 
 use crate::geom::zmap::{Sweep, ZMap};
@@ -56,6 +57,9 @@ pub struct Setting<'a> {
     /// below, so the rail just above the parting line is out of the ball's
     /// reach.
     pub floor: Option<(&'a Placement, f64)>,
+    /// Pockets cut into the design on purpose (fin boxes, the plug): not
+    /// counted as gouges; each measured instead.
+    pub pockets: Vec<PocketZone>,
 }
 
 /// Verification options.
@@ -90,6 +94,27 @@ pub struct Finding {
     pub what: String,
     /// Where (X, Y) in program coordinates, mm.
     pub at: [f64; 2],
+}
+
+/// A pocket as the simulation cut it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PocketReport {
+    /// What it is.
+    pub label: String,
+    /// Setup 1 or 2.
+    pub setup: u8,
+    /// Designed depth, mm.
+    pub depth_mm: f64,
+    /// The median depth below the design over the cells inside, mm.
+    pub depth_median_mm: f64,
+    /// The deepest, mm.
+    pub depth_max_mm: f64,
+    /// Plan area cut to at least half the depth (cells x cell area), mm².
+    pub area_mm2: f64,
+    /// Designed plan area, mm².
+    pub design_area_mm2: f64,
+    /// Foam removed below the design surface, ml.
+    pub volume_ml: f64,
 }
 
 /// What each program does.
@@ -160,6 +185,9 @@ pub struct Verification {
     pub basis: Option<String>,
     /// Per program.
     pub programs: Vec<ProgramReport>,
+    /// Each pocket cut into the design on purpose, as simulated.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub pockets: Vec<PocketReport>,
     /// Deviation maps (setup 1, setup 2) for pictures; not in the JSON.
     #[serde(skip)]
     pub maps: Vec<DeviationMap>,
@@ -279,6 +307,20 @@ impl Verification {
                 at[2]
             );
         }
+        for p in &self.pockets {
+            let _ = writeln!(
+                s,
+                "pocket {} (setup {}): {:.2} mm deep at the median, {:.2} mm at most (designed {:.2} mm), {:.0} mm² cut (designed {:.0} mm²), {:.1} ml",
+                p.label,
+                p.setup,
+                p.depth_median_mm,
+                p.depth_max_mm,
+                p.depth_mm,
+                p.area_mm2,
+                p.design_area_mm2,
+                p.volume_ml
+            );
+        }
         let _ = writeln!(
             s,
             "removed {:.2} L of foam; tool travel {:.1} m; estimated run time {}",
@@ -371,6 +413,7 @@ pub fn verify(
         cell_mm: options.cell,
         basis: None,
         programs: vec![],
+        pockets: vec![],
         maps: vec![],
     };
     let mut side = Side::Deck;
@@ -640,6 +683,7 @@ pub fn verify(
         let (mut reach_left, mut out_of_reach) =
             ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
         let mut out_of_reach_cells = 0usize;
+        let mut pocket_cells: Vec<Vec<f64>> = vec![vec![]; setting.pockets.len()];
         for dm in &maps {
             for j in 0..dm.dims[1] {
                 for i in 0..dm.dims[0] {
@@ -665,6 +709,21 @@ pub fn verify(
                     {
                         continue;
                     }
+                    if let Some(k) = setting
+                        .pockets
+                        .iter()
+                        .position(|z| z.side == dm.side && z.contains([p[0], p[1]]))
+                    {
+                        pocket_cells[k].push(-d);
+                        continue;
+                    }
+                    // A cell at a pocket's wall stands beside a cliff as
+                    // deep as the pocket: it is judged neither way.
+                    if setting.pockets.iter().any(|z| {
+                        z.side == dm.side && z.edge_distance([p[0], p[1]]) <= 1.5 * options.cell
+                    }) {
+                        continue;
+                    }
                     if -d > gouge.0 {
                         gouge = (-d, p);
                     }
@@ -682,6 +741,25 @@ pub fn verify(
                     all.push(d.max(0.0) as f32);
                 }
             }
+        }
+        let cell_area = options.cell * options.cell;
+        for (z, mut cells) in setting.pockets.iter().zip(pocket_cells) {
+            cells.sort_by(f64::total_cmp);
+            let deep: Vec<f64> = cells
+                .iter()
+                .copied()
+                .filter(|&d| d >= z.depth / 2.0)
+                .collect();
+            v.pockets.push(PocketReport {
+                label: z.label.clone(),
+                setup: z.side.number() as u8,
+                depth_mm: z.depth,
+                depth_median_mm: deep.get(deep.len() / 2).copied().unwrap_or(0.0),
+                depth_max_mm: cells.last().copied().unwrap_or(0.0).max(0.0),
+                area_mm2: deep.len() as f64 * cell_area,
+                design_area_mm2: z.area,
+                volume_ml: cells.iter().map(|d| d.max(0.0)).sum::<f64>() * cell_area / 1000.0,
+            });
         }
         if !all.is_empty() {
             let k = ((all.len() as f64 * 0.95) as usize).min(all.len() - 1);
