@@ -148,6 +148,8 @@ pub struct BoardPage<'a> {
     pub rails: String,
     /// Every file of the board's folder (names relative to it).
     pub files: Vec<String>,
+    /// Fins, plug, glassing and the weight estimate: (what, lines).
+    pub fittings: Vec<(String, Vec<String>)>,
 }
 
 /// What the page says of the cutting stage.
@@ -247,6 +249,16 @@ pub fn board_page(p: &BoardPage) -> String {
         let _ = write!(s, "<h2>{}</h2>{}", esc(title), inline_svg(svg));
         if title.starts_with("Sections") && !p.rails.is_empty() {
             let _ = write!(s, "<h3>The rail, close up</h3>{}", p.rails);
+        }
+    }
+    if !p.fittings.is_empty() {
+        s.push_str("<h2>Fins, glassing and weight</h2>");
+        for (what, lines) in &p.fittings {
+            let _ = write!(s, "<h3>{}</h3><ul>", esc(what));
+            for l in lines {
+                let _ = write!(s, "<li>{}</li>", esc(l.trim()));
+            }
+            s.push_str("</ul>");
         }
     }
     match &p.cut {

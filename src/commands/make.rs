@@ -105,6 +105,12 @@ pub fn make(
         }
         _ => Err(None),
     };
+    // The weight and cloth, for the page and the order sheet.
+    let weight = crate::volume::weight::estimate(
+        &board,
+        &certified.mesh,
+        certified.certificate.mesh_litres * 1e6,
+    );
     let page = {
         let section = match &cutting {
             Ok((plan, verification, cut_files)) => {
@@ -120,15 +126,10 @@ pub fn make(
             &files,
             &dir,
             crate::page::rail_closeups(&board),
+            fitting_lines(&board, &weight),
         )
     };
     files.push((dir.join("index.html"), page.into_bytes()));
-    // The order sheet: the order, the board, fins, glassing and weight, the cut.
-    let weight = crate::volume::weight::estimate(
-        &board,
-        &certified.mesh,
-        certified.certificate.mesh_litres * 1e6,
-    );
     let summary = match &cutting {
         Ok((plan, verification, _)) => cut_summary(plan, verification),
         _ => vec![],
@@ -226,6 +227,66 @@ pub(crate) fn setup_times(plan: &CutPlan) -> [f64; 2] {
     t
 }
 
+/// The fins, the plug, the glassing and the weight, as the page lists them.
+pub(crate) fn fitting_lines(
+    board: &Board,
+    weight: &crate::volume::weight::Weight,
+) -> Vec<(String, Vec<String>)> {
+    use crate::units::Both;
+    let f = &board.fittings;
+    let mut fins = vec![match f.setup {
+        Some(s) => s.label().to_string(),
+        None => "none given".to_string(),
+    }];
+    for fin in &f.fins {
+        fins.push(format!(
+            "{}{}: box front {} from the tail{}; pocket {} x {}, {} deep",
+            fin.role,
+            if fin.centre { "" } else { " pair" },
+            Both(fin.from_tail),
+            if fin.centre {
+                ", on the stringer".to_string()
+            } else {
+                format!(
+                    ", {} in from the rail, toe {} deg, cant {} deg",
+                    Both(fin.from_rail),
+                    fin.toe,
+                    fin.cant
+                )
+            },
+            Both(fin.pocket.length),
+            Both(fin.pocket.width),
+            Both(fin.pocket.depth)
+        ));
+    }
+    if let Some(p) = f.plug {
+        fins.push(format!(
+            "leash plug: {} from the tail on the stringer, {} across, {} deep from the deck",
+            Both(p.from_tail),
+            Both(p.diameter),
+            Both(p.depth)
+        ));
+    }
+    let layers = |n: usize| match n {
+        1 => "1 layer".to_string(),
+        n => format!("{n} layers"),
+    };
+    let cloth = vec![format!(
+        "cloth to cut: deck {:.2} m² a layer ({}), bottom {:.2} m² a layer ({}); laps {} round a {:.2} m outline",
+        weight.deck_layer_m2,
+        layers(board.laminate.deck.len()),
+        weight.bottom_layer_m2,
+        layers(board.laminate.bottom.len()),
+        Both(board.laminate.lap),
+        weight.perimeter_m
+    )];
+    vec![
+        ("Fins and leash plug".to_string(), fins),
+        ("Glassing".to_string(), cloth),
+        ("Weight".to_string(), weight.text()),
+    ]
+}
+
 /// The board's report page from the files about to be written.
 pub(crate) fn board_page(
     report: &Report,
@@ -233,6 +294,7 @@ pub(crate) fn board_page(
     files: &Files,
     dir: &Path,
     rails: String,
+    fittings: Vec<(String, Vec<String>)>,
 ) -> String {
     let text = |suffix: &str| -> Option<&str> {
         files
@@ -268,6 +330,7 @@ pub(crate) fn board_page(
         deviations,
         rails,
         files: names,
+        fittings,
     })
 }
 

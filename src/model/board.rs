@@ -349,6 +349,16 @@ impl Board {
         self.outline.half_width(x, self.length)
     }
 
+    /// The fins' boxes placed on this board's outline.
+    pub fn fin_boxes(&self) -> Vec<crate::model::fittings::PlacedBox> {
+        self.fittings.boxes(self.length, |x| self.half_width(x))
+    }
+
+    /// The leash plug's centre in plan, if there is one.
+    pub fn plug_at(&self) -> Option<[f64; 2]> {
+        self.fittings.plug_at(self.length)
+    }
+
     /// Thickness at the stringer at x, closing included.
     pub fn thickness(&self, x: f64) -> f64 {
         self.foil.eval(x) * self.closing_factor(x)

@@ -9,8 +9,6 @@
 //! (length, width, depth, corner radius); the plug a round pocket on the
 //! stringer, from the deck.
 
-use crate::model::board::Board;
-
 /// The trade's fin setups.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum FinSetup {
@@ -191,13 +189,14 @@ impl PlacedBox {
 }
 
 impl Fittings {
-    /// Every box placed on `board`: a centre fin on the stringer, a side
-    /// fin's pair mirrored, toe turning each side fin's front toward the
-    /// stringer.
-    pub fn boxes(&self, board: &Board) -> Vec<PlacedBox> {
+    /// Every box placed on a board `length` long whose outline's
+    /// half-width at x is `half_width(x)`: a centre fin on the stringer, a
+    /// side fin's pair mirrored, toe turning each side fin's front toward
+    /// the stringer.
+    pub fn boxes(&self, length: f64, half_width: impl Fn(f64) -> f64) -> Vec<PlacedBox> {
         let mut out = vec![];
         for (k, f) in self.fins.iter().enumerate() {
-            let x = board.length - f.from_tail;
+            let x = length - f.from_tail;
             if f.centre {
                 out.push(PlacedBox {
                     fin: k,
@@ -208,7 +207,7 @@ impl Fittings {
                 });
                 continue;
             }
-            let y = board.half_width(x) - f.from_rail;
+            let y = half_width(x) - f.from_rail;
             let (s, c) = f.toe.to_radians().sin_cos();
             for side in [-1i8, 1] {
                 let sd = side as f64;
@@ -225,8 +224,8 @@ impl Fittings {
         out
     }
 
-    /// The plug's centre in plan.
-    pub fn plug_at(&self, board: &Board) -> Option<[f64; 2]> {
-        self.plug.map(|p| [board.length - p.from_tail, 0.0])
+    /// The plug's centre in plan on a board `length` long.
+    pub fn plug_at(&self, length: f64) -> Option<[f64; 2]> {
+        self.plug.map(|p| [length - p.from_tail, 0.0])
     }
 }

@@ -321,7 +321,7 @@ pub fn fitting_marks(board: &Board) -> Vec<Item> {
     let f = &board.fittings;
     let at = |p: [f64; 2]| [b + p[0], b + p[1]];
     let mut items = vec![];
-    for bx in f.boxes(board).iter().filter(|bx| bx.side >= 0) {
+    for bx in board.fin_boxes().iter().filter(|bx| bx.side >= 0) {
         let fin = &f.fins[bx.fin];
         let mut pocket: Vec<[f64; 2]> = bx.outline(0.0, 8).into_iter().map(at).collect();
         if let Some(&first) = pocket.first() {
@@ -371,7 +371,7 @@ pub fn fitting_marks(board: &Board) -> Vec<Item> {
             text,
         });
     }
-    if let (Some(c), Some(p)) = (f.plug_at(board), f.plug) {
+    if let (Some(c), Some(p)) = (board.plug_at(), f.plug) {
         let r = p.diameter / 2.0;
         let circle: Vec<[f64; 2]> = (0..=48)
             .map(|k| {

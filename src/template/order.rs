@@ -182,14 +182,14 @@ pub fn order_page(
         dashed: true,
         grey: true,
     });
-    for bx in f.boxes(board) {
+    for bx in board.fin_boxes() {
         let mut p: Vec<[f64; 2]> = bx.outline(0.0, 4).into_iter().map(pt).collect();
         if let Some(&first) = p.first() {
             p.push(first);
         }
         m.push(line(p, 0.25, false));
     }
-    if let (Some(c), Some(p)) = (f.plug_at(board), f.plug) {
+    if let (Some(c), Some(p)) = (board.plug_at(), f.plug) {
         let r = p.diameter / 2.0;
         let circle = (0..=24)
             .map(|i| {

@@ -78,8 +78,8 @@ impl Recess {
 /// Every pocket of the board's fins and plug.
 pub fn recesses(board: &Board) -> Vec<Recess> {
     let f = &board.fittings;
-    let mut out: Vec<Recess> = f
-        .boxes(board)
+    let mut out: Vec<Recess> = board
+        .fin_boxes()
         .into_iter()
         .map(|b| {
             let fin = &f.fins[b.fin];
@@ -96,7 +96,7 @@ pub fn recesses(board: &Board) -> Vec<Recess> {
             }
         })
         .collect();
-    if let (Some(c), Some(p)) = (f.plug_at(board), f.plug) {
+    if let (Some(c), Some(p)) = (board.plug_at(), f.plug) {
         out.push(Recess {
             label: "leash plug".into(),
             side: Side::Deck,

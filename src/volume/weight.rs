@@ -128,7 +128,7 @@ pub fn estimate(board: &Board, mesh: &Mesh, volume_mm3: f64) -> Weight {
     };
     let foam_v = (volume_mm3 - stringer_v).max(0.0);
     let foam = foam_v * lam.foam_density * kg_per_mm3_to_g;
-    let boxes = board.fittings.boxes(board).len();
+    let boxes = board.fin_boxes().len();
     let plug = usize::from(board.fittings.plug.is_some());
     let layers = |l: &[f64]| {
         if l.is_empty() {

@@ -296,7 +296,7 @@ pub(super) fn fittings(
             };
             out.fins.push(fin);
         }
-        for b in out.boxes(board) {
+        for b in out.boxes(board.length, |x| board.half_width(x)) {
             check_box(cx, f, &out, &b, board, stringer)?;
         }
     }
