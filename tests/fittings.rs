@@ -235,6 +235,12 @@ fn bad_fittings_are_refused_at_their_place() {
             "fins.centre.toe",
             "does not apply",
         ),
+        (
+            "from_rail: 2 1/8",
+            "from_rail: 11",
+            "fins.side.from_rail",
+            "past the stringer",
+        ),
         ("toe: 2,", "toe: 25,", "fins.side.toe", "from 0 to 10"),
         (
             "leash_plug: {from_tail: 4 1/2}",

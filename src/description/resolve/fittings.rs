@@ -417,6 +417,17 @@ fn check_box(
     } else {
         format!("the {} fins' boxes", fin.role)
     };
+    if !fin.centre && b.front[1] * f64::from(b.side) <= fin.pocket.width {
+        return cx.fail(
+            &loc(role.as_ref().and_then(|r| r.from_rail.as_ref())),
+            &format!("{field}.from_rail"),
+            format!(
+                "{name} would sit {} from the rail, at or past the stringer: a side fin belongs out toward its own rail",
+                show(fin.from_rail)
+            ),
+            "a smaller from_rail",
+        );
+    }
     let mut pts = b.outline(0.0, 6);
     pts.push(b.middle());
     for p in pts {
