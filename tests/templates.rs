@@ -432,3 +432,59 @@ fn labels_are_in_the_boards_units_and_sections_name_both_ends() {
         "{t:?}"
     );
 }
+
+/// The rocker template is a closed strip a shaper can cut out: the bottom
+/// curve on top, square ends, a straight back 40 mm under the baseline;
+/// the curve stands the description's rocker above the baseline (the
+/// board's own rocker curve, within 0.05 mm); every station tick is named
+/// by its distance from the nose and its height.
+#[test]
+fn the_rocker_template_is_closed_and_labelled_at_its_stations() {
+    let b = board();
+    let side = template::side_of(&b);
+    let d = template::rocker(&side);
+    let Some(Item::Line {
+        points,
+        closed,
+        role: Role::Cut,
+    }) = d.items.first()
+    else {
+        panic!("the rocker's cut line comes first");
+    };
+    assert!(*closed);
+    let n = points.len();
+    let (back_tail, back_nose) = (points[n - 2], points[n - 1]);
+    assert!(
+        (back_tail[1] - back_nose[1]).abs() < 1e-9,
+        "the back is straight"
+    );
+    let base = back_nose[1] + template::BACK;
+    // The curve's points against the description's rocker.
+    for p in &points[..n - 2] {
+        let x = p[0] - template::BORDER;
+        let want = b.rocker.eval(x);
+        assert!(
+            (p[1] - base - want).abs() < 0.05,
+            "at {x}: {} above the baseline, rocker {want}",
+            p[1] - base
+        );
+    }
+    // Ends square: the back's ends under the curve's ends.
+    assert!((back_nose[0] - points[0][0]).abs() < 1e-9);
+    assert!((back_tail[0] - points[n - 3][0]).abs() < 1e-9);
+    let texts: Vec<&str> = d
+        .items
+        .iter()
+        .filter_map(|i| match i {
+            Item::Text { text, .. } => Some(text.as_str()),
+            _ => None,
+        })
+        .collect();
+    let stations = (b.length / (6.0 * 25.4)).floor() as usize;
+    let named = texts.iter().filter(|t| t.ends_with("from nose")).count();
+    assert!(
+        named + 1 >= stations && named <= stations,
+        "{named} of {stations}"
+    );
+    assert!(texts.iter().any(|t| t.starts_with("rocker ")));
+}

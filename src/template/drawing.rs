@@ -60,6 +60,11 @@ pub struct Drawing {
 /// Space around every drawing, mm.
 pub const BORDER: f64 = 20.0;
 
+/// How far the rocker template's straight back stands below its
+/// baseline, mm: a strip that does not pinch where the rocker touches the
+/// flat.
+pub const BACK: f64 = 40.0;
+
 /// The board's curves at the stringer, sampled along the length.
 pub struct Side {
     /// Name of the board.
@@ -407,14 +412,19 @@ pub fn rocker(side: &Side) -> Drawing {
     let l = side.length();
     let zmin = side.bottom.iter().fold(0.0f64, |m, &v| m.min(v));
     let top = side.deck.iter().fold(0.0f64, |m, &v| m.max(v));
-    let base = b - zmin;
+    // The template is a strip: the rocker curve on top, a straight back
+    // BACK below the baseline, square ends; cut round, it lies on the
+    // board's bottom along the stringer.
+    let base = b + BACK - zmin;
     let mut items = vec![];
-    let bottom: Vec<[f64; 2]> = side
+    let mut bottom: Vec<[f64; 2]> = side
         .x
         .iter()
         .zip(&side.bottom)
         .map(|(&x, &z)| [b + x, base + z])
         .collect();
+    bottom.push([b + l, base - BACK]);
+    bottom.push([b, base - BACK]);
     let deck: Vec<[f64; 2]> = side
         .x
         .iter()
@@ -423,7 +433,7 @@ pub fn rocker(side: &Side) -> Drawing {
         .collect();
     items.push(Item::Line {
         points: bottom,
-        closed: false,
+        closed: true,
         role: Role::Cut,
     });
     items.push(Item::Line {
@@ -441,6 +451,14 @@ pub fn rocker(side: &Side) -> Drawing {
         size: 4.0,
         text: "BASELINE: the flat the board rests on".into(),
     });
+    items.push(Item::Text {
+        at: [b + 5.0, base - BACK + 3.0],
+        size: 3.0,
+        text: format!(
+            "straight back {} below the baseline: cut round the solid line",
+            label(BACK)
+        ),
+    });
     let step = side.step;
     let mut x = step;
     while x < l - 1.0 {
@@ -451,9 +469,14 @@ pub fn rocker(side: &Side) -> Drawing {
             role: Role::Guide,
         });
         items.push(Item::Text {
+            at: [b + x + 1.0, base + z + 7.0],
+            size: 3.0,
+            text: format!("{} from nose", side.distance(x)),
+        });
+        items.push(Item::Text {
             at: [b + x + 1.0, base + z + 3.0],
             size: 3.0,
-            text: label(z),
+            text: format!("rocker {}", label(z)),
         });
         x += step;
     }
@@ -480,7 +503,7 @@ pub fn rocker(side: &Side) -> Drawing {
         kind: "rocker",
         title: format!("{}: rocker at the stringer, full size", side.name),
         width: l + 2.0 * b,
-        height: top - zmin + 2.0 * b + 12.0,
+        height: top - zmin + 2.0 * b + BACK + 12.0,
         items,
     }
 }
