@@ -131,12 +131,12 @@ fn the_same_input_gives_byte_identical_files() {
         files_under(a.path()),
         files_under(&b.path().join("out/saltgrass-fish-5-6")),
     );
-    // STL, JSON and text reports, the templates' PDF and three SVGs; eight
-    // programs (roughing, finishing, rails and the pockets a side), the
-    // setup sheet, the verification's JSON, text and two pictures; the
-    // order sheet; the report page.
-    assert_eq!(fa.len(), 22, "{fa:?}");
-    assert_eq!(fb.len(), 22, "{fb:?}");
+    // STL, JSON and text reports, the templates' PDF, three SVGs and three
+    // DXFs; eight programs (roughing, finishing, rails and the pockets a
+    // side), the setup sheet, the verification's JSON, text and two
+    // pictures; the order sheet; the report page.
+    assert_eq!(fa.len(), 25, "{fa:?}");
+    assert_eq!(fb.len(), 25, "{fb:?}");
     for (x, y) in fa.iter().zip(&fb) {
         assert_eq!(x.file_name(), y.file_name());
         assert_eq!(

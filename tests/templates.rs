@@ -488,3 +488,109 @@ fn the_rocker_template_is_closed_and_labelled_at_its_stations() {
     );
     assert!(texts.iter().any(|t| t.starts_with("rocker ")));
 }
+
+/// The DXF of every template of every fixture, read back with the `dxf`
+/// crate, holds the same lines as the SVG read back with roxmltree: the
+/// same number of polylines on each layer (cut edges black in the SVG,
+/// guides grey), the same points to the SVG's 3 decimals (y flipped: the
+/// DXF keeps the drawing's y up, and the SVG's height is rounded
+/// too: 0.0011 mm), the same closures, the same labels; and
+/// the file says millimetres.
+#[test]
+fn dxf_templates_hold_the_svgs_lines_and_labels() {
+    for fixture in ["shortboard", "fish", "longboard", "check-box"] {
+        let path = format!("{}/fixtures/{fixture}.yaml", env!("CARGO_MANIFEST_DIR"));
+        let b = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
+        let name = b.name.clone();
+        let dir = tempfile::tempdir().unwrap();
+        jobs::templates(
+            &Design::Board(Box::new(b)),
+            tiling::paper("a4").unwrap(),
+            &["outline".into(), "rocker".into(), "sections".into()],
+            &[],
+            dir.path(),
+        )
+        .unwrap();
+        for kind in ["outline", "rocker", "sections"] {
+            let svg =
+                std::fs::read_to_string(dir.path().join(format!("{name}.{kind}.svg"))).unwrap();
+            let doc = roxmltree::Document::parse(&svg).unwrap();
+            let height: f64 = doc
+                .root_element()
+                .attribute("height")
+                .unwrap()
+                .trim_end_matches("mm")
+                .parse()
+                .unwrap();
+            let svg_lines: Vec<(&str, bool, Vec<[f64; 2]>)> = doc
+                .descendants()
+                .filter(|n| n.has_tag_name("path"))
+                .map(|n| {
+                    let d = n.attribute("d").unwrap();
+                    let layer = if n.attribute("stroke") == Some("black") {
+                        "CUT"
+                    } else {
+                        "GUIDE"
+                    };
+                    let points = d
+                        .split(['M', 'L', 'Z'])
+                        .map(str::trim)
+                        .filter(|s| !s.is_empty())
+                        .map(|p| {
+                            let (x, y) = p.split_once(',').unwrap();
+                            [x.parse().unwrap(), y.parse().unwrap()]
+                        })
+                        .collect();
+                    (layer, d.ends_with('Z'), points)
+                })
+                .collect();
+            let svg_texts: Vec<String> = doc
+                .descendants()
+                .filter(|n| n.has_tag_name("text"))
+                .map(|n| n.text().unwrap_or("").to_string())
+                .collect();
+
+            let file = dir.path().join(format!("{name}.{kind}.dxf"));
+            let drawing = dxf::Drawing::load_file(&file).unwrap();
+            assert_eq!(
+                drawing.header.default_drawing_units,
+                dxf::enums::Units::Millimeters
+            );
+            let mut lines = vec![];
+            let mut texts = vec![];
+            for e in drawing.entities() {
+                match &e.specific {
+                    dxf::entities::EntityType::LwPolyline(p) => lines.push((
+                        e.common.layer.clone(),
+                        p.is_closed(),
+                        p.vertices.iter().map(|v| [v.x, v.y]).collect::<Vec<_>>(),
+                    )),
+                    dxf::entities::EntityType::Text(t) => {
+                        assert_eq!(e.common.layer, "TEXT");
+                        texts.push(t.value.clone());
+                    }
+                    other => panic!("{kind}: unexpected entity {other:?}"),
+                }
+            }
+            assert_eq!(lines.len(), svg_lines.len(), "{name} {kind}: polylines");
+            assert!(
+                lines.iter().any(|l| l.0 == "CUT"),
+                "{name} {kind}: a cut edge"
+            );
+            for ((layer, closed, pts), (svg_layer, svg_closed, svg_pts)) in
+                lines.iter().zip(&svg_lines)
+            {
+                assert_eq!(layer, svg_layer, "{name} {kind}");
+                assert_eq!(closed, svg_closed, "{name} {kind}");
+                assert_eq!(pts.len(), svg_pts.len(), "{name} {kind}");
+                for (p, q) in pts.iter().zip(svg_pts) {
+                    assert!(
+                        (p[0] - q[0]).abs() <= 0.0006 && (height - p[1] - q[1]).abs() <= 0.0011,
+                        "{name} {kind}: DXF {p:?} against SVG {q:?}"
+                    );
+                }
+            }
+            assert_eq!(texts, svg_texts, "{name} {kind}: labels");
+        }
+    }
+}

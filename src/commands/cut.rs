@@ -28,7 +28,7 @@ pub(crate) fn cut_family(name: &str) -> impl Fn(&str) -> bool + '_ {
             || n == format!("{name}.cradles.pdf")
             || n.strip_prefix(name)
                 .and_then(|r| r.strip_prefix(".cradle-"))
-                .is_some_and(|r| matches!(r, "1.svg" | "2.svg"))
+                .is_some_and(|r| matches!(r, "1.svg" | "2.svg" | "1.dxf" | "2.dxf"))
             || n.strip_prefix(name)
                 .is_some_and(|r| r.starts_with(".verify."))
         {
@@ -223,6 +223,10 @@ pub fn cut_files(
             files.push((
                 dir.join(format!("{}.cradle-{setup}.svg", design.name())),
                 crate::template::drawing::to_svg(d).into_bytes(),
+            ));
+            files.push((
+                dir.join(format!("{}.cradle-{setup}.dxf", design.name())),
+                crate::template::dxf::to_dxf(d).map_err(JobError::Internal)?,
             ));
         }
     }

@@ -18,7 +18,7 @@ pub struct Templates {
 }
 
 /// Writes the full-size templates of a design: `DIR/<name>.templates.pdf`
-/// (tiled on `paper`) and one SVG a template. `only` picks from outline,
+/// (tiled on `paper`) one SVG and one DXF a template. `only` picks from outline,
 /// rocker, sections, sheet; `stations` (mm from the nose) places the
 /// sections (default: 12 in from each tip and the wide point).
 pub fn templates(
@@ -122,6 +122,10 @@ pub(crate) fn template_files(
         files.push((
             dir.join(format!("{name}.{}.svg", d.kind)),
             template::to_svg(d).into_bytes(),
+        ));
+        files.push((
+            dir.join(format!("{name}.{}.dxf", d.kind)),
+            crate::template::dxf::to_dxf(d).map_err(JobError::Internal)?,
         ));
     }
     Ok((drawings, pages.len(), files))

@@ -1,5 +1,7 @@
-//! Full-size templates: drawings in millimetres, tiled onto paper.
+//! Full-size templates: drawings in millimetres, tiled onto paper, or
+//! written whole as SVG and DXF.
 
 pub mod drawing;
 pub mod tiling;
 pub mod order;
+pub mod dxf;
