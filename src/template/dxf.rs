@@ -44,15 +44,17 @@ pub fn to_dxf(d: &Drawing) -> Result<Vec<u8>, String> {
                 closed,
                 role,
             } => {
-                let mut line = LwPolyline::default();
-                line.vertices = points
-                    .iter()
-                    .map(|p| LwPolylineVertex {
-                        x: p[0],
-                        y: p[1],
-                        ..Default::default()
-                    })
-                    .collect();
+                let mut line = LwPolyline {
+                    vertices: points
+                        .iter()
+                        .map(|p| LwPolylineVertex {
+                            x: p[0],
+                            y: p[1],
+                            ..Default::default()
+                        })
+                        .collect(),
+                    ..Default::default()
+                };
                 line.set_is_closed(*closed);
                 let layer = match role {
                     Role::Cut => CUT,
