@@ -394,7 +394,7 @@ pub(crate) fn verification_files(v: &Verification, name: &str, dir: &Path) -> Fi
             v.text().into_bytes(),
         ),
     ];
-    let scale = v.leftover_p95_mm.unwrap_or(0.1).max(v.gouge_tolerance_mm) * 4.0;
+    let scale = picture::colour_scale(v);
     for m in &v.maps {
         let title = format!(
             "{name}: setup {} ({} up), stock left (blue) and gouges (red), plan view from above",

@@ -127,6 +127,7 @@ pub fn make(
             &dir,
             crate::page::rail_closeups(&board),
             fitting_lines(&board, &weight),
+            screen_scene(&board, &cutting),
         )
     };
     files.push((dir.join("index.html"), page.into_bytes()));
@@ -287,6 +288,20 @@ pub(crate) fn fitting_lines(
     ]
 }
 
+/// The 3D view's scene: the board meshed coarsely for the screen, placed
+/// and painted by the simulation when it was cut. None when the coarse
+/// mesh cannot be made (the page then goes without the view).
+fn screen_scene<E>(
+    board: &Board,
+    cutting: &Result<(CutPlan, crate::verify::simulate::Verification, Files), E>,
+) -> Option<crate::page::scene::Scene> {
+    use crate::page::scene;
+    let mesh = crate::meshing::mesher::mesh_board(board, scene::SCREEN_TOLERANCE).ok()?;
+    let cut = cutting.as_ref().ok().map(|(plan, v, _)| (plan, v));
+    let scale = cut.map_or(1.0, |(_, v)| crate::verify::picture::colour_scale(v));
+    Some(scene::scene(&mesh, cut, scale))
+}
+
 /// The board's report page from the files about to be written.
 pub(crate) fn board_page(
     report: &Report,
@@ -295,6 +310,7 @@ pub(crate) fn board_page(
     dir: &Path,
     rails: String,
     fittings: Vec<(String, Vec<String>)>,
+    scene: Option<crate::page::scene::Scene>,
 ) -> String {
     let text = |suffix: &str| -> Option<&str> {
         files
@@ -331,6 +347,7 @@ pub(crate) fn board_page(
         rails,
         files: names,
         fittings,
+        scene,
     })
 }
 

@@ -89,6 +89,13 @@ pub fn base64(bytes: &[u8]) -> String {
     s
 }
 
+/// The deviation drawn at full colour, mm: four times the larger of the
+/// stock left under 95 % of the surface and the gouge tolerance, so the
+/// common leftover shows pale and anything unusual strong.
+pub fn colour_scale(v: &crate::verify::simulate::Verification) -> f64 {
+    v.leftover_p95_mm.unwrap_or(0.1).max(v.gouge_tolerance_mm) * 4.0
+}
+
 /// The SVG: the map at true scale (1 user unit = 1 mm), title, legend.
 pub fn svg(map: &DeviationMap, scale: f64, title: &str) -> String {
     let w = map.dims[0] as f64 * map.cell[0];

@@ -1,12 +1,13 @@
-//! The report page: one self-contained `index.html` per board (no network,
-//! no scripts, no external fonts), and one listing every board of a run.
+//! The report page: one self-contained `index.html` per board (nothing
+//! fetched, no external fonts: it opens from disk), with a 3D view drawn by
+//! its one script ([`scene`]), and one page listing every board of a run.
+
+pub mod scene;
 
 use std::fmt::Write as _;
 
 use crate::gcode::program::{self, CutPlan};
 use crate::model::board::{Board, RailProfile};
-use crate::model::toolpath::Step;
-use crate::toolpath::setup::flip;
 use crate::units::Both;
 use crate::verify::simulate::Verification;
 use crate::volume::report::Report;
@@ -71,69 +72,6 @@ fn litres_chart(r: &Report) -> String {
     s
 }
 
-/// Each setup's cutting moves drawn in plan (every roughing and outline
-/// move, every 4th finishing move), in setup-1 coordinates.
-fn toolpath_svg(plan: &CutPlan, side: usize) -> String {
-    let b = &plan.placement.block;
-    let (w, h) = (b.length, b.width);
-    let mut s = format!(
-        "<svg class=\"fig\" xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"-10 -10 {:.0} {:.0}\" width=\"{:.0}\" height=\"{:.0}\"><rect x=\"0\" y=\"0\" width=\"{w:.1}\" height=\"{h:.1}\" fill=\"#f6f0e0\" stroke=\"#999\"/>",
-        w + 20.0,
-        h + 20.0,
-        (w + 20.0) / 2.0,
-        (h + 20.0) / 2.0
-    );
-    let colours = [
-        ("registration holes", "#000"),
-        ("roughing", "#c07020"),
-        ("outline", "#a00"),
-        ("finishing", "#2060c0"),
-        ("rails", "#2a9a50"),
-    ];
-    let sp = &plan.setups[side];
-    for p in &sp.paths {
-        let colour = colours
-            .iter()
-            .find(|c| c.0 == p.label)
-            .map_or("#444", |c| c.1);
-        let every = if matches!(p.label, "finishing" | "rails") {
-            4
-        } else {
-            1
-        };
-        let mut d = String::new();
-        let mut pen = false;
-        for (k, st) in p.steps.iter().enumerate() {
-            let (q, cut) = match *st {
-                Step::Rapid(q) => (q, false),
-                Step::Plunge(q) | Step::Cut(q) => (q, true),
-                Step::Arc { to, .. } => (to, true),
-            };
-            let q = if sp.side == crate::toolpath::setup::Side::Bottom {
-                flip(q, b)
-            } else {
-                q
-            };
-            if !cut {
-                pen = false;
-                continue;
-            }
-            if !pen {
-                let _ = write!(d, "M{:.1} {:.1}", q[0], h - q[1]);
-                pen = true;
-            } else if k % every == 0 {
-                let _ = write!(d, "L{:.1} {:.1}", q[0], h - q[1]);
-            }
-        }
-        let _ = write!(
-            s,
-            "<path d=\"{d}\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"0.6\" opacity=\"0.7\"/>"
-        );
-    }
-    s.push_str("</svg>");
-    s
-}
-
 /// What a board's page shows.
 pub struct BoardPage<'a> {
     /// The report.
@@ -150,6 +88,33 @@ pub struct BoardPage<'a> {
     pub files: Vec<String>,
     /// Fins, plug, glassing and the weight estimate: (what, lines).
     pub fittings: Vec<(String, Vec<String>)>,
+    /// The 3D view's data, when a screen mesh could be made.
+    pub scene: Option<scene::Scene>,
+}
+
+/// The 3D view: a place for the canvas, its switches and legend, the
+/// packed libraries and scene, and the script that draws them.
+fn view(sc: &scene::Scene) -> String {
+    let (three, orbit) = scene::libraries();
+    let mut s = String::from(
+        "<h2>The board in 3D</h2><p id=\"view-status\">The 3D view needs JavaScript and WebGL; the drawings below show the same board.</p><div id=\"view\" style=\"width:100%;border:1px solid #ddd\"></div><div id=\"view-switches\" style=\"margin:0.5em 0\"></div>",
+    );
+    if sc.index.contains("\"colours\"") {
+        let scale = sc.scale;
+        let _ = write!(
+            s,
+            "<p>Colours: the simulated finish of the programs below, as in the deviation maps: <span style=\"background:linear-gradient(90deg,#0000ff,#ffffff,#ff0000);display:inline-block;width:12em;height:0.8em;border:1px solid #999\"></span> blue is stock left, red a gouge, full colour at {scale:.2} mm; white within ±{:.3} mm; grey the routed fin boxes and plug; cream where the maps hold nothing. The deck is coloured by setup 1's map, the bottom by setup 2's, each point by the mean within 3 mm (or the deepest gouge there, where one is deeper than the tolerance).</p>",
+            scale / 50.0
+        );
+    }
+    let _ = write!(
+        s,
+        "<pre id=\"view-check\" hidden></pre><script type=\"application/json\" id=\"scene-index\">{}</script><script type=\"application/octet-stream\" id=\"scene-data\">{}</script><script type=\"application/octet-stream\" id=\"three-js\">{three}</script><script type=\"application/octet-stream\" id=\"orbit-js\">{orbit}</script><script>{}</script>",
+        sc.index,
+        sc.data,
+        scene::VIEW_JS
+    );
+    s
 }
 
 /// What the page says of the cutting stage.
@@ -219,6 +184,9 @@ pub fn board_page(p: &BoardPage) -> String {
         Both(r.thickness_mm),
         esc(&r.tail)
     );
+    if let Some(sc) = &p.scene {
+        s.push_str(&view(sc));
+    }
     let c = &r.certificate;
     let _ = writeln!(
         s,
@@ -267,17 +235,8 @@ pub fn board_page(p: &BoardPage) -> String {
             for l in plan.placement.fit_lines() {
                 let _ = write!(s, "<li>{}</li>", esc(&l));
             }
-            s.push_str("</ul><h2>Toolpaths</h2>");
-            for (k, name) in [
-                "Setup 1: deck up",
-                "Setup 2: bottom up (drawn as seen in setup 1)",
-            ]
-            .iter()
-            .enumerate()
-            {
-                let _ = write!(s, "<h3>{name}</h3>{}", toolpath_svg(plan, k));
-            }
-            s.push_str("<p>Black: registration holes; orange: roughing; red: outline; blue: finishing; green: the rail band (finishing and rails every 4th move).</p><table><tr><th class=\"l\">program</th><th class=\"l\">tool</th><th class=\"l\">cuts</th><th>time</th></tr>");
+            s.push_str("</ul><h2>Toolpaths</h2><p>Each setup's moves are drawn on the board in the 3D view above (switch them on by setup and operation; setup 2's turned back over the bottom).</p>");
+            s.push_str("<table><tr><th class=\"l\">program</th><th class=\"l\">tool</th><th class=\"l\">cuts</th><th>time</th></tr>");
             for pr in &plan.programs {
                 let _ = write!(
                     s,
