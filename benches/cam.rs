@@ -165,7 +165,7 @@ fn templates_demo_a4() -> usize {
     ];
     let mut pages = vec![];
     for d in &drawings {
-        pages.extend(tiling::tile(d, tiling::A4, &board.name));
+        pages.extend(tiling::tile(d, tiling::A4));
     }
     tiling::to_pdf(&pages).len()
         + drawings

@@ -594,3 +594,198 @@ fn dxf_templates_hold_the_svgs_lines_and_labels() {
         }
     }
 }
+
+/// Helvetica's advance widths per 1000 units of the font size, from
+/// Adobe's Helvetica AFM (from memory; the standard 14 fonts' metrics);
+/// a character not listed counts 1000 (wider than any).
+fn helvetica(c: char) -> f64 {
+    let w = match c {
+        ' ' | '.' | ',' | ':' | ';' | '/' | '!' | 'f' | 't' | 'I' => 278,
+        'i' | 'j' | 'l' => 222,
+        'r' | '-' | '(' | ')' => 333,
+        '\'' => 191,
+        '"' => 355,
+        '0'..='9'
+        | 'a'
+        | 'b'
+        | 'd'
+        | 'e'
+        | 'g'
+        | 'h'
+        | 'n'
+        | 'o'
+        | 'p'
+        | 'q'
+        | 'u'
+        | '?'
+        | '#'
+        | '_' => 556,
+        'c' | 'k' | 's' | 'v' | 'x' | 'y' | 'z' | 'J' => 500,
+        '+' | '=' => 584,
+        'F' | 'T' | 'Z' => 611,
+        'A' | 'B' | 'E' | 'K' | 'P' | 'S' | 'V' | 'X' | 'Y' | '&' => 667,
+        'C' | 'D' | 'H' | 'N' | 'R' | 'U' | 'w' => 722,
+        'G' | 'O' | 'Q' => 778,
+        'L' => 556,
+        'M' | 'm' => 833,
+        '%' => 889,
+        'W' => 944,
+        _ => 1000,
+    };
+    f64::from(w) / 1000.0
+}
+
+/// Every page's own furniture (headings, instructions, bars, the tile's
+/// frame) stays inside the printable area, 10 mm in from each edge, on A4,
+/// Letter, A3, Tabloid and a 914 mm roll, for every template and the
+/// shaping sheet: read back with lopdf, text measured with Helvetica's
+/// widths (Courier's 0.6 em for the sheet). And no page is blank: each
+/// tile shows part of its drawing.
+#[test]
+fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
+    let board = board();
+    for paper in ["a4", "letter", "a3", "tabloid", "roll:914mm"] {
+        let dir = tempfile::tempdir().unwrap();
+        jobs::templates(
+            &Design::Board(Box::new(board.clone())),
+            tiling::paper(paper).unwrap(),
+            &[],
+            &[],
+            dir.path(),
+        )
+        .unwrap();
+        let pdf = std::fs::read(dir.path().join("saltgrass-shortboard-6-2.templates.pdf")).unwrap();
+        let doc = Document::load_mem(&pdf).unwrap();
+        for (n, (_, id)) in doc.get_pages().into_iter().enumerate() {
+            let dict = doc.get_object(id).unwrap().as_dict().unwrap();
+            let mb: Vec<f64> = dict
+                .get(b"MediaBox")
+                .unwrap()
+                .as_array()
+                .unwrap()
+                .iter()
+                .map(num)
+                .collect();
+            let (w, h) = (mb[2] / PT_PER_MM, mb[3] / PT_PER_MM);
+            let inside = |x: f64, y: f64| {
+                x >= tiling::MARGIN - 0.01
+                    && x <= w - tiling::MARGIN + 0.01
+                    && y >= tiling::MARGIN - 0.01
+                    && y <= h - tiling::MARGIN + 0.01
+            };
+            let content = Content::decode(&doc.get_page_content(id)).unwrap();
+            let (mut size, mut face, mut at, mut in_tile) = (0.0, Vec::new(), [0.0; 2], false);
+            for op in &content.operations {
+                let a: Vec<f64> = op.operands.iter().map(num).collect();
+                match op.operator.as_str() {
+                    "cm" => in_tile = true,
+                    "Q" => in_tile = false,
+                    "Tf" => {
+                        face = op.operands[0].as_name().unwrap().to_vec();
+                        size = a[1] / PT_PER_MM;
+                    }
+                    "Td" => at = [a[0] / PT_PER_MM, a[1] / PT_PER_MM],
+                    "Tj" if !in_tile => {
+                        let text =
+                            String::from_utf8_lossy(op.operands[0].as_str().unwrap()).to_string();
+                        let width: f64 = if face == b"F2" {
+                            text.chars().count() as f64 * 0.6 * size
+                        } else {
+                            text.chars().map(helvetica).sum::<f64>() * size
+                        };
+                        // Baseline to cap height (0.72 em) and descender (0.21 em).
+                        assert!(
+                            inside(at[0], at[1] - 0.21 * size)
+                                && inside(at[0] + width, at[1] + 0.72 * size),
+                            "{paper} page {}: `{text}` at {at:?}, {width:.1} mm wide, page {w:.1} x {h:.1} mm",
+                            n + 1
+                        );
+                    }
+                    "m" | "l" if !in_tile => {
+                        let (x, y) = (a[0] / PT_PER_MM, a[1] / PT_PER_MM);
+                        assert!(
+                            inside(x, y),
+                            "{paper} page {}: a line at ({x:.1}, {y:.1}) mm",
+                            n + 1
+                        );
+                    }
+                    _ => {}
+                }
+            }
+        }
+        // No blank tile: each window holds a point of its drawing's lines
+        // or crosses one of its segments.
+        let t = jobs::templates(
+            &Design::Board(Box::new(board.clone())),
+            tiling::paper(paper).unwrap(),
+            &["outline".into(), "rocker".into(), "sections".into()],
+            &[],
+            dir.path(),
+        )
+        .unwrap();
+        for d in &t.drawings {
+            for page in tiling::tile(d, tiling::paper(paper).unwrap()) {
+                let Some(tile) = page.tile else { continue };
+                let [x0, y0] = tile.origin;
+                let [x1, y1] = [x0 + tile.window[0], y0 + tile.window[1]];
+                let holds = d.items.iter().any(|i| match i {
+                    Item::Line { points, .. } => points.windows(2).any(|s| {
+                        // The segment's box meets the window, sampled finely.
+                        (0..=20).any(|k| {
+                            let f = f64::from(k) / 20.0;
+                            let (x, y) = (
+                                s[0][0] + (s[1][0] - s[0][0]) * f,
+                                s[0][1] + (s[1][1] - s[0][1]) * f,
+                            );
+                            x >= x0 && x <= x1 && y >= y0 && y <= y1
+                        })
+                    }),
+                    Item::Text { at, size, text } => {
+                        let right = at[0] + text.chars().map(helvetica).sum::<f64>() * size * 1.4;
+                        right >= x0 && at[0] <= x1 && at[1] + size >= y0 && at[1] <= y1
+                    }
+                });
+                assert!(
+                    holds,
+                    "{paper} {}: tile c{} r{} is blank",
+                    d.kind,
+                    tile.column + 1,
+                    tile.row + 1
+                );
+            }
+        }
+    }
+}
+
+/// Page counts on A4 stay where this layout put them (the demo 41 and the
+/// longboard 65 pages before blank tiles were left out and the maps put on
+/// one page); on a roll, where each template is one tile, there is no
+/// assembly page: the sheet and one page a template.
+#[test]
+fn templates_take_few_pages() {
+    let count = |fixture: &str, paper: &str| {
+        let path = format!("{}/fixtures/{fixture}.yaml", env!("CARGO_MANIFEST_DIR"));
+        let b = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
+        let dir = tempfile::tempdir().unwrap();
+        jobs::templates(
+            &Design::Board(Box::new(b)),
+            tiling::paper(paper).unwrap(),
+            &[],
+            &[],
+            dir.path(),
+        )
+        .unwrap()
+        .pages
+    };
+    assert!(
+        count("shortboard", "a4") <= 31,
+        "{}",
+        count("shortboard", "a4")
+    );
+    assert!(
+        count("longboard", "a4") <= 46,
+        "{}",
+        count("longboard", "a4")
+    );
+    assert_eq!(count("shortboard", "roll:914mm"), 4);
+}

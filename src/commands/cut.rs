@@ -211,10 +211,8 @@ pub fn cut_files(
     let cradles = crate::toolpath::cradle::cradles(&plan.placement, job, design.name());
     if !cradles.is_empty() {
         let paper = crate::template::tiling::A4;
-        let pages: Vec<_> = cradles
-            .iter()
-            .flat_map(|(_, d)| crate::template::tiling::tile(d, paper, design.name()))
-            .collect();
+        let drawings: Vec<_> = cradles.iter().map(|(_, d)| d.clone()).collect();
+        let pages = crate::template::tiling::tile_all(&drawings, paper);
         files.push((
             dir.join(format!("{}.cradles.pdf", design.name())),
             crate::template::tiling::to_pdf(&pages),

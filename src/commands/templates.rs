@@ -109,11 +109,9 @@ pub(crate) fn template_files(
                 "(a mesh from elsewhere: no measurements beyond the templates)".into(),
             ],
         };
-        pages.push(crate::template::tiling::sheet_page(&lines, paper, name));
+        pages.push(crate::template::tiling::sheet_page(&lines, paper));
     }
-    for d in &drawings {
-        pages.extend(crate::template::tiling::tile(d, paper, name));
-    }
+    pages.extend(crate::template::tiling::tile_all(&drawings, paper));
     let mut files = vec![(
         dir.join(format!("{name}.templates.pdf")),
         crate::template::tiling::to_pdf(&pages),

@@ -489,9 +489,11 @@ pub fn rocker(side: &Side) -> Drawing {
     } else {
         0.0
     };
+    // Inside the strip, between the baseline and the back: above the
+    // curve it would need paper of its own at the nose.
     items.push(Item::Text {
-        at: [b, base + top + 8.0],
-        size: 4.0,
+        at: [b + 5.0, base - 16.0],
+        size: 3.0,
         text: format!(
             "nose rocker {}, tail rocker {}, tail exit angle {:.1} deg; solid line: bottom (cut edge), thin: deck",
             label(side.bottom[0]),
@@ -503,7 +505,7 @@ pub fn rocker(side: &Side) -> Drawing {
         kind: "rocker",
         title: format!("{}: rocker at the stringer, full size", side.name),
         width: l + 2.0 * b,
-        height: top - zmin + 2.0 * b + BACK + 12.0,
+        height: top - zmin + 2.0 * b + BACK,
         items,
     }
 }
@@ -616,7 +618,12 @@ pub fn sheet(report: &Report) -> Vec<String> {
     let mut lines = vec![
         format!("{}: shaping sheet", report.name),
         String::new(),
-        format!("length {} (flat); width {}; thickness {}", units::Both(report.length_mm), units::Both(report.width_mm), units::Both(report.thickness_mm)),
+        format!(
+            "length {} (flat); width {}; thickness {}",
+            units::Both(report.length_mm),
+            units::Both(report.width_mm),
+            units::Both(report.thickness_mm)
+        ),
         format!(
             "nose width {} and tail width {}, {} from the tips; tail {}",
             units::Both(report.nose_width_mm),
@@ -630,17 +637,37 @@ pub fn sheet(report: &Report) -> Vec<String> {
             report.volume_litres,
             report.volume_litres_surface,
             report.volume_error_estimate_litres,
-            if report.certified { ", certified" } else { ", NOT CERTIFIED" }
+            if report.certified {
+                ", certified"
+            } else {
+                ", NOT CERTIFIED"
+            }
         ),
         String::new(),
-        "from nose            width              thickness          bottom (rocker)    deck               rail apex".into(),
     ];
+    // One column a measurement, millimetres and inches in each cell, the
+    // unit on every number; laid out for a fixed-pitch face.
+    let cell = |v: f64| format!("{:>7.1} mm {:<9}", v, units::inches(v));
+    let head = |t: &str| format!("{t:<20}");
+    lines.push(format!(
+        "{:<18}| {}| {}| {}| {}| {}",
+        "from nose",
+        head("width"),
+        head("thickness"),
+        head("bottom (rocker)"),
+        head("deck"),
+        head("rail apex")
+    ));
+    lines.push(format!(
+        "{}{}",
+        "-".repeat(18),
+        "+---------------------".repeat(5)
+    ));
     for r in &report.stations {
-        let cell = |v: f64| format!("{:<19}", format!("{:.1} {}", v, units::inches(v)));
         lines.push(format!(
-            "{:<21}{}{}{}{}{}",
+            "{:<18}| {}| {}| {}| {}| {}",
             format!(
-                "{:.0} mm {}",
+                "{:>6.0} mm {}",
                 r.from_nose_mm,
                 units::feet_inches(r.from_nose_mm)
             ),
