@@ -125,9 +125,9 @@ pub fn make(
             section,
             &files,
             &dir,
-            crate::page::rail_closeups(&board),
             fitting_lines(&board, &weight),
             screen_scene(&board, &cutting),
+            &board,
         )
     };
     files.push((dir.join("index.html"), page.into_bytes()));
@@ -308,10 +308,11 @@ pub(crate) fn board_page(
     cut: crate::page::CutSection,
     files: &Files,
     dir: &Path,
-    rails: String,
     fittings: Vec<(String, Vec<String>)>,
     scene: Option<crate::page::scene::Scene>,
+    board: &Board,
 ) -> String {
+    let rails = crate::page::rail_closeups(board);
     let text = |suffix: &str| -> Option<&str> {
         files
             .iter()
@@ -319,15 +320,21 @@ pub(crate) fn board_page(
             .and_then(|(_, b)| std::str::from_utf8(b).ok())
     };
     let mut templates = vec![];
-    for (title, suffix) in [
-        ("Plan view: outline", ".outline.svg"),
-        ("Side view: rocker and foil", ".rocker.svg"),
-        ("Sections", ".sections.svg"),
-    ] {
-        if let Some(t) = text(suffix) {
-            templates.push((title, t));
-        }
+    if let Some(t) = text(".sections.svg") {
+        templates.push(("Sections (full size, shrunk to the page)", t));
     }
+    use crate::page::views;
+    let views = vec![
+        ("Plan view".to_string(), views::plan_view(board)),
+        (
+            "Side view: rocker and foil".to_string(),
+            format!(
+                "{}{}",
+                views::side_view(board),
+                views::thickness_view(board)
+            ),
+        ),
+    ];
     let deviations = files
         .iter()
         .filter(|(p, _)| p.to_string_lossy().ends_with(".deviation.svg"))
@@ -348,6 +355,7 @@ pub(crate) fn board_page(
         files: names,
         fittings,
         scene,
+        views,
     })
 }
 

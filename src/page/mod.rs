@@ -3,6 +3,7 @@
 //! its one script ([`scene`]), and one page listing every board of a run.
 
 pub mod scene;
+pub mod views;
 
 use std::fmt::Write as _;
 
@@ -90,6 +91,9 @@ pub struct BoardPage<'a> {
     pub fittings: Vec<(String, Vec<String>)>,
     /// The 3D view's data, when a screen mesh could be made.
     pub scene: Option<scene::Scene>,
+    /// Drawings made for the screen (title, inline SVG), before the
+    /// templates.
+    pub views: Vec<(String, String)>,
 }
 
 /// The 3D view: a place for the canvas, its switches and legend, the
@@ -212,6 +216,9 @@ pub fn board_page(p: &BoardPage) -> String {
     s.push_str(&litres_chart(r));
     if let Some(t) = &r.tail_pull {
         s.push_str(&tail_pull(t, r.tip_station_mm));
+    }
+    for (title, svg) in &p.views {
+        let _ = write!(s, "<h2>{}</h2>{svg}", esc(title));
     }
     for (title, svg) in &p.templates {
         let _ = write!(s, "<h2>{}</h2>{}", esc(title), inline_svg(svg));
