@@ -41,6 +41,43 @@ fn wrap(text: &str, width: usize) -> Vec<String> {
     out
 }
 
+/// The order sheet being written: its marks, the next line's height,
+/// the left edge and the page's width (mm).
+struct Sheet {
+    marks: Vec<Mark>,
+    y: f64,
+    left: f64,
+    width: f64,
+}
+
+impl Sheet {
+    /// A line of text at `size`, wrapped (continuations indented) where
+    /// Helvetica's characters, about half an em each (the em is 1.4 x the
+    /// size given, see `tiling::draw`), would run past the right margin.
+    fn text(&mut self, size: f64, s: String) {
+        let chars = ((self.width - 2.0 * self.left) / (size * 1.4 * 0.47))
+            .floor()
+            .max(20.0) as usize;
+        let indent = s.len() - s.trim_start().len();
+        for (i, l) in wrap(&s, chars).into_iter().enumerate() {
+            let l = if i == 0 {
+                format!("{}{l}", " ".repeat(indent))
+            } else {
+                format!("{}{l}", " ".repeat(indent + 4))
+            };
+            self.marks.push(Mark::Text {
+                at: [self.left, self.y],
+                size,
+                text: l,
+            });
+            self.y -= size * 1.45;
+        }
+    }
+}
+
+/// Samples along the board for the views.
+const SAMPLES: usize = 600;
+
 /// The order sheet on `paper` (a roll gets an A4-sized page), portrait.
 /// `cut` is the cut summary's lines, when programs were made.
 pub fn order_page(
@@ -55,35 +92,41 @@ pub fn order_page(
     } else {
         (paper.width, paper.height)
     };
-    let mut m = vec![];
-    let left = MARGIN + 2.0;
-    let mut y = h - MARGIN - 8.0;
-    // Helvetica's characters average about half an em; the em is 1.4 x
-    // the size given (see `tiling::draw`). Longer lines wrap, indented.
-    let chars = |size: f64| ((w - 2.0 * left) / (size * 1.4 * 0.47)).floor().max(20.0) as usize;
-    let text = |m: &mut Vec<Mark>, y: &mut f64, size: f64, s: String| {
-        let indent = s.len() - s.trim_start().len();
-        for (i, l) in wrap(&s, chars(size)).into_iter().enumerate() {
-            let l = if i == 0 {
-                format!("{}{l}", " ".repeat(indent))
-            } else {
-                format!("{}{l}", " ".repeat(indent + 4))
-            };
-            m.push(Mark::Text {
-                at: [left, *y],
-                size,
-                text: l,
-            });
-            *y -= size * 1.45;
-        }
+    let mut sh = Sheet {
+        marks: vec![],
+        y: h - MARGIN - 8.0,
+        left: MARGIN + 2.0,
+        width: w,
     };
-    text(&mut m, &mut y, 5.0, format!("ORDER SHEET: {}", board.name));
-    y -= 1.0;
+    order_and_numbers(&mut sh, board, report);
+    let k = plan_view(&mut sh, board);
+    side_view(&mut sh, board, k);
+    fins(&mut sh, board);
+    glassing_and_weight(&mut sh, board, weight);
+    cut_lines(&mut sh, cut);
+    sh.marks.push(Mark::Text {
+        at: [sh.left, MARGIN],
+        size: 2.4,
+        text: format!(
+            "{}: order sheet ({}). Weight and cloth are estimates from the schedule; the shop's own scale and cutting rule.",
+            board.name, paper.name
+        ),
+    });
+    Page {
+        width: w,
+        height: h,
+        marks: sh.marks,
+        tile: None,
+    }
+}
+
+/// The order's fields and the board's numbers in both systems.
+fn order_and_numbers(sh: &mut Sheet, board: &Board, report: &Report) {
+    sh.text(5.0, format!("ORDER SHEET: {}", board.name));
+    sh.y -= 1.0;
     let o = &board.order;
     let field = |v: &Option<String>| v.clone().unwrap_or_else(|| "-".into());
-    text(
-        &mut m,
-        &mut y,
+    sh.text(
         3.0,
         format!(
             "customer: {}    order: {}    wanted: {}",
@@ -93,15 +136,13 @@ pub fn order_page(
         ),
     );
     for l in wrap(&format!("colour: {}", field(&o.colour)), 100) {
-        text(&mut m, &mut y, 3.0, l);
+        sh.text(3.0, l);
     }
     for l in wrap(&format!("notes: {}", field(&o.notes)), 100) {
-        text(&mut m, &mut y, 3.0, l);
+        sh.text(3.0, l);
     }
-    y -= 2.0;
-    text(
-        &mut m,
-        &mut y,
+    sh.y -= 2.0;
+    sh.text(
         3.0,
         format!(
             "{} x {} x {}   volume {:.2} L   {} tail",
@@ -112,9 +153,7 @@ pub fn order_page(
             report.tail
         ),
     );
-    text(
-        &mut m,
-        &mut y,
+    sh.text(
         3.0,
         format!(
             "nose {} and tail {} wide {} from the tips; rocker nose {}, tail {}",
@@ -125,27 +164,29 @@ pub fn order_page(
             Both(report.tail_rocker_mm)
         ),
     );
-    // Plan view: the whole outline, scaled to the page's width.
-    let f = &board.fittings;
+}
+
+/// The whole outline, scaled to the page's width, with the bottom's fin
+/// boxes and the deck's leash plug; returns the scale.
+fn plan_view(sh: &mut Sheet, board: &Board) -> f64 {
     let l = board.length;
-    let span = w - 2.0 * left;
+    let left = sh.left;
+    let span = sh.width - 2.0 * left;
     let k = span / l;
     let half = (0..=400)
         .map(|i| board.half_width(l * i as f64 / 400.0))
         .fold(0.0f64, f64::max);
-    y -= 2.0;
-    text(
-        &mut m,
-        &mut y,
+    sh.y -= 2.0;
+    sh.text(
         2.6,
         format!(
             "plan view, 1:{:.0}: bottom fin boxes and the deck's leash plug (circle)",
             1.0 / k
         ),
     );
-    let cy = y - half * k - 2.0;
+    let cy = sh.y - half * k - 2.0;
     let pt = |p: [f64; 2]| [left + p[0] * k, cy + p[1] * k];
-    let n = 600;
+    let n = SAMPLES;
     let mut outer_top = vec![];
     let mut outer_bottom = vec![];
     for i in 0..=n {
@@ -168,14 +209,14 @@ pub fn order_page(
         outline.extend(notch.iter().map(|&[x, i]| pt([x, -i])));
         outline.extend(outer_bottom.into_iter().rev());
     }
-    m.push(Mark::Line {
+    sh.marks.push(Mark::Line {
         points: outline,
         closed: true,
         width: 0.35,
         dashed: false,
         grey: false,
     });
-    m.push(Mark::Line {
+    sh.marks.push(Mark::Line {
         points: vec![pt([0.0, 0.0]), pt([l, 0.0])],
         closed: false,
         width: 0.15,
@@ -187,9 +228,9 @@ pub fn order_page(
         if let Some(&first) = p.first() {
             p.push(first);
         }
-        m.push(line(p, 0.25, false));
+        sh.marks.push(line(p, 0.25, false));
     }
-    if let (Some(c), Some(p)) = (board.plug_at(), f.plug) {
+    if let (Some(c), Some(p)) = (board.plug_at(), board.fittings.plug) {
         let r = p.diameter / 2.0;
         let circle = (0..=24)
             .map(|i| {
@@ -197,14 +238,17 @@ pub fn order_page(
                 pt([c[0] + r * a.cos(), c[1] + r * a.sin()])
             })
             .collect();
-        m.push(line(circle, 0.25, false));
+        sh.marks.push(line(circle, 0.25, false));
     }
-    y = cy - half * k - 6.0;
-    // Side view: bottom and deck at the stringer, heights exaggerated.
-    text(
-        &mut m,
-        &mut y,
-        2.6,
+    sh.y = cy - half * k - 6.0;
+    k
+}
+
+/// The bottom and the deck at the stringer, heights exaggerated, at the
+/// plan view's length scale `k`.
+fn side_view(sh: &mut Sheet, board: &Board, k: f64) {
+    let (l, n, left) = (board.length, SAMPLES, sh.left);
+    sh.text(2.6,
         format!(
             "side view at the stringer, lengths 1:{:.0}, heights x{SIDE_EXAGGERATION} (rocker and foil)",
             1.0 / k
@@ -221,29 +265,33 @@ pub fn order_page(
         bottom.push((x, z0));
         deck.push((x, z1));
     }
-    let base = y - top * kz - 1.0;
+    let base = sh.y - top * kz - 1.0;
     let sp = |(x, z): (f64, f64)| [left + x * k, base + z * kz];
     let mut side: Vec<[f64; 2]> = bottom.iter().copied().map(sp).collect();
     side.extend(deck.iter().rev().copied().map(sp));
-    m.push(Mark::Line {
+    sh.marks.push(Mark::Line {
         points: side,
         closed: true,
         width: 0.35,
         dashed: false,
         grey: false,
     });
-    m.push(Mark::Line {
+    sh.marks.push(Mark::Line {
         points: vec![[left, base], [left + l * k, base]],
         closed: false,
         width: 0.15,
         dashed: true,
         grey: true,
     });
-    y = base - 6.0;
-    // Fins.
+    sh.y = base - 6.0;
+}
+
+/// The fin setup, each fin and the leash plug.
+fn fins(sh: &mut Sheet, board: &Board) {
+    let f = &board.fittings;
     match f.setup {
-        Some(s) => text(&mut m, &mut y, 3.0, format!("fins: {}", s.label())),
-        None => text(&mut m, &mut y, 3.0, "fins: none given".into()),
+        Some(s) => sh.text(3.0, format!("fins: {}", s.label())),
+        None => sh.text(3.0, "fins: none given".into()),
     }
     for fin in &f.fins {
         let where_ = if fin.centre {
@@ -256,9 +304,7 @@ pub fn order_page(
                 fin.cant
             )
         };
-        text(
-            &mut m,
-            &mut y,
+        sh.text(
             2.6,
             format!(
                 "  {}{}: box front {} from the tail, {where_}; pocket {} x {}, {} deep",
@@ -272,9 +318,7 @@ pub fn order_page(
         );
     }
     match f.plug {
-        Some(p) => text(
-            &mut m,
-            &mut y,
+        Some(p) => sh.text(
             2.6,
             format!(
                 "  leash plug: {} from the tail on the stringer, {} across, {} deep (deck)",
@@ -283,9 +327,14 @@ pub fn order_page(
                 Both(p.depth)
             ),
         ),
-        None => text(&mut m, &mut y, 2.6, "  leash plug: none given".into()),
+        None => sh.text(2.6, "  leash plug: none given".into()),
     }
-    y -= 1.5;
+}
+
+/// The cloth by layer, the cloth to cut, and the weight estimate as a
+/// table (what, grams right-aligned, basis).
+fn glassing_and_weight(sh: &mut Sheet, board: &Board, weight: &Weight) {
+    sh.y -= 1.5;
     let lam = &board.laminate;
     let layers = |v: &[f64]| {
         v.iter()
@@ -298,9 +347,7 @@ pub fn order_page(
             .collect::<Vec<_>>()
             .join(" + ")
     };
-    text(
-        &mut m,
-        &mut y,
+    sh.text(
         3.0,
         format!(
             "glassing: deck {}, bottom {}; laps {}",
@@ -317,10 +364,7 @@ pub fn order_page(
             Both(lam.lap)
         ),
     );
-    text(
-        &mut m,
-        &mut y,
-        2.6,
+    sh.text(2.6,
         format!(
             "  cloth to cut: deck {:.2} m2 a layer, bottom {:.2} m2 a layer (the surface {:.2} + {:.2} m2, laps round a {:.2} m outline)",
             weight.deck_layer_m2,
@@ -331,50 +375,40 @@ pub fn order_page(
         ),
     );
     if let Some(first) = weight.text().into_iter().next() {
-        text(&mut m, &mut y, 3.0, first);
+        sh.text(3.0, first);
     }
     // The estimate's lines as a table: what, grams (right-aligned), basis.
     for (what, g, why) in &weight.lines {
         let size = 2.6;
         let grams = format!("{g:.0} g");
         let digit = size * 1.4 * 0.556;
-        m.push(Mark::Text {
-            at: [left + 4.0, y],
+        sh.marks.push(Mark::Text {
+            at: [sh.left + 4.0, sh.y],
             size,
             text: what.clone(),
         });
-        m.push(Mark::Text {
-            at: [left + 48.0 - grams.len() as f64 * digit, y],
+        sh.marks.push(Mark::Text {
+            at: [sh.left + 48.0 - grams.len() as f64 * digit, sh.y],
             size,
             text: grams,
         });
-        m.push(Mark::Text {
-            at: [left + 54.0, y],
+        sh.marks.push(Mark::Text {
+            at: [sh.left + 54.0, sh.y],
             size,
             text: why.clone(),
         });
-        y -= size * 1.45;
+        sh.y -= size * 1.45;
     }
-    y -= 1.5;
+    sh.y -= 1.5;
+}
+
+/// The cut summary, or that no programs were made.
+fn cut_lines(sh: &mut Sheet, cut: &[String]) {
     if cut.is_empty() {
-        text(&mut m, &mut y, 3.0, "cut: no programs made".into());
+        sh.text(3.0, "cut: no programs made".into());
     } else {
         for (i, l) in cut.iter().enumerate() {
-            text(&mut m, &mut y, if i == 0 { 3.0 } else { 2.6 }, l.clone());
+            sh.text(if i == 0 { 3.0 } else { 2.6 }, l.clone());
         }
-    }
-    m.push(Mark::Text {
-        at: [left, MARGIN],
-        size: 2.4,
-        text: format!(
-            "{}: order sheet ({}). Weight and cloth are estimates from the schedule; the shop's own scale and cutting rule.",
-            board.name, paper.name
-        ),
-    });
-    Page {
-        width: w,
-        height: h,
-        marks: m,
-        tile: None,
     }
 }
