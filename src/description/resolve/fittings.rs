@@ -224,162 +224,182 @@ pub(super) fn fittings(
             }
         }
         for d in &defaults {
-            let empty = FinSpec::default();
-            let spec = match d.role {
-                "side" => f.side.as_ref(),
-                "centre" => f.centre.as_ref(),
-                _ => f.rear.as_ref(),
-            }
-            .unwrap_or(&empty);
-            let field = format!("fins.{}", d.role);
-            if d.centre {
-                for (v, name) in [(&spec.toe, "toe"), (&spec.cant, "cant")] {
-                    if let Some(s) = v {
-                        return cx.fail(
-                            &s.referenced,
-                            &format!("{field}.{name}"),
-                            "does not apply: a centre fin stands straight on the stringer",
-                            "remove the field",
-                        );
-                    }
-                }
-                cx.forbid(
-                    &spec.from_rail,
-                    &format!("{field}.from_rail"),
-                    "a centre fin sits on the stringer",
-                )?;
-            }
-            let base = match (&f.pocket, d.long_box) {
-                (Some(p), false) => pocket(cx, Some(p), default_pocket(false), "fins.box")?,
-                _ => default_pocket(d.long_box),
-            };
-            let fin = Fin {
-                role: d.role.to_string(),
-                centre: d.centre,
-                from_tail: length_or(
-                    cx,
-                    &spec.from_tail,
-                    &format!("{field}.from_tail"),
-                    d.from_tail * MM_PER_INCH,
-                    0.0,
-                    board.length / 2.0,
-                    "from the tail to the front end of the box, e.g. 11 1/4",
-                )?,
-                from_rail: length_or(
-                    cx,
-                    &spec.from_rail,
-                    &format!("{field}.from_rail"),
-                    d.from_rail * MM_PER_INCH,
-                    0.0,
-                    12.0 * MM_PER_INCH,
-                    "from the rail in to the front end of the box, e.g. 1 1/8",
-                )?,
-                toe: number_in(
-                    cx,
-                    &spec.toe,
-                    &format!("{field}.toe"),
-                    d.toe,
-                    0.0,
-                    10.0,
-                    "degrees the fin's front turns in toward the stringer, e.g. 3",
-                )?,
-                cant: number_in(
-                    cx,
-                    &spec.cant,
-                    &format!("{field}.cant"),
-                    d.cant,
-                    0.0,
-                    15.0,
-                    "degrees the fin tilts out toward the rail, e.g. 6",
-                )?,
-                pocket: pocket(cx, spec.pocket.as_ref(), base, &format!("{field}.box"))?,
-            };
-            out.fins.push(fin);
+            out.fins.push(fin(cx, f, d, board)?);
         }
         for b in out.boxes(board.length, |x| board.half_width(x)) {
             check_box(cx, f, &out, &b, board, stringer)?;
         }
     }
     if let Some(p) = &raw.leash_plug {
-        let spec = &p.value;
-        let tail_room = board.notch_apex().map_or(0.0, |a| board.length - a);
-        let plug = LeashPlug {
-            from_tail: length_or(
-                cx,
-                &spec.from_tail,
-                "leash_plug.from_tail",
-                tail_room + 3.5 * MM_PER_INCH,
-                0.0,
-                board.length / 3.0,
-                "from the tail to the plug's centre, e.g. 3 1/2",
-            )?,
-            diameter: length_or(
-                cx,
-                &spec.diameter,
-                "leash_plug.diameter",
-                MM_PER_INCH,
-                0.0,
-                2.0 * MM_PER_INCH,
-                "the plug pocket's diameter, e.g. 1",
-            )?,
-            depth: length_or(
-                cx,
-                &spec.depth,
-                "leash_plug.depth",
-                0.75 * MM_PER_INCH,
-                0.0,
-                2.0 * MM_PER_INCH,
-                "the plug pocket's depth from the deck, e.g. 3/4",
-            )?,
-        };
-        let x = board.length - plug.from_tail;
-        let r = plug.diameter / 2.0;
-        let at = p
-            .value
-            .from_tail
-            .as_ref()
-            .or(p.value.depth.as_ref())
-            .map_or(p.referenced, |s| s.referenced);
-        for k in 0..=16 {
-            let a = std::f64::consts::TAU * k as f64 / 16.0;
-            let (px, py) = (x + r * a.cos(), r * a.sin());
-            let st = board.station(px);
-            if px >= board.length || (st.inner > 0.0 && py.abs() <= st.inner) {
+        out.plug = Some(leash_plug(cx, p, board)?);
+    }
+    Ok(out)
+}
+
+/// One fin of the setup: the description's values for its role, or the
+/// role's defaults, in range.
+fn fin(
+    cx: &Ctx,
+    f: &crate::description::fittings::FinsSpec,
+    d: &RoleDefault,
+    board: &Board,
+) -> Res<Fin> {
+    let empty = FinSpec::default();
+    let spec = match d.role {
+        "side" => f.side.as_ref(),
+        "centre" => f.centre.as_ref(),
+        _ => f.rear.as_ref(),
+    }
+    .unwrap_or(&empty);
+    let field = format!("fins.{}", d.role);
+    if d.centre {
+        for (v, name) in [(&spec.toe, "toe"), (&spec.cant, "cant")] {
+            if let Some(s) = v {
                 return cx.fail(
-                    &at,
-                    "leash_plug.from_tail",
-                    format!(
-                        "the plug's pocket, {} across, {} from the tail, runs off the foam (past the tail or into the notch)",
-                        show(plug.diameter),
-                        show(plug.from_tail)
-                    ),
-                    "move it forward",
-                );
-            }
-            let t = st.thickness_at(st.half_width - py.abs());
-            if t - plug.depth < FOAM_LEFT {
-                let field = if spec.depth.is_some() {
-                    "leash_plug.depth"
-                } else {
-                    "leash_plug.from_tail"
-                };
-                return cx.fail(
-                    &at,
-                    field,
-                    format!(
-                        "the plug's pocket is {} deep where the board is {} thick: {} would be left under it, at least {} is needed",
-                        show(plug.depth),
-                        show(t),
-                        show((t - plug.depth).max(0.0)),
-                        show(FOAM_LEFT)
-                    ),
-                    "a shallower pocket, or the plug further forward where the board is thicker",
+                    &s.referenced,
+                    &format!("{field}.{name}"),
+                    "does not apply: a centre fin stands straight on the stringer",
+                    "remove the field",
                 );
             }
         }
-        out.plug = Some(plug);
+        cx.forbid(
+            &spec.from_rail,
+            &format!("{field}.from_rail"),
+            "a centre fin sits on the stringer",
+        )?;
     }
-    Ok(out)
+    let base = match (&f.pocket, d.long_box) {
+        (Some(p), false) => pocket(cx, Some(p), default_pocket(false), "fins.box")?,
+        _ => default_pocket(d.long_box),
+    };
+    let fin = Fin {
+        role: d.role.to_string(),
+        centre: d.centre,
+        from_tail: length_or(
+            cx,
+            &spec.from_tail,
+            &format!("{field}.from_tail"),
+            d.from_tail * MM_PER_INCH,
+            0.0,
+            board.length / 2.0,
+            "from the tail to the front end of the box, e.g. 11 1/4",
+        )?,
+        from_rail: length_or(
+            cx,
+            &spec.from_rail,
+            &format!("{field}.from_rail"),
+            d.from_rail * MM_PER_INCH,
+            0.0,
+            12.0 * MM_PER_INCH,
+            "from the rail in to the front end of the box, e.g. 1 1/8",
+        )?,
+        toe: number_in(
+            cx,
+            &spec.toe,
+            &format!("{field}.toe"),
+            d.toe,
+            0.0,
+            10.0,
+            "degrees the fin's front turns in toward the stringer, e.g. 3",
+        )?,
+        cant: number_in(
+            cx,
+            &spec.cant,
+            &format!("{field}.cant"),
+            d.cant,
+            0.0,
+            15.0,
+            "degrees the fin tilts out toward the rail, e.g. 6",
+        )?,
+        pocket: pocket(cx, spec.pocket.as_ref(), base, &format!("{field}.box"))?,
+    };
+    Ok(fin)
+}
+
+/// The leash plug: in range, on foam, with foam left under its pocket.
+fn leash_plug(
+    cx: &Ctx,
+    p: &Spanned<crate::description::fittings::PlugSpec>,
+    board: &Board,
+) -> Res<LeashPlug> {
+    let spec = &p.value;
+    let tail_room = board.notch_apex().map_or(0.0, |a| board.length - a);
+    let plug = LeashPlug {
+        from_tail: length_or(
+            cx,
+            &spec.from_tail,
+            "leash_plug.from_tail",
+            tail_room + 3.5 * MM_PER_INCH,
+            0.0,
+            board.length / 3.0,
+            "from the tail to the plug's centre, e.g. 3 1/2",
+        )?,
+        diameter: length_or(
+            cx,
+            &spec.diameter,
+            "leash_plug.diameter",
+            MM_PER_INCH,
+            0.0,
+            2.0 * MM_PER_INCH,
+            "the plug pocket's diameter, e.g. 1",
+        )?,
+        depth: length_or(
+            cx,
+            &spec.depth,
+            "leash_plug.depth",
+            0.75 * MM_PER_INCH,
+            0.0,
+            2.0 * MM_PER_INCH,
+            "the plug pocket's depth from the deck, e.g. 3/4",
+        )?,
+    };
+    let x = board.length - plug.from_tail;
+    let r = plug.diameter / 2.0;
+    let at = p
+        .value
+        .from_tail
+        .as_ref()
+        .or(p.value.depth.as_ref())
+        .map_or(p.referenced, |s| s.referenced);
+    for k in 0..=16 {
+        let a = std::f64::consts::TAU * k as f64 / 16.0;
+        let (px, py) = (x + r * a.cos(), r * a.sin());
+        let st = board.station(px);
+        if px >= board.length || (st.inner > 0.0 && py.abs() <= st.inner) {
+            return cx.fail(
+                &at,
+                "leash_plug.from_tail",
+                format!(
+                    "the plug's pocket, {} across, {} from the tail, runs off the foam (past the tail or into the notch)",
+                    show(plug.diameter),
+                    show(plug.from_tail)
+                ),
+                "move it forward",
+            );
+        }
+        let t = st.thickness_at(st.half_width - py.abs());
+        if t - plug.depth < FOAM_LEFT {
+            let field = if spec.depth.is_some() {
+                "leash_plug.depth"
+            } else {
+                "leash_plug.from_tail"
+            };
+            return cx.fail(
+                &at,
+                field,
+                format!(
+                    "the plug's pocket is {} deep where the board is {} thick: {} would be left under it, at least {} is needed",
+                    show(plug.depth),
+                    show(t),
+                    show((t - plug.depth).max(0.0)),
+                    show(FOAM_LEFT)
+                ),
+                "a shallower pocket, or the plug further forward where the board is thicker",
+            );
+        }
+    }
+    Ok(plug)
 }
 
 fn first_location(s: &FinSpec) -> Option<Location> {
