@@ -103,147 +103,24 @@ pub fn verify_programs(
     };
     // The programs' headers: the project's own programs record their block,
     // where the design sits in it, and where setup 2's Z0 is.
-    let mut heads = Vec::new();
-    for path in &args.programs {
-        use std::io::Read as _;
-        let mut head = Vec::new();
-        std::fs::File::open(path)
-            .and_then(|f| f.take(16 * 1024).read_to_end(&mut head))
-            .map_err(|e| JobError::Read {
-                path: path.display().to_string(),
-                message: e.to_string(),
-            })?;
-        heads.push(program::header_text(&String::from_utf8_lossy(&head)));
-    }
+    let heads = headers(&args.programs)?;
     let first_head = heads.first().map_or("", String::as_str);
     let pose = program::read_pose(first_head);
     let mesh = match &design {
         Some(d) => Some(d.mesh(crate::meshing::mesher::DEFAULT_TOLERANCE)?),
         None => None,
     };
-    let posed = |mesh: Option<crate::model::mesh::Mesh>| match (mesh, pose) {
-        (Some(m), Some(p)) => Some(p.apply_mesh(&m)),
-        (m, _) => m,
-    };
-    let design_basis = match (&design, pose) {
-        (None, _) => "",
-        (Some(_), Some(_)) => {
-            "; the design placed as the programs' header records (the ball's reach is judged without the job's parting surface: give --job for that)"
-        }
-        (Some(_), None) => {
-            "; the design as given, in the programs' coordinates (their header records no placement)"
-        }
-    };
-    // The block, and where the design sits in it.
-    let (block, table_position, part, keep, placed, basis) = match (&args.stock, &job) {
-        (Some(s), None) => {
-            let block = parse_block(s)?;
-            let at = program::read_stock(first_head)
-                .ok()
-                .flatten()
-                .map_or([0.0, 0.0], |(_, at)| at);
-            let basis = format!("block from --stock{design_basis}");
-            let keep = match pose {
-                Some(_) => program::read_kept(first_head).unwrap_or_default(),
-                None => vec![],
-            };
-            (block, at, posed(mesh), keep, None, basis)
-        }
-        (Some(s), Some(j)) => {
-            let block = parse_block(s)?;
-            let basis = "block from --stock, placed as the job says; the design as given".into();
-            (block, j.table_position, mesh, vec![], None, basis)
-        }
-        (None, Some(j)) => match (&design, mesh) {
-            (Some(d), Some(mesh)) => {
-                let apex = match d {
-                    Design::Board(b) => Some(program::apex_line(b)),
-                    Design::Mesh { .. } => None,
-                };
-                let place = crate::toolpath::setup::place(&mesh, apex.as_deref(), j)?;
-                let keep = crate::toolpath::setup::tab_rectangles(&place, j);
-                let (block, part) = (place.block.clone(), place.part.clone());
-                let basis = "block and the design's placement from the job".into();
-                (
-                    block,
-                    j.table_position,
-                    Some(part),
-                    keep,
-                    Some(place),
-                    basis,
-                )
-            }
-            _ => match &j.stock {
-                Some(b) => (
-                    b.clone(),
-                    j.table_position,
-                    None,
-                    vec![],
-                    None,
-                    "block from the job".into(),
-                ),
-                None => {
-                    return Err(JobError::Flag(
-                        "the job sizes its block from the board: give --design, or --stock LxWxT"
-                            .into(),
-                    ));
-                }
-            },
-        },
-        (None, None) => match program::read_stock(first_head) {
-            Ok(Some((block, at))) => {
-                let basis = format!("block from the programs' header{design_basis}");
-                let keep = program::read_kept(first_head).unwrap_or_default();
-                (block, at, posed(mesh), keep, None, basis)
-            }
-            Ok(None) => {
-                return Err(JobError::Flag(
-                    "the programs' header names no stock: give --stock LxWxT (e.g. 300x200x50mm) or --job JOB.yaml".into(),
-                ));
-            }
-            Err(why) => {
-                return Err(JobError::Flag(format!(
-                    "{why}: give --job JOB.yaml (the job they were cut with), or --stock LxWxT"
-                )));
-            }
-        },
-    };
+    let Stock {
+        block,
+        table_position,
+        part,
+        keep,
+        placed,
+        basis,
+    } = stock(args, job.as_ref(), design.as_ref(), mesh, first_head)?;
     let block_for_pockets = block.clone();
-    let mut sources = Vec::new();
-    let count = args.programs.len();
-    let mut zero_on_table = job.is_some();
-    for (k, path) in args.programs.iter().enumerate() {
-        let file = std::fs::File::open(path).map_err(|e| JobError::Read {
-            path: path.display().to_string(),
-            message: e.to_string(),
-        })?;
-        let reader = std::io::BufReader::new(file);
-        let head = &heads[k];
-        let side = match args.flip_after {
-            Some(n) if k < n => Side::Deck,
-            Some(_) => Side::Bottom,
-            // The project's own programs name their setup in the header;
-            // of two programs from elsewhere, the second follows the flip.
-            None => {
-                if head.contains("setup 2 of 2")
-                    || (count == 2 && k == 1 && !head.contains("setup 1 of 2"))
-                {
-                    Side::Bottom
-                } else {
-                    Side::Deck
-                }
-            }
-        };
-        if side == Side::Bottom && head.contains("Z0 on the spoilboard top") {
-            zero_on_table = true;
-        }
-        sources.push(ProgramSource {
-            name: path.display().to_string(),
-            side,
-            reader: Box::new(reader),
-            loaded: None,
-        });
-    }
+    let (sources, zeroed_on_table) = sources(args, &heads)?;
+    let zero_on_table = job.is_some() || zeroed_on_table;
     let setting = Setting {
         // Programs planned against a job are written with setup 2's Z0 on
         // the spoilboard top (their header says so); others are read as
@@ -298,4 +175,186 @@ pub fn verify_programs(
         written = write_all(&files, &exactly(&files), &inputs)?;
     }
     Ok((v, written))
+}
+
+/// The first 16 KiB of each program, its header comment joined back
+/// (where the project's own programs record their block, the design's
+/// place in it, and setup 2's Z0).
+fn headers(programs: &[PathBuf]) -> Result<Vec<String>, JobError> {
+    let mut heads = Vec::new();
+    for path in programs {
+        use std::io::Read as _;
+        let mut head = Vec::new();
+        std::fs::File::open(path)
+            .and_then(|f| f.take(16 * 1024).read_to_end(&mut head))
+            .map_err(|e| JobError::Read {
+                path: path.display().to_string(),
+                message: e.to_string(),
+            })?;
+        heads.push(program::header_text(&String::from_utf8_lossy(&head)));
+    }
+    Ok(heads)
+}
+
+/// The block the programs cut, where it sits on the table, the design in
+/// its coordinates, what is left standing on purpose, the placement (from
+/// a job) and a line saying where all that came from.
+struct Stock {
+    block: Block,
+    table_position: [f64; 2],
+    part: Option<crate::model::mesh::Mesh>,
+    keep: Vec<[[f64; 2]; 2]>,
+    placed: Option<crate::toolpath::setup::Placement>,
+    basis: String,
+}
+
+/// The stock from `--stock`, the job, or the programs' header, in that
+/// order of what was given.
+fn stock(
+    args: &VerifyArgs,
+    job: Option<&crate::model::job::Job>,
+    design: Option<&Design>,
+    mesh: Option<crate::model::mesh::Mesh>,
+    first_head: &str,
+) -> Result<Stock, JobError> {
+    let pose = program::read_pose(first_head);
+    let posed = |mesh: Option<crate::model::mesh::Mesh>| match (mesh, pose) {
+        (Some(m), Some(p)) => Some(p.apply_mesh(&m)),
+        (m, _) => m,
+    };
+    let design_basis = match (&design, pose) {
+        (None, _) => "",
+        (Some(_), Some(_)) => {
+            "; the design placed as the programs' header records (the ball's reach is judged without the job's parting surface: give --job for that)"
+        }
+        (Some(_), None) => {
+            "; the design as given, in the programs' coordinates (their header records no placement)"
+        }
+    };
+    let (block, table_position, part, keep, placed, basis) = match (&args.stock, job) {
+        (Some(s), None) => {
+            let block = parse_block(s)?;
+            let at = program::read_stock(first_head)
+                .ok()
+                .flatten()
+                .map_or([0.0, 0.0], |(_, at)| at);
+            let basis = format!("block from --stock{design_basis}");
+            let keep = match pose {
+                Some(_) => program::read_kept(first_head).unwrap_or_default(),
+                None => vec![],
+            };
+            (block, at, posed(mesh), keep, None, basis)
+        }
+        (Some(s), Some(j)) => {
+            let block = parse_block(s)?;
+            let basis = "block from --stock, placed as the job says; the design as given".into();
+            (block, j.table_position, mesh, vec![], None, basis)
+        }
+        (None, Some(j)) => match (design, mesh) {
+            (Some(d), Some(mesh)) => {
+                let apex = match d {
+                    Design::Board(b) => Some(program::apex_line(b)),
+                    Design::Mesh { .. } => None,
+                };
+                let place = crate::toolpath::setup::place(&mesh, apex.as_deref(), j)?;
+                let keep = crate::toolpath::setup::tab_rectangles(&place, j);
+                let (block, part) = (place.block.clone(), place.part.clone());
+                let basis = "block and the design's placement from the job".into();
+                (
+                    block,
+                    j.table_position,
+                    Some(part),
+                    keep,
+                    Some(place),
+                    basis,
+                )
+            }
+            _ => match &j.stock {
+                Some(b) => (
+                    b.clone(),
+                    j.table_position,
+                    None,
+                    vec![],
+                    None,
+                    "block from the job".into(),
+                ),
+                None => {
+                    return Err(JobError::Flag(
+                        "the job sizes its block from the board: give --design, or --stock LxWxT"
+                            .into(),
+                    ));
+                }
+            },
+        },
+        (None, None) => match program::read_stock(first_head) {
+            Ok(Some((block, at))) => {
+                let basis = format!("block from the programs' header{design_basis}");
+                let keep = program::read_kept(first_head).unwrap_or_default();
+                (block, at, posed(mesh), keep, None, basis)
+            }
+            Ok(None) => {
+                return Err(JobError::Flag(
+                    "the programs' header names no stock: give --stock LxWxT (e.g. 300x200x50mm) or --job JOB.yaml".into(),
+                ));
+            }
+            Err(why) => {
+                return Err(JobError::Flag(format!(
+                    "{why}: give --job JOB.yaml (the job they were cut with), or --stock LxWxT"
+                )));
+            }
+        },
+    };
+    Ok(Stock {
+        block,
+        table_position,
+        part,
+        keep,
+        placed,
+        basis,
+    })
+}
+
+/// The programs as sources for the simulation, each with its setup (from
+/// `--flip-after`, the header, or the order), and whether a header says
+/// setup 2 is zeroed on the spoilboard.
+fn sources(
+    args: &VerifyArgs,
+    heads: &[String],
+) -> Result<(Vec<ProgramSource<'static>>, bool), JobError> {
+    let mut sources = Vec::new();
+    let count = args.programs.len();
+    let mut zero_on_table = false;
+    for (k, path) in args.programs.iter().enumerate() {
+        let file = std::fs::File::open(path).map_err(|e| JobError::Read {
+            path: path.display().to_string(),
+            message: e.to_string(),
+        })?;
+        let reader = std::io::BufReader::new(file);
+        let head = &heads[k];
+        let side = match args.flip_after {
+            Some(n) if k < n => Side::Deck,
+            Some(_) => Side::Bottom,
+            // The project's own programs name their setup in the header;
+            // of two programs from elsewhere, the second follows the flip.
+            None => {
+                if head.contains("setup 2 of 2")
+                    || (count == 2 && k == 1 && !head.contains("setup 1 of 2"))
+                {
+                    Side::Bottom
+                } else {
+                    Side::Deck
+                }
+            }
+        };
+        if side == Side::Bottom && head.contains("Z0 on the spoilboard top") {
+            zero_on_table = true;
+        }
+        sources.push(ProgramSource {
+            name: path.display().to_string(),
+            side,
+            reader: Box::new(reader),
+            loaded: None,
+        });
+    }
+    Ok((sources, zero_on_table))
 }
