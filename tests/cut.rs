@@ -248,6 +248,42 @@ fn roughing_leaves_at_least_the_stock_to_leave() {
 }
 
 #[test]
+fn roughing_enters_its_levels_no_steeper_than_the_ramp_angle() {
+    // Every cut of the roughing that goes down is a ramp: its descent over
+    // its run in plan is at most tan(ramp_angle) (trigonometry), and the
+    // demo's levels 40 mm apart are entered at that angle, not shallower.
+    let c = shortboard();
+    let tan = c.job.roughing.ramp_angle.to_radians().tan();
+    let mut steepest: f64 = 0.0;
+    for k in 0..2 {
+        let mut at = [0.0, 0.0, 25.0];
+        for s in &roughing_of(c, k).steps {
+            match *s {
+                Step::Cut(p) => {
+                    let run = (p[0] - at[0]).hypot(p[1] - at[1]);
+                    let drop = at[2] - p[2];
+                    if drop > 1e-9 {
+                        assert!(
+                            drop <= tan * run + 1e-6,
+                            "setup {}: {drop} mm down over {run} mm",
+                            k + 1
+                        );
+                        steepest = steepest.max(drop / run);
+                    }
+                    at = p;
+                }
+                Step::Rapid(p) | Step::Plunge(p) => at = p,
+                Step::Arc { to, .. } => at = to,
+            }
+        }
+    }
+    assert!(
+        steepest > 0.9 * tan,
+        "steepest ramp {steepest} for tan {tan}"
+    );
+}
+
+#[test]
 fn the_registration_holes_map_onto_themselves_through_the_flip() {
     // A half turn about the block's X axis keeps points on its centre plane
     // in place (geometry); both holes are on it.

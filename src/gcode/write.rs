@@ -464,6 +464,7 @@ mod tests {
             plunge_feed: 2000.0,
             spindle: 18_000.0,
             climb: true,
+            ramp_angle: crate::profiles::job::DEFAULT_RAMP_ANGLE,
         };
         let mut steps = vec![
             Step::Rapid([10.0, 10.0, 25.0]),

@@ -216,6 +216,8 @@ pub struct Pass {
     pub spindle: f64,
     /// Climb milling (else conventional), with the spindle turning clockwise.
     pub climb: bool,
+    /// Angle of the zig-zag ramp that enters a roughing level, degrees.
+    pub ramp_angle: f64,
 }
 
 /// Finishing, beyond a [`Pass`].

@@ -23,6 +23,11 @@ pub const MIN_STEPDOWN: f64 = 0.5;
 /// off with the rest of the finish (common practice, no source).
 pub const DEFAULT_SCALLOP: f64 = 0.3;
 
+/// The roughing's entry ramp, degrees: steep, as foam allows a
+/// centre-cutting end mill (common practice, no source; 2–5° is the
+/// usual figure in metal, from memory).
+pub const DEFAULT_RAMP_ANGLE: f64 = 15.0;
+
 /// Largest roughing stepover, as a share of the tool's diameter: every
 /// ring overlaps the one before by a tenth of the tool (common practice,
 /// no source).
@@ -88,6 +93,7 @@ struct PassSpec {
     plunge_feed: Option<Spanned<FeedValue>>,
     spindle: Option<Spanned<f64>>,
     direction: Option<Direction>,
+    ramp_angle: Option<Spanned<f64>>,
     scallop: Option<Spanned<LengthValue>>,
     steep_angle: Option<Spanned<f64>>,
     tolerance: Option<Spanned<LengthValue>>,
@@ -350,6 +356,23 @@ impl JobReader<'_> {
             )?,
             None => 18000f64.clamp(m.spindle_min.max(1.0), m.spindle_max),
         };
+        if which != Strategy::Roughing {
+            self.forbid(
+                &spec.ramp_angle,
+                &f("ramp_angle"),
+                "only the roughing enters its levels by a ramp",
+            )?;
+        }
+        let ramp_angle = match &spec.ramp_angle {
+            Some(v) => self.r.number(
+                v,
+                &f("ramp_angle"),
+                1.0,
+                45.0,
+                "degrees from level; the roughing end mill enters each level along a zig-zag ramp this steep",
+            )?,
+            None => DEFAULT_RAMP_ANGLE,
+        };
         Ok(Pass {
             tool,
             stepdown,
@@ -359,6 +382,7 @@ impl JobReader<'_> {
             plunge_feed,
             spindle,
             climb: spec.direction != Some(Direction::Conventional),
+            ramp_angle,
         })
     }
 
@@ -745,5 +769,24 @@ mod tests {
         assert!(e.to_string().contains("ball-end"), "{e}");
         let e = job_from_str("roughing:\n  feed: 30000mm/min\n", "j.yaml", &m).unwrap_err();
         assert!(e.to_string().contains("at most 15000"), "{e}");
+    }
+
+    #[test]
+    fn the_ramp_angle_is_the_roughing_s_and_held_to_its_range() {
+        let m = generic_machine();
+        let j = job_from_str("roughing:\n  ramp_angle: 30\n", "j.yaml", &m).unwrap();
+        assert_eq!(j.roughing.ramp_angle, 30.0);
+        assert_eq!(
+            job_from_str("{}", "j.yaml", &m)
+                .unwrap()
+                .roughing
+                .ramp_angle,
+            DEFAULT_RAMP_ANGLE
+        );
+        let e = job_from_str("roughing:\n  ramp_angle: 60\n", "j.yaml", &m).unwrap_err();
+        assert_eq!(e.location(), Some((2, 15)));
+        assert!(e.to_string().contains("between 1 and 45"), "{e}");
+        let e = job_from_str("finishing:\n  ramp_angle: 10\n", "j.yaml", &m).unwrap_err();
+        assert!(e.to_string().contains("does not apply"), "{e}");
     }
 }

@@ -165,6 +165,7 @@ pub fn pocket_pass(tool: &Tool, machine: &Machine, climb: bool) -> Pass {
         plunge_feed: 600.0,
         spindle: 18_000.0f64.clamp(machine.spindle_min, machine.spindle_max),
         climb,
+        ramp_angle: crate::profiles::job::DEFAULT_RAMP_ANGLE,
     }
 }
 

@@ -241,9 +241,9 @@ fn last_xy(steps: &[Step], z: f64) -> [f64; 3] {
 }
 
 /// Goes to the start of a ring and cuts it: rapid at clearance, rapid down
-/// to 2 mm above the level cleared before, then a zig-zag ramp at 3° down
-/// to this level along the ring's first stretch (common practice for
-/// foam, no source), then the ring.
+/// to 2 mm above the level cleared before, then a zig-zag ramp at the
+/// roughing's `ramp_angle` down to this level along the ring's first
+/// stretch, then the ring.
 fn entry(steps: &mut Vec<Step>, ctx: &Ctx, pts: &[[f64; 3]], closed: bool, above: f64, level: f64) {
     let start = pts[0];
     let r = ctx.job.roughing.tool.cutter.radius;
@@ -254,7 +254,7 @@ fn entry(steps: &mut Vec<Step>, ctx: &Ctx, pts: &[[f64; 3]], closed: bool, above
     steps.push(Step::Rapid([start[0], start[1], above + 2.0]));
     steps.push(Step::Plunge([start[0], start[1], above]));
     let drop = above - level;
-    let ramp_len = drop / 3f64.to_radians().tan();
+    let ramp_len = drop / ctx.job.roughing.ramp_angle.to_radians().tan();
     // The stretch to ramp along: up to half the ramp length forward.
     let mut stretch = vec![start];
     let mut run = 0.0;
