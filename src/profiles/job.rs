@@ -21,7 +21,7 @@ pub const MIN_STEPDOWN: f64 = 0.5;
 
 /// Default scallop: a few tenths of a millimetre, which the shaper sands
 /// off with the rest of the finish (common practice, no source).
-pub const DEFAULT_SCALLOP: f64 = 0.3;
+pub const DEFAULT_SCALLOP: f64 = 0.25;
 
 /// The roughing's entry ramp, degrees: steep, as foam allows a
 /// centre-cutting end mill (common practice, no source; 2–5° is the

@@ -23,7 +23,7 @@ pub(super) fn finishing(ctx: &Ctx) -> (Vec<Toolpath>, usize) {
     // part (not the floor round it) holds it up.
     let gentle_only = fin.rails.is_some();
     let (passes, mut positions) = parallel(ctx, &dc, gentle_only);
-    let stepover = scallop_stepover(cutter.radius, fin.scallop) * theta.cos();
+    let stepover = scallop_stepover(cutter.radius, fin.scallop);
     let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
     let mut at: Option<[f64; 3]> = None;
     for runs in passes {
@@ -74,16 +74,43 @@ pub(super) fn finishing(ctx: &Ctx) -> (Vec<Toolpath>, usize) {
     (paths, positions)
 }
 
+/// One pass of the raster: its Y at each sample along X and where the
+/// ball stands there (none where it does not cut).
+struct Row {
+    y: Vec<f64>,
+    at: Vec<Option<[f64; 3]>>,
+}
+
+/// The longest run of samples a pass may leave out and still count as
+/// cutting there when the next pass is spaced (the gentle test flickers
+/// for a sample or two where the contact sits on a triangle's edge or the
+/// floor's estimate wavers; a longer gap is an edge).
+const BRIDGE: usize = 5;
+
+/// The steepest face a pass's spacing is narrowed for, degrees: beyond
+/// it the rail band's Z levels take over in any case.
+const MAX_SLOPE: f64 = 75.0;
+
 /// The parallel passes along X, each as its runs in cutting order
 /// (alternate passes reversed), and the cutter positions computed. With
 /// `gentle_only` a run breaks where the surface under the ball is steeper
 /// than the steep angle or the ball would rest on the floor.
+///
+/// The stepover follows the slope (constant scallop): each pass is a line
+/// along X whose distance from the one before is, at every sample, the
+/// scallop's stepover times the cosine of the slope across the passes
+/// there (on a face tilted φ across them, balls d apart in plan stand
+/// d / cos φ apart, and the cusp depends on that: circle geometry). The
+/// step is the least within a ball's radius along X (so a pass bends
+/// gently), and wherever the balls then stand farther apart than the
+/// stepover (the slope grew between them), those samples are moved in and
+/// computed again. A flat deck gets the full stepover, a rolled rail
+/// what its slope needs.
 fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64; 3]>>>, usize) {
     let fin = &ctx.job.finishing;
     let r = dc.cutter().radius;
     let s = scallop_stepover(r, fin.scallop);
     let theta = fin.steep_angle.to_radians();
-    let stepover = s * theta.cos();
     // Samples 1 mm apart: the ball's height along a pass bends no tighter
     // than the ball (radius R over a sharp edge), so a chord sags at most
     // L²/8R = 0.02 mm below it there for R = 6.35 mm (geometry: the
@@ -97,35 +124,137 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
         p.centre_y + p.half_width + reach,
     );
     let (x0, x1) = (p.x_range[0] - reach, p.x_range[1] + reach);
-    let n_pass = ((y1 - y0) / stepover).ceil() as usize + 1;
     let n_along = ((x1 - x0) / along).ceil() as usize + 1;
-    let tol = fin.tolerance;
+    let xs: Vec<f64> = (0..n_along)
+        .map(|k| (x0 + k as f64 * along).min(x1))
+        .collect();
+    // The ball at (x, y).
+    let sample = |x: f64, y: f64| -> Option<[f64; 3]> {
+        if ctx.outside.at([x, y]) > reach {
+            return None;
+        }
+        if gentle_only {
+            return gentle(ctx, dc, x, y, theta.cos());
+        }
+        Some([x, y, ctx.tip(dc, x, y)])
+    };
+    let row_at = |y: Vec<f64>| -> Row {
+        let at = xs.par_iter().zip(&y).map(|(&x, &y)| sample(x, y)).collect();
+        Row { y, at }
+    };
+    let widen = (r / along).ceil() as usize;
+    let least = s * MAX_SLOPE.to_radians().cos();
+    // From the stringer out, each way until a pass lies wholly off the part.
+    let centre = row_at(vec![p.centre_y; n_along]);
+    let mut positions = n_along;
+    // The next pass from `prev` (and the one before it, `before`), `dir`
+    // +1 or -1 in Y. The slope is first taken as the chord's between the
+    // last two passes (flat from the stringer's pass); where it grew, the
+    // balls stand too far apart and the samples move in.
+    let mut next = |prev: &Row, before: Option<&Row>, dir: f64| -> Row {
+        let last = bridged(&prev.at, BRIDGE);
+        let earlier = before.map(|b| bridged(&b.at, BRIDGE));
+        let step: Vec<f64> = (0..n_along)
+            .map(|k| match (last[k], earlier.as_ref().and_then(|b| b[k])) {
+                (Some(a), Some(b)) => {
+                    let cos = (a[1] - b[1]).abs() / (a[1] - b[1]).hypot(a[2] - b[2]);
+                    (s * cos).max(least)
+                }
+                // From the stringer's pass, or where the last pass did
+                // not cut (off the part, or a sample it left out): the
+                // full stepover, narrowed by the neighbours' steps.
+                _ => s,
+            })
+            .collect();
+        let mut step = running_min(&step, widen);
+        let mut row = row_at(prev.y.iter().zip(&step).map(|(y, d)| y + dir * d).collect());
+        positions += n_along;
+        // Where the balls stand too far apart, in by the ratio, twice at most.
+        for _ in 0..2 {
+            let mut redo = vec![false; n_along];
+            let now = bridged(&row.at, BRIDGE);
+            for k in 0..n_along {
+                match (last[k], now[k]) {
+                    (Some(a), Some(b)) => {
+                        let d = (b[1] - a[1]).hypot(b[2] - a[2]);
+                        if d > s * 1.001 {
+                            redo[k] = true;
+                            step[k] = (step[k] * s / d).max(least);
+                        }
+                    }
+                    // Where only one of the two cuts near the rail (the
+                    // edge of what the ball takes: a steep face, or a hard
+                    // edge the ball rides over; further in, a sample left
+                    // out where the floor's estimate wavers over a
+                    // concave, not an edge): half the stepover, so the last pass
+                    // that cuts stands within s / 2 of the edge and the
+                    // flat it leaves there holds the scallop,
+                    // r − √(r² − s²/4) = h.
+                    (None, Some(_)) | (Some(_), None)
+                        if step[k] > 0.5 * s + 1e-9
+                            && ctx.inside.at([xs[k], row.y[k]]) <= RAIL_BAND =>
+                    {
+                        redo[k] = true;
+                        step[k] = 0.5 * s;
+                    }
+                    _ => {}
+                }
+            }
+            if !redo.contains(&true) {
+                break;
+            }
+            let narrowed = running_min(&step, widen);
+            let changed: Vec<usize> = (0..n_along)
+                .filter(|&k| narrowed[k] < step[k] || redo[k])
+                .collect();
+            step = narrowed;
+            let fresh: Vec<(usize, f64, Option<[f64; 3]>)> = changed
+                .par_iter()
+                .map(|&k| {
+                    let y = prev.y[k] + dir * step[k];
+                    (k, y, sample(xs[k], y))
+                })
+                .collect();
+            positions += fresh.len();
+            for (k, y, at) in fresh {
+                row.y[k] = y;
+                row.at[k] = at;
+            }
+        }
+        row
+    };
+    let mut halves: [Vec<Row>; 2] = [Vec::new(), Vec::new()];
+    for (half, dir) in halves.iter_mut().zip([-1.0, 1.0]) {
+        loop {
+            let n = half.len();
+            let prev = half.last().unwrap_or(&centre);
+            let before = match n {
+                0 => None,
+                1 => Some(&centre),
+                _ => Some(&half[n - 2]),
+            };
+            let row = next(prev, before, dir);
+            let beyond = row.y.iter().all(|&y| y < y0 || y > y1);
+            if beyond || (row.at.iter().all(Option::is_none) && prev.at.iter().all(Option::is_none))
+            {
+                break;
+            }
+            half.push(row);
+        }
+    }
+    let [low, high] = halves;
     // From the middle out, each half in zig-zag: the top of the deck (or
     // of the bottom) first, so the roughing's stairs there are gone before
     // the ball works down a rail beside them.
-    let mid = n_pass / 2;
-    let order: Vec<usize> = (0..=mid).rev().chain(mid + 1..n_pass).collect();
-    // Every cutter position of every pass, in parallel, in cutting order.
-    let passes = order
+    let rows: Vec<Row> = std::iter::once(centre).chain(low).chain(high).collect();
+    let tol = fin.tolerance;
+    let passes = rows
         .into_par_iter()
         .enumerate()
-        .map(|(nth, j)| {
-            let y = (y0 + j as f64 * stepover).min(y1);
-            let points: Vec<Option<[f64; 3]>> = (0..n_along)
-                .map(|k| {
-                    let x = (x0 + k as f64 * along).min(x1);
-                    if ctx.outside.at([x, y]) > reach {
-                        return None;
-                    }
-                    if gentle_only {
-                        return gentle(ctx, dc, x, y, theta.cos());
-                    }
-                    Some([x, y, ctx.tip(dc, x, y)])
-                })
-                .collect();
+        .map(|(nth, row)| {
             let mut runs: Vec<Vec<[f64; 3]>> = Vec::new();
             let mut run: Vec<[f64; 3]> = Vec::new();
-            for q in points {
+            for q in row.at {
                 match q {
                     Some(q) => run.push(q),
                     None => {
@@ -151,7 +280,48 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
                 .collect()
         })
         .collect();
-    (passes, n_pass * n_along)
+    (passes, positions)
+}
+
+/// `at` with every gap of at most `gap` samples between two that cut
+/// filled along the chord between them (a sample the ball left out, not
+/// an edge of what it takes).
+fn bridged(at: &[Option<[f64; 3]>], gap: usize) -> Vec<Option<[f64; 3]>> {
+    let mut out = at.to_vec();
+    let mut last: Option<usize> = None;
+    for k in 0..at.len() {
+        if at[k].is_none() {
+            continue;
+        }
+        if let Some(j) = last
+            && k - j > 1
+            && k - j <= gap + 1
+            && let (Some(a), Some(b)) = (at[j], at[k])
+        {
+            for (m, o) in out.iter_mut().enumerate().take(k).skip(j + 1) {
+                *o = Some(lerp3(a, b, (m - j) as f64 / (k - j) as f64));
+            }
+        }
+        last = Some(k);
+    }
+    out
+}
+
+/// `v` made smooth without rising anywhere: the least within `w` places
+/// either side of each place, then the mean of those within `w` places.
+/// Each mean is of minima whose windows all hold the place itself, so it
+/// is never above `v` there; and it changes by a ramp, not a step.
+fn running_min(v: &[f64], w: usize) -> Vec<f64> {
+    let window = |k: usize| k.saturating_sub(w)..(k + w + 1).min(v.len());
+    let least: Vec<f64> = (0..v.len())
+        .map(|k| v[window(k)].iter().copied().fold(f64::INFINITY, f64::min))
+        .collect();
+    (0..v.len())
+        .map(|k| {
+            let span = &least[window(k)];
+            span.iter().sum::<f64>() / span.len() as f64
+        })
+        .collect()
 }
 
 /// The ball's position at (x, y) if it rests on the part, clear of the
