@@ -393,6 +393,50 @@ fn finishing_stepover_follows_the_slope_and_holds_the_scallop() {
 }
 
 #[test]
+fn rail_levels_hold_their_height() {
+    // A Z-level pass runs at one height: every point of a run of the rail
+    // band stands within a few hundredths of the run's own height (the
+    // crossings are found to 0.01 mm; chords between them sag a little on
+    // the curved wall). A crossing put at a grid node instead, up to 1 mm
+    // off, stood 0.4 mm proud and dented the pass wherever it met a grid
+    // line at a slant.
+    let c = shortboard();
+    let (mut points, mut off) = (0usize, 0usize);
+    for k in 0..2 {
+        let rails = c.plan.setups[k]
+            .paths
+            .iter()
+            .find(|p| p.label == "rails")
+            .unwrap();
+        let mut run: Vec<f64> = Vec::new();
+        let mut flush = |run: &mut Vec<f64>| {
+            // The long runs round the rail (short ones meet the floor at
+            // the rail's foot, where the ball rests on the floor).
+            if run.len() > 50 {
+                let mut z = run.clone();
+                z.sort_by(f64::total_cmp);
+                let level = z[z.len() / 2];
+                points += run.len();
+                off += run.iter().filter(|&&h| (h - level).abs() > 0.1).count();
+            }
+            run.clear();
+        };
+        for st in &rails.steps {
+            match *st {
+                Step::Cut(q) => run.push(q[2]),
+                _ => flush(&mut run),
+            }
+        }
+        flush(&mut run);
+    }
+    assert!(points > 1000, "{points}");
+    assert!(
+        off * 50 <= points,
+        "{off} of {points} points over 0.1 mm off their level"
+    );
+}
+
+#[test]
 fn same_input_same_programs() {
     let a = case("shortboard.yaml");
     let b = shortboard();

@@ -41,11 +41,8 @@ pub(super) fn finishing(ctx: &Ctx) -> (Vec<Toolpath>, usize) {
     } else {
         theta
     };
-    // Levels dz apart stand dz / sin φ apart on a face at φ: spaced for
-    // the gentlest face the levels take, 0.9 of the slope at `start`.
-    let gentlest = (STEEP_SHARE * start.tan()).atan();
-    let dz = scallop_stepover(rail_pass.tool.cutter.radius, rail_scallop) * gentlest.sin();
-    let (wl, n) = waterlines(ctx, &rail_dc, dz, start);
+    let rail_s = scallop_stepover(rail_pass.tool.cutter.radius, rail_scallop);
+    let (wl, n) = waterlines(ctx, &rail_dc, rail_s, start);
     positions += n;
     let mut paths = Vec::new();
     if gentle_only {
@@ -429,12 +426,13 @@ const STEEP_SHARE: f64 = 0.9;
 pub(super) const RAIL_BAND: f64 = 60.0;
 
 /// Z-level passes where the surface is steeper than `theta`: contours of
-/// the drop-cutter height every `dz`, each crossing found on its grid
+/// the drop-cutter height, spaced in height for the scallop's stepover `s`
+/// on the gentlest face between two levels, each crossing found on its grid
 /// edge from the drop-cutter itself, each point then dropped exactly.
 pub(super) fn waterlines(
     ctx: &Ctx,
     dc: &DropCutter,
-    dz: f64,
+    s: f64,
     theta: f64,
 ) -> (Vec<Vec<[f64; 3]>>, usize) {
     let r = dc.cutter().radius;
@@ -493,11 +491,29 @@ pub(super) fn waterlines(
             .map(|v| if v.is_finite() { *v } else { -1e9 })
             .collect(),
     );
+    // Levels dz apart stand dz / sin φ apart on a face at φ, so each next
+    // level is s · sin φ down for the gentlest face φ between this level
+    // and a full stepover below it (the steep nodes there, by their
+    // slope), and never less than for the gentlest face the levels take
+    // at all, 0.9 of the slope at `theta`.
+    let gentlest = (STEEP_SHARE * tan).atan();
+    let least = s * gentlest.sin();
+    let mut faces: Vec<(f64, f64)> = (0..heights.len())
+        .filter(|&k| steep[k])
+        .map(|k| {
+            let g = slope(k % nx, k / nx);
+            (heights[k], g / (1.0 + g * g).sqrt())
+        })
+        .collect();
+    faces.sort_by(|a, b| a.0.total_cmp(&b.0));
     let mut levels = Vec::new();
-    let mut z = top - dz / 2.0;
+    let mut z = top - least / 2.0;
     while z > bottom {
         levels.push(z);
-        z -= dz;
+        let from = faces.partition_point(|f| f.0 < z - s);
+        let to = faces.partition_point(|f| f.0 <= z);
+        let sin = faces[from..to].iter().map(|f| f.1).fold(1.0, f64::min);
+        z -= (s * sin).max(least);
     }
     let ranges = field::Ranges::of(&filled);
     // Steep if any corner of its cell is: where the height flattens onto
@@ -535,8 +551,15 @@ pub(super) fn waterlines(
                 for _ in 0..40 {
                     let m = (a - fa * (b - a) / (fb - fa)).clamp(a, b);
                     let fm = tip(at(m)[0], at(m)[1]) - level;
-                    if fm.abs() <= 0.01 || b - a <= 1.0 / 1024.0 {
-                        return if fm >= 0.0 { at(m) } else { at(a) };
+                    // Within 0.01 mm of the level either way is the
+                    // crossing (taking the end above instead, up to a
+                    // node's spacing away, put a dent in the pass wherever
+                    // it met a grid line at a slant).
+                    if fm.abs() <= 0.01 {
+                        return at(m);
+                    }
+                    if b - a <= 1.0 / 1024.0 {
+                        return at(a);
                     }
                     if fm >= 0.0 {
                         (a, fa) = (m, fm);
