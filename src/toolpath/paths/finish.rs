@@ -98,11 +98,12 @@ const MAX_SLOPE: f64 = 75.0;
 /// scallop's stepover times the cosine of the slope across the passes
 /// there (on a face tilted φ across them, balls d apart in plan stand
 /// d / cos φ apart, and the cusp depends on that: circle geometry). The
-/// step is the least within a ball's radius along X (so a pass bends
-/// gently), and wherever the balls then stand farther apart than the
-/// stepover (the slope grew between them), those samples are moved in and
-/// computed again. A flat deck gets the full stepover, a rolled rail
-/// what its slope needs.
+/// step is smoothed along X over a ball's radius ([`smoothed_min`], so a
+/// pass bends gently and never rises above the step needed), and wherever
+/// the balls then stand farther apart than the stepover (the slope grew
+/// between them), those samples are moved in and computed again; at the
+/// edge of what the ball takes near the rail, half the stepover. A flat
+/// deck gets the full stepover, a rolled rail what its slope needs.
 fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64; 3]>>>, usize) {
     let fin = &ctx.job.finishing;
     let r = dc.cutter().radius;
@@ -163,7 +164,7 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
                 _ => s,
             })
             .collect();
-        let mut step = running_min(&step, widen);
+        let mut step = smoothed_min(&step, widen);
         let mut row = row_at(prev.y.iter().zip(&step).map(|(y, d)| y + dir * d).collect());
         positions += n_along;
         // Where the balls stand too far apart, in by the ratio, twice at most.
@@ -183,9 +184,9 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
                     // edge of what the ball takes: a steep face, or a hard
                     // edge the ball rides over; further in, a sample left
                     // out where the floor's estimate wavers over a
-                    // concave, not an edge): half the stepover, so the last pass
-                    // that cuts stands within s / 2 of the edge and the
-                    // flat it leaves there holds the scallop,
+                    // concave, not an edge): half the stepover, so the
+                    // last pass that cuts stands within s / 2 of the edge
+                    // and the flat it leaves there holds the scallop,
                     // r − √(r² − s²/4) = h.
                     (None, Some(_)) | (Some(_), None)
                         if step[k] > 0.5 * s + 1e-9
@@ -200,7 +201,7 @@ fn parallel(ctx: &Ctx, dc: &DropCutter, gentle_only: bool) -> (Vec<Vec<Vec<[f64;
             if !redo.contains(&true) {
                 break;
             }
-            let narrowed = running_min(&step, widen);
+            let narrowed = smoothed_min(&step, widen);
             let changed: Vec<usize> = (0..n_along)
                 .filter(|&k| narrowed[k] < step[k] || redo[k])
                 .collect();
@@ -308,7 +309,7 @@ fn bridged(at: &[Option<[f64; 3]>], gap: usize) -> Vec<Option<[f64; 3]>> {
 /// either side of each place, then the mean of those within `w` places.
 /// Each mean is of minima whose windows all hold the place itself, so it
 /// is never above `v` there; and it changes by a ramp, not a step.
-fn running_min(v: &[f64], w: usize) -> Vec<f64> {
+fn smoothed_min(v: &[f64], w: usize) -> Vec<f64> {
     let window = |k: usize| k.saturating_sub(w)..(k + w + 1).min(v.len());
     let least: Vec<f64> = (0..v.len())
         .map(|k| v[window(k)].iter().copied().fold(f64::INFINITY, f64::min))
