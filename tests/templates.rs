@@ -30,19 +30,23 @@ struct PageData {
     cut: Vec<Vec<[f64; 2]>>,
 }
 
+/// A page's MediaBox, points.
+fn media_box(dict: &lopdf::Dictionary) -> Vec<f64> {
+    dict.get(b"MediaBox")
+        .unwrap()
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(num)
+        .collect()
+}
+
 fn read_pdf(bytes: &[u8]) -> Vec<PageData> {
     let doc = Document::load_mem(bytes).unwrap();
     let mut out = vec![];
     for (_, id) in doc.get_pages() {
         let dict = doc.get_object(id).unwrap().as_dict().unwrap();
-        let mb: Vec<f64> = dict
-            .get(b"MediaBox")
-            .unwrap()
-            .as_array()
-            .unwrap()
-            .iter()
-            .map(num)
-            .collect();
+        let mb = media_box(dict);
         let content = Content::decode(&doc.get_page_content(id)).unwrap();
         let mut p = PageData {
             media: [mb[0], mb[1], mb[2], mb[3]],
@@ -658,14 +662,7 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
         let doc = Document::load_mem(&pdf).unwrap();
         for (n, (_, id)) in doc.get_pages().into_iter().enumerate() {
             let dict = doc.get_object(id).unwrap().as_dict().unwrap();
-            let mb: Vec<f64> = dict
-                .get(b"MediaBox")
-                .unwrap()
-                .as_array()
-                .unwrap()
-                .iter()
-                .map(num)
-                .collect();
+            let mb = media_box(dict);
             let (w, h) = (mb[2] / PT_PER_MM, mb[3] / PT_PER_MM);
             let inside = |x: f64, y: f64| {
                 x >= tiling::MARGIN - 0.01

@@ -386,20 +386,18 @@ mod tests {
             .split('"')
             .next()
             .unwrap();
-        let first: Vec<f64> = bottom[1..]
-            .split(" L")
-            .next()
-            .unwrap()
-            .split(',')
-            .map(|v| v.trim().parse().unwrap())
-            .collect();
-        let flat: Vec<f64> = svg.split("<path d=\"").nth(1).unwrap()[1..]
-            .split(" L")
-            .next()
-            .unwrap()
-            .split(',')
-            .map(|v| v.trim().parse().unwrap())
-            .collect();
+        // The first point of a path's `d` ("Mx,y L…").
+        let start = |d: &str| -> Vec<f64> {
+            d[1..]
+                .split(" L")
+                .next()
+                .unwrap()
+                .split(',')
+                .map(|v| v.trim().parse().unwrap())
+                .collect()
+        };
+        let first = start(bottom);
+        let flat = start(svg.split("<path d=\"").nth(1).unwrap());
         let rise = flat[1] - first[1];
         let want = b.rocker.eval(0.0) * s * EXAGGERATION;
         assert!((rise - want).abs() < 0.15, "{rise} px for {want}");
