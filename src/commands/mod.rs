@@ -3,6 +3,8 @@
 //! Nothing is written until everything a command writes has been computed,
 //! and then a command's files are put in place as one set (`output`).
 
+pub mod cli;
+pub mod run;
 mod mesh;
 mod make;
 mod cut;
