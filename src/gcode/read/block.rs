@@ -358,13 +358,9 @@ fn motion(
         ));
     };
     let mut to = st.pos;
-    for a in 0..3 {
-        if let Some(v) = w.target[a] {
-            to[a] = if st.absolute {
-                v * unit
-            } else {
-                st.pos[a] + v * unit
-            };
+    for (t, v) in to.iter_mut().zip(w.target) {
+        if let Some(v) = v {
+            *t = if st.absolute { v * unit } else { *t + v * unit };
         }
     }
     let from = st.pos;
