@@ -10,9 +10,8 @@ use blanksmith::model::machine::Cutter;
 use blanksmith::model::mesh::Mesh;
 use blanksmith::profiles::machine as profile;
 use blanksmith::toolpath::setup::Side;
-use blanksmith::verify::simulate::{
-    self as verify, ProgramSource, Setting, Verification, VerifyOptions,
-};
+use blanksmith::verify::report::Verification;
+use blanksmith::verify::simulate::{self as verify, ProgramSource, Setting, VerifyOptions};
 
 fn run(
     programs: &[&str],

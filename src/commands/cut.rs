@@ -13,9 +13,8 @@ use crate::profiles::stock::StockEntry;
 use crate::toolpath::pick;
 use crate::toolpath::setup::CamError;
 use crate::verify::picture;
-use crate::verify::simulate::{
-    self as simulate, ProgramSource, Setting, Verification, VerifyOptions,
-};
+use crate::verify::report::Verification;
+use crate::verify::simulate::{self as simulate, ProgramSource, Setting, VerifyOptions};
 use std::path::{Path, PathBuf};
 
 /// A board's cutting outputs (programs for any tool, setup sheet,

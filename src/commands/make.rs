@@ -176,10 +176,7 @@ pub fn make(
 }
 
 /// The cut in a few lines for the order sheet.
-pub(crate) fn cut_summary(
-    plan: &CutPlan,
-    v: &crate::verify::simulate::Verification,
-) -> Vec<String> {
+pub(crate) fn cut_summary(plan: &CutPlan, v: &crate::verify::report::Verification) -> Vec<String> {
     use crate::gcode::program::duration;
     let [t1, t2] = setup_times(plan);
     let b = &plan.placement.block;
@@ -293,7 +290,7 @@ pub(crate) fn fitting_lines(
 /// mesh cannot be made (the page then goes without the view).
 fn screen_scene<E>(
     board: &Board,
-    cutting: &Result<(CutPlan, crate::verify::simulate::Verification, Files), E>,
+    cutting: &Result<(CutPlan, crate::verify::report::Verification, Files), E>,
 ) -> Option<crate::page::scene::Scene> {
     use crate::page::scene;
     let mesh = crate::meshing::mesher::mesh_board(board, scene::SCREEN_TOLERANCE).ok()?;

@@ -7,9 +7,8 @@ use crate::output;
 use crate::profiles::job;
 use crate::profiles::machine as profile;
 use crate::toolpath::setup::Side;
-use crate::verify::simulate::{
-    self as simulate, ProgramSource, Setting, Verification, VerifyOptions,
-};
+use crate::verify::report::Verification;
+use crate::verify::simulate::{self as simulate, ProgramSource, Setting, VerifyOptions};
 use std::path::{Path, PathBuf};
 
 /// What `verify` runs on.

@@ -10,7 +10,7 @@ use std::fmt::Write as _;
 use crate::gcode::program::{self, CutPlan};
 use crate::model::board::{Board, RailProfile};
 use crate::units::Both;
-use crate::verify::simulate::Verification;
+use crate::verify::report::Verification;
 use crate::volume::report::Report;
 
 const STYLE: &str = "body{font-family:sans-serif;margin:2em;max-width:1200px;color:#222}\

@@ -28,7 +28,7 @@ use crate::model::toolpath::Step;
 use crate::svg::diverging;
 use crate::toolpath::setup::{Side, flip};
 use crate::verify::picture::base64;
-use crate::verify::simulate::Verification;
+use crate::verify::report::Verification;
 
 /// Chord tolerance of the board drawn in the view, mm.
 pub const SCREEN_TOLERANCE: f64 = 0.5;

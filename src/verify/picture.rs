@@ -2,7 +2,7 @@
 //! map drawn as an embedded PNG (one pixel a cell), with a legend in mm.
 
 use crate::svg::diverging;
-use crate::verify::simulate::DeviationMap;
+use crate::verify::report::DeviationMap;
 
 /// PNG bytes of a deviation map: blue for stock left, red for gouges,
 /// white within ±`scale`/50, light grey where stock remains off the design.
@@ -92,7 +92,7 @@ pub fn base64(bytes: &[u8]) -> String {
 /// The deviation drawn at full colour, mm: four times the larger of the
 /// stock left under 95 % of the surface and the gouge tolerance, so the
 /// common leftover shows pale and anything unusual strong.
-pub fn colour_scale(v: &crate::verify::simulate::Verification) -> f64 {
+pub fn colour_scale(v: &crate::verify::report::Verification) -> f64 {
     v.leftover_p95_mm.unwrap_or(0.1).max(v.gouge_tolerance_mm) * 4.0
 }
 

@@ -1,0 +1,299 @@
+//! The simulated stock measured against the design: each setup's
+//! deviation map along the surface normal, the deepest gouge, the leftover
+//! (all, and where the finishing ball reaches), the cells no ball can
+//! touch, and each pocket's depth and area.
+
+use super::report::{DeviationMap, PocketReport, REACH_CHECKED_MM, Verification};
+use super::simulate::{Setting, VerifyOptions};
+use crate::geom::dropcutter::DropCutter;
+use crate::geom::zmap::ZMap;
+use crate::model::machine::Cutter;
+use crate::model::mesh::Mesh;
+use crate::toolpath::setup::{Side, flip_mesh};
+
+/// The figures against the design, from the stock's top after setup 1
+/// (`top1`) and the stock after setup 2 (`top2`, when there was one);
+/// `balls` is the smallest ball that finished each side.
+pub(super) fn against(
+    v: &mut Verification,
+    design: &Mesh,
+    setting: &Setting,
+    options: VerifyOptions,
+    (top1, top2): (Vec<f32>, Option<&ZMap>),
+    balls: [Option<f64>; 2],
+) {
+    let b = &setting.block;
+    let base = ZMap::of_stock(b, true, options.cell, 0.0).expect("sized above");
+    let mut m1 = base.clone();
+    m1.top = top1;
+    let reach = |side: Side| {
+        let floor = setting
+            .floor
+            .map(|(p, overlap)| move |x: f64| p.floor_at(side, x, overlap));
+        balls[side.number() as usize - 1].map(|r| Reach { r, floor })
+    };
+    let mut maps = vec![deviation(&m1, design, Side::Deck, reach(Side::Deck))];
+    if let Some(m2) = top2 {
+        maps.push(deviation(
+            m2,
+            &flip_mesh(design, b),
+            Side::Bottom,
+            reach(Side::Bottom),
+        ));
+    }
+    let mut all: Vec<f32> = Vec::new();
+    let (mut gouge, mut left) = ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
+    let (mut reach_left, mut out_of_reach) =
+        ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
+    let mut out_of_reach_cells = 0usize;
+    let mut pocket_cells: Vec<Vec<f64>> = vec![vec![]; setting.pockets.len()];
+    for dm in &maps {
+        for j in 0..dm.dims[1] {
+            for i in 0..dm.dims[0] {
+                let d = dm.deviation[j * dm.dims[0] + i];
+                if d.is_nan() {
+                    continue;
+                }
+                let p = [
+                    dm.origin[0] + (i as f64 + 0.5) * dm.cell[0],
+                    dm.origin[1] + (j as f64 + 0.5) * dm.cell[1],
+                    dm.side.number() as f64,
+                ];
+                let d = d as f64;
+                let y1 = if dm.side == Side::Bottom {
+                    b.width - p[1]
+                } else {
+                    p[1]
+                };
+                if d > 0.0
+                    && setting.keep.iter().any(|r| {
+                        p[0] >= r[0][0] && p[0] <= r[1][0] && y1 >= r[0][1] && y1 <= r[1][1]
+                    })
+                {
+                    continue;
+                }
+                if let Some(k) = setting
+                    .pockets
+                    .iter()
+                    .position(|z| z.side == dm.side && z.contains([p[0], p[1]]))
+                {
+                    pocket_cells[k].push(-d);
+                    continue;
+                }
+                // A cell at a pocket's wall stands beside a cliff as
+                // deep as the pocket: it is judged neither way.
+                if setting.pockets.iter().any(|z| {
+                    z.side == dm.side && z.edge_distance([p[0], p[1]]) <= 1.5 * options.cell
+                }) {
+                    continue;
+                }
+                if -d > gouge.0 {
+                    gouge = (-d, p);
+                }
+                if d > left.0 {
+                    left = (d, p);
+                }
+                if dm.unreachable.get(j * dm.dims[0] + i) == Some(&true) {
+                    out_of_reach_cells += 1;
+                    if d > out_of_reach.0 {
+                        out_of_reach = (d, p);
+                    }
+                } else if d > reach_left.0 {
+                    reach_left = (d, p);
+                }
+                all.push(d.max(0.0) as f32);
+            }
+        }
+    }
+    let cell_area = options.cell * options.cell;
+    for (z, mut cells) in setting.pockets.iter().zip(pocket_cells) {
+        cells.sort_by(f64::total_cmp);
+        let deep: Vec<f64> = cells
+            .iter()
+            .copied()
+            .filter(|&d| d >= z.depth / 2.0)
+            .collect();
+        v.pockets.push(PocketReport {
+            label: z.label.clone(),
+            setup: z.side.number() as u8,
+            depth_mm: z.depth,
+            depth_median_mm: deep.get(deep.len() / 2).copied().unwrap_or(0.0),
+            depth_max_mm: cells.last().copied().unwrap_or(0.0).max(0.0),
+            area_mm2: deep.len() as f64 * cell_area,
+            design_area_mm2: z.area,
+            volume_ml: cells.iter().map(|d| d.max(0.0)).sum::<f64>() * cell_area / 1000.0,
+        });
+    }
+    if !all.is_empty() {
+        let k = ((all.len() as f64 * 0.95) as usize).min(all.len() - 1);
+        let (_, p95, _) = all.select_nth_unstable_by(k, f32::total_cmp);
+        v.leftover_p95_mm = Some(*p95 as f64);
+        v.gouge_max_mm = Some(gouge.0.max(0.0));
+        v.gouge_at = Some(gouge.1);
+        v.leftover_max_mm = Some(left.0.max(0.0));
+        v.leftover_at = Some(left.1);
+        if reach_left.0 > f64::NEG_INFINITY {
+            v.leftover_reachable_max_mm = Some(reach_left.0.max(0.0));
+            v.leftover_reachable_at = Some(reach_left.1);
+        }
+        if out_of_reach_cells > 0 {
+            v.unreachable_mm2 = out_of_reach_cells as f64 * options.cell * options.cell;
+            v.unreachable_max_mm = Some(out_of_reach.0);
+            v.unreachable_at = Some(out_of_reach.1);
+        }
+    }
+    v.maps = maps;
+}
+
+/// Deviation of a side's simulated surface from the design seen from above,
+/// measured along the surface normal (the vertical difference times the
+/// normal's Z component).
+/// The ball that finished a side, and the floor its tip stayed above.
+struct Reach<F: Fn(f64) -> f64 + Sync> {
+    r: f64,
+    floor: Option<F>,
+}
+
+fn deviation<F: Fn(f64) -> f64 + Sync>(
+    map: &ZMap,
+    design: &Mesh,
+    side: Side,
+    ball: Option<Reach<F>>,
+) -> DeviationMap {
+    use rayon::prelude::*;
+    let ray = DropCutter::new(&[design], Cutter::flat(0.0));
+    let [nx, ny] = map.dims;
+    let rows: Vec<(Vec<f32>, Vec<bool>)> = (0..ny)
+        .into_par_iter()
+        .map(|j| {
+            let mut dev = Vec::with_capacity(nx);
+            let mut stock = Vec::with_capacity(nx);
+            for i in 0..nx {
+                let c = map.centre(i, j);
+                let k = j * nx + i;
+                let present = map.top[k] > map.bottom[k];
+                stock.push(present);
+                // A column cut away where the design has foam is a gouge
+                // down to the column's bottom.
+                let surface = if present { map.top[k] } else { map.bottom[k] } as f64;
+                dev.push(match ray.drop_contact(c[0], c[1]) {
+                    Some((z, n)) => ((surface - z) * n[2]) as f32,
+                    None => f32::NAN,
+                });
+            }
+            (dev, stock)
+        })
+        .collect();
+    let mut deviation = Vec::with_capacity(nx * ny);
+    let mut stock = Vec::with_capacity(nx * ny);
+    for (d, s) in rows {
+        deviation.extend(d);
+        stock.extend(s);
+    }
+    let unreachable = match ball {
+        Some(reach) if deviation.iter().any(|&d| d as f64 > REACH_CHECKED_MM) => {
+            out_of_reach(map, design, &ray, &deviation, &reach)
+        }
+        _ => vec![],
+    };
+    DeviationMap {
+        side,
+        origin: map.origin,
+        cell: map.cell,
+        dims: map.dims,
+        deviation,
+        stock,
+        unreachable,
+    }
+}
+
+/// How far above its touch on a face a ball may be held by the rest of
+/// the design and still count as touching (the mesh's facets and the
+/// rounding of the drop).
+const REACH_SLACK_MM: f64 = 0.02;
+
+/// Which cells with more than [`REACH_CHECKED_MM`] left a ball of radius
+/// `r` cannot touch: the ball resting on the design at the cell's point,
+/// its centre `r` out along the face's normal, is held higher by the rest
+/// of the design (a drop-cutter at that centre), or would need its tip
+/// below the floor. A convex surface is reachable everywhere above the
+/// floor; a notch or a corner tighter than the ball is not.
+fn out_of_reach<F: Fn(f64) -> f64 + Sync>(
+    map: &ZMap,
+    design: &Mesh,
+    ray: &DropCutter,
+    dev: &[f32],
+    reach: &Reach<F>,
+) -> Vec<bool> {
+    use rayon::prelude::*;
+    let r = reach.r;
+    let nx = map.dims[0];
+    // Only the triangles within 2R of a cell to test can hold the ball up
+    // there: mark squares of side 2R round those cells, keep the triangles
+    // whose plan box meets a marked square.
+    let g = 2.0 * r;
+    let (ox, oy) = (map.origin[0] - g, map.origin[1] - g);
+    let gw = ((map.dims[0] as f64 * map.cell[0] + 2.0 * g) / g).ceil() as usize + 1;
+    let gh = ((map.dims[1] as f64 * map.cell[1] + 2.0 * g) / g).ceil() as usize + 1;
+    let mut marked = vec![false; gw * gh];
+    for (k, &d) in dev.iter().enumerate() {
+        if (d as f64) <= REACH_CHECKED_MM {
+            continue;
+        }
+        let c = map.centre(k % nx, k / nx);
+        let (i, j) = (((c[0] - ox) / g) as usize, ((c[1] - oy) / g) as usize);
+        for b in j.saturating_sub(1)..(j + 2).min(gh) {
+            for a in i.saturating_sub(1)..(i + 2).min(gw) {
+                marked[b * gw + a] = true;
+            }
+        }
+    }
+    let near = Mesh {
+        vertices: design.vertices.clone(),
+        triangles: design
+            .triangles
+            .iter()
+            .filter(|t| {
+                let p = t.map(|v| design.vertices[v as usize]);
+                let cell = |x: f64, y: f64| {
+                    (
+                        (((x - ox) / g).max(0.0) as usize).min(gw - 1),
+                        (((y - oy) / g).max(0.0) as usize).min(gh - 1),
+                    )
+                };
+                let lo = cell(
+                    p[0][0].min(p[1][0]).min(p[2][0]),
+                    p[0][1].min(p[1][1]).min(p[2][1]),
+                );
+                let hi = cell(
+                    p[0][0].max(p[1][0]).max(p[2][0]),
+                    p[0][1].max(p[1][1]).max(p[2][1]),
+                );
+                (lo.1..=hi.1).any(|b| (lo.0..=hi.0).any(|a| marked[b * gw + a]))
+            })
+            .copied()
+            .collect(),
+    };
+    let ball = DropCutter::new(&[&near], Cutter::ball(2.0 * r));
+    (0..dev.len())
+        .into_par_iter()
+        .map(|k| {
+            if (dev[k] as f64) <= REACH_CHECKED_MM {
+                return false;
+            }
+            let c = map.centre(k % nx, k / nx);
+            let Some((z, n)) = ray.drop_contact(c[0], c[1]) else {
+                return false;
+            };
+            let centre = [c[0] + r * n[0], c[1] + r * n[1], z + r * n[2]];
+            let tip = centre[2] - r;
+            reach
+                .floor
+                .as_ref()
+                .is_some_and(|f| tip < f(centre[0]) - REACH_SLACK_MM)
+                || ball
+                    .drop(centre[0], centre[1])
+                    .is_some_and(|t| t > tip + REACH_SLACK_MM)
+        })
+        .collect()
+}
