@@ -228,13 +228,20 @@ pub fn inspect(mesh: &Mesh, format: StlFormat, weld_tolerance: f64, welded: usiz
     inspect_with(mesh, &EdgeTable::new(mesh), format, weld_tolerance, welded)
 }
 
-fn inspect_with(
-    mesh: &Mesh,
-    table: &EdgeTable,
-    format: StlFormat,
-    weld_tolerance: f64,
-    welded: usize,
-) -> Inspection {
+/// What the edges show: the triangles joined through them, the open,
+/// non-manifold and inconsistent ones (at their midpoints), the holes
+/// (loops of open edges), and each edge's first triangle and soundness.
+struct EdgeScan {
+    tri_sets: Sets,
+    open: Vec<[f64; 3]>,
+    nonmanifold: Vec<[f64; 3]>,
+    inconsistent: Vec<[f64; 3]>,
+    holes: usize,
+    edge_count: usize,
+    edge_of_component: Vec<(u32, u32, bool)>,
+}
+
+fn scan_edges(mesh: &Mesh, table: &EdgeTable) -> EdgeScan {
     let nt = mesh.triangles.len();
     let mut tri_sets = Sets::new(nt);
     let mut boundary = Sets::new(mesh.vertices.len());
@@ -267,14 +274,26 @@ fn inspect_with(
     let holes = (0..mesh.vertices.len() as u32)
         .filter(|&v| on_boundary[v as usize] && boundary.find(v) == v)
         .count();
-    let degenerate: Vec<u32> = (0..nt as u32)
-        .filter(|&t| topology::is_degenerate(mesh, &mesh.triangles[t as usize]))
-        .collect();
-    let duplicates = topology::duplicate_triangles(mesh);
-    let nm_vertices = non_manifold_vertices(mesh);
+    EdgeScan {
+        tri_sets,
+        open,
+        nonmanifold,
+        inconsistent,
+        holes,
+        edge_count,
+        edge_of_component,
+    }
+}
 
-    // Pieces: triangles joined through shared edges, numbered in order of
-    // their first triangle.
+/// The pieces: triangles joined through shared edges, numbered in order
+/// of their first triangle, each with its Euler characteristic, whether it
+/// is closed, its genus and volume.
+fn pieces(
+    mesh: &Mesh,
+    tri_sets: &mut Sets,
+    edge_of_component: &[(u32, u32, bool)],
+) -> (usize, Vec<Component>) {
+    let nt = mesh.triangles.len();
     let mut index_of_root = vec![usize::MAX; nt];
     let mut nc = 0;
     let comp_of: Vec<usize> = (0..nt as u32)
@@ -303,7 +322,7 @@ fn inspect_with(
             }
         }
     }
-    for &(t, _, ok) in &edge_of_component {
+    for &(t, _, ok) in edge_of_component {
         let c = comp_of[t as usize];
         e_count[c] += 1;
         if !ok {
@@ -325,6 +344,33 @@ fn inspect_with(
             }
         })
         .collect();
+    (nc, component_list)
+}
+
+fn inspect_with(
+    mesh: &Mesh,
+    table: &EdgeTable,
+    format: StlFormat,
+    weld_tolerance: f64,
+    welded: usize,
+) -> Inspection {
+    let nt = mesh.triangles.len();
+    let EdgeScan {
+        mut tri_sets,
+        open,
+        nonmanifold,
+        inconsistent,
+        holes,
+        edge_count,
+        edge_of_component,
+    } = scan_edges(mesh, table);
+    let degenerate: Vec<u32> = (0..nt as u32)
+        .filter(|&t| topology::is_degenerate(mesh, &mesh.triangles[t as usize]))
+        .collect();
+    let duplicates = topology::duplicate_triangles(mesh);
+    let nm_vertices = non_manifold_vertices(mesh);
+
+    let (nc, component_list) = pieces(mesh, &mut tri_sets, &edge_of_component);
 
     let measures = volume::measure(mesh);
     let watertight = nt > 0
