@@ -13,7 +13,7 @@ use crate::model::limits::{Bed, ROUNDING};
 use crate::model::machine::{Machine, Tool};
 use crate::model::mesh::Mesh;
 use crate::model::toolpath::{Step, Toolpath};
-use crate::profiles::machine::mm_text;
+use crate::profiles::values::mm_text;
 use crate::toolpath::paths::{self, SetupPaths};
 use crate::toolpath::pockets;
 use crate::toolpath::setup::{self, CamError, Placement, Pose, Side};

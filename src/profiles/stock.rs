@@ -10,7 +10,7 @@ use crate::description::DescriptionError;
 use crate::description::values::LengthValue;
 use crate::model::curve::Curve;
 use crate::model::job::{BlankRocker, Block, Stringer};
-use crate::profiles::machine::{Reader, mm_text};
+use crate::profiles::values::{Reader, mm_text};
 
 #[derive(Debug, Default, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -415,6 +415,6 @@ pub fn stock_list_from_str(text: &str, file: &str) -> Result<Vec<StockEntry>, De
 
 /// Reads a stock list file (bounded, as every input).
 pub fn load_stock_list(path: &std::path::Path) -> Result<Vec<StockEntry>, DescriptionError> {
-    let (text, file) = crate::profiles::machine::read_text(path)?;
+    let (text, file) = crate::profiles::values::read_text(path)?;
     stock_list_from_str(&text, &file)
 }

@@ -7,7 +7,7 @@ use super::{CamError, Placement, both, rotate_y};
 use crate::model::job::{Block, Holding, Job, Pitch};
 use crate::model::machine::Machine;
 use crate::model::mesh::Mesh;
-use crate::profiles::machine::mm_text;
+use crate::profiles::values::mm_text;
 
 /// The tilt about Y, degrees: the job's, or within ±8° (every 0.1°) the
 /// one that needs the least thickness (or leaves the most room in a

@@ -8,7 +8,7 @@
 
 use crate::model::job::{Block, Job};
 use crate::model::mesh::{Mesh, cross, norm, sub};
-use crate::profiles::machine::mm_text;
+use crate::profiles::values::mm_text;
 use crate::units;
 
 mod fit;
