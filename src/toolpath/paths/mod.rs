@@ -3,6 +3,8 @@
 //! passes plus Z levels on the steep rail band).
 
 mod finish;
+mod levels;
+mod raster;
 mod refine;
 mod rough;
 
@@ -17,6 +19,8 @@ use crate::toolpath::setup::{Placement, Side};
 use rayon::prelude::*;
 
 use finish::*;
+use levels::*;
+use raster::*;
 use refine::resample;
 pub use refine::{refine, scallop_stepover, simplify};
 use rough::*;

@@ -1,0 +1,332 @@
+//! The parallel finishing passes along X over the deck and bottom, their
+//! stepover from the slope across them (constant scallop).
+
+use super::*;
+use crate::geom::dropcutter::DropCutter;
+use rayon::prelude::*;
+
+/// One pass of the raster: its Y at each sample along X and where the
+/// ball stands there (none where it does not cut).
+struct Row {
+    y: Vec<f64>,
+    at: Vec<Option<[f64; 3]>>,
+}
+
+/// The longest run of samples a pass may leave out and still count as
+/// cutting there when the next pass is spaced (the gentle test flickers
+/// for a sample or two where the contact sits on a triangle's edge or the
+/// floor's estimate wavers; a longer gap is an edge).
+const BRIDGE: usize = 5;
+
+/// The steepest face a pass's spacing is narrowed for, degrees: beyond
+/// it the rail band's Z levels take over in any case.
+const MAX_SLOPE: f64 = 75.0;
+
+/// The parallel passes along X, each as its runs in cutting order
+/// (alternate passes reversed), and the cutter positions computed. With
+/// `gentle_only` a run breaks where the surface under the ball is steeper
+/// than the steep angle or the ball would rest on the floor.
+///
+/// The stepover follows the slope (constant scallop): each pass is a line
+/// along X whose distance from the one before is, at every sample, the
+/// scallop's stepover times the cosine of the slope across the passes
+/// there (on a face tilted φ across them, balls d apart in plan stand
+/// d / cos φ apart, and the cusp depends on that: circle geometry). The
+/// step is smoothed along X over a ball's radius ([`smoothed_min`], so a
+/// pass bends gently and never rises above the step needed), and wherever
+/// the balls then stand farther apart than the stepover (the slope grew
+/// between them), those samples are moved in and computed again; at the
+/// edge of what the ball takes near the rail, half the stepover. A flat
+/// deck gets the full stepover, a rolled rail what its slope needs.
+pub(super) fn parallel(
+    ctx: &Ctx,
+    dc: &DropCutter,
+    gentle_only: bool,
+) -> (Vec<Vec<Vec<[f64; 3]>>>, usize) {
+    let fin = &ctx.job.finishing;
+    let r = dc.cutter().radius;
+    let s = scallop_stepover(r, fin.scallop);
+    // Samples 1 mm apart: the ball's height along a pass bends no tighter
+    // than the ball (radius R over a sharp edge), so a chord sags at most
+    // L²/8R = 0.02 mm below it there for R = 6.35 mm (geometry: the
+    // sagitta), and `refine` probes every chord and splits it where the
+    // sag is more than half the tolerance.
+    let along = (1.0f64).min(s / 2.0);
+    let reach = r + 1.0;
+    let p = ctx.place;
+    let (y0, y1) = (
+        p.centre_y - p.half_width - reach,
+        p.centre_y + p.half_width + reach,
+    );
+    let (x0, x1) = (p.x_range[0] - reach, p.x_range[1] + reach);
+    let n_along = ((x1 - x0) / along).ceil() as usize + 1;
+    let mut raster = Raster {
+        ctx,
+        dc,
+        gentle_only,
+        cos: fin.steep_angle.to_radians().cos(),
+        reach,
+        s,
+        least: s * MAX_SLOPE.to_radians().cos(),
+        widen: (r / along).ceil() as usize,
+        xs: (0..n_along)
+            .map(|k| (x0 + k as f64 * along).min(x1))
+            .collect(),
+        positions: n_along,
+    };
+    // From the stringer out, each way until a pass lies wholly off the part.
+    let centre = raster.row_at(vec![p.centre_y; n_along]);
+    let mut halves: [Vec<Row>; 2] = [Vec::new(), Vec::new()];
+    for (half, dir) in halves.iter_mut().zip([-1.0, 1.0]) {
+        loop {
+            let n = half.len();
+            let prev = half.last().unwrap_or(&centre);
+            let before = match n {
+                0 => None,
+                1 => Some(&centre),
+                _ => Some(&half[n - 2]),
+            };
+            let row = raster.next(prev, before, dir);
+            let beyond = row.y.iter().all(|&y| y < y0 || y > y1);
+            if beyond || (row.at.iter().all(Option::is_none) && prev.at.iter().all(Option::is_none))
+            {
+                break;
+            }
+            half.push(row);
+        }
+    }
+    let [low, high] = halves;
+    // From the middle out, each half in zig-zag: the top of the deck (or
+    // of the bottom) first, so the roughing's stairs there are gone before
+    // the ball works down a rail beside them.
+    let rows: Vec<Row> = std::iter::once(centre).chain(low).chain(high).collect();
+    (runs(ctx, dc, rows), raster.positions)
+}
+
+/// The rows as runs of the ball's positions, alternate rows reversed,
+/// each refined against the drop-cutter and simplified.
+fn runs(ctx: &Ctx, dc: &DropCutter, rows: Vec<Row>) -> Vec<Vec<Vec<[f64; 3]>>> {
+    let tol = ctx.job.finishing.tolerance;
+    rows.into_par_iter()
+        .enumerate()
+        .map(|(nth, row)| {
+            let mut runs: Vec<Vec<[f64; 3]>> = Vec::new();
+            let mut run: Vec<[f64; 3]> = Vec::new();
+            for q in row.at {
+                match q {
+                    Some(q) => run.push(q),
+                    None => {
+                        if run.len() > 1 {
+                            runs.push(std::mem::take(&mut run));
+                        }
+                        run.clear();
+                    }
+                }
+            }
+            if run.len() > 1 {
+                runs.push(run);
+            }
+            if nth % 2 == 1 {
+                runs.reverse();
+                for r in &mut runs {
+                    r.reverse();
+                }
+            }
+            let h = |x: f64, y: f64| ctx.tip(dc, x, y);
+            runs.into_iter()
+                .map(|r| simplify(&refine(&r, &h, tol / 2.0), tol))
+                .collect()
+        })
+        .collect()
+}
+
+/// The passes being laid out: where the samples are along X, the
+/// scallop's stepover and the least step, the positions computed so far.
+struct Raster<'a> {
+    ctx: &'a Ctx<'a>,
+    dc: &'a DropCutter,
+    gentle_only: bool,
+    /// Cosine of the steep angle.
+    cos: f64,
+    /// How far outside the silhouette the ball is still sampled.
+    reach: f64,
+    /// The scallop's stepover.
+    s: f64,
+    /// The step at the steepest face spaced for ([`MAX_SLOPE`]).
+    least: f64,
+    /// Samples within a ball's radius along X.
+    widen: usize,
+    xs: Vec<f64>,
+    positions: usize,
+}
+
+impl Raster<'_> {
+    /// The ball at (x, y).
+    fn sample(&self, x: f64, y: f64) -> Option<[f64; 3]> {
+        if self.ctx.outside.at([x, y]) > self.reach {
+            return None;
+        }
+        if self.gentle_only {
+            return gentle(self.ctx, self.dc, x, y, self.cos);
+        }
+        Some([x, y, self.ctx.tip(self.dc, x, y)])
+    }
+
+    fn row_at(&self, y: Vec<f64>) -> Row {
+        let at = self
+            .xs
+            .par_iter()
+            .zip(&y)
+            .map(|(&x, &y)| self.sample(x, y))
+            .collect();
+        Row { y, at }
+    }
+
+    /// The next pass from `prev` (and the one before it, `before`), `dir`
+    /// +1 or -1 in Y. The slope is first taken as the chord's between the
+    /// last two passes (flat from the stringer's pass); where it grew, the
+    /// balls stand too far apart and the samples move in.
+    fn next(&mut self, prev: &Row, before: Option<&Row>, dir: f64) -> Row {
+        let s = self.s;
+        let last = bridged(&prev.at, BRIDGE);
+        let earlier = before.map(|b| bridged(&b.at, BRIDGE));
+        let step: Vec<f64> = (0..self.xs.len())
+            .map(|k| match (last[k], earlier.as_ref().and_then(|b| b[k])) {
+                (Some(a), Some(b)) => {
+                    let cos = (a[1] - b[1]).abs() / (a[1] - b[1]).hypot(a[2] - b[2]);
+                    (s * cos).max(self.least)
+                }
+                // From the stringer's pass, or where the last pass did
+                // not cut (off the part, or a sample it left out): the
+                // full stepover, narrowed by the neighbours' steps.
+                _ => s,
+            })
+            .collect();
+        let step = smoothed_min(&step, self.widen);
+        let mut row = self.row_at(prev.y.iter().zip(&step).map(|(y, d)| y + dir * d).collect());
+        self.positions += self.xs.len();
+        self.close_up(prev, &last, &mut row, step, dir);
+        row
+    }
+
+    /// Where the balls of `row` stand too far from those of `prev`
+    /// (`last`, bridged), in by the ratio, twice at most; at the edge of
+    /// what the ball takes, half the stepover.
+    fn close_up(
+        &mut self,
+        prev: &Row,
+        last: &[Option<[f64; 3]>],
+        row: &mut Row,
+        mut step: Vec<f64>,
+        dir: f64,
+    ) {
+        let (s, n_along) = (self.s, self.xs.len());
+        for _ in 0..2 {
+            let mut redo = vec![false; n_along];
+            let now = bridged(&row.at, BRIDGE);
+            for k in 0..n_along {
+                match (last[k], now[k]) {
+                    (Some(a), Some(b)) => {
+                        let d = (b[1] - a[1]).hypot(b[2] - a[2]);
+                        if d > s * 1.001 {
+                            redo[k] = true;
+                            step[k] = (step[k] * s / d).max(self.least);
+                        }
+                    }
+                    // Where only one of the two cuts near the rail (the
+                    // edge of what the ball takes: a steep face, or a hard
+                    // edge the ball rides over; further in, a sample left
+                    // out where the floor's estimate wavers over a
+                    // concave, not an edge): half the stepover, so the
+                    // last pass that cuts stands within s / 2 of the edge
+                    // and the flat it leaves there holds the scallop,
+                    // r − √(r² − s²/4) = h.
+                    (None, Some(_)) | (Some(_), None)
+                        if step[k] > 0.5 * s + 1e-9
+                            && self.ctx.inside.at([self.xs[k], row.y[k]]) <= RAIL_BAND =>
+                    {
+                        redo[k] = true;
+                        step[k] = 0.5 * s;
+                    }
+                    _ => {}
+                }
+            }
+            if !redo.contains(&true) {
+                break;
+            }
+            let narrowed = smoothed_min(&step, self.widen);
+            let changed: Vec<usize> = (0..n_along)
+                .filter(|&k| narrowed[k] < step[k] || redo[k])
+                .collect();
+            step = narrowed;
+            let fresh: Vec<(usize, f64, Option<[f64; 3]>)> = changed
+                .par_iter()
+                .map(|&k| {
+                    let y = prev.y[k] + dir * step[k];
+                    (k, y, self.sample(self.xs[k], y))
+                })
+                .collect();
+            self.positions += fresh.len();
+            for (k, y, at) in fresh {
+                row.y[k] = y;
+                row.at[k] = at;
+            }
+        }
+    }
+}
+
+/// `at` with every gap of at most `gap` samples between two that cut
+/// filled along the chord between them (a sample the ball left out, not
+/// an edge of what it takes).
+fn bridged(at: &[Option<[f64; 3]>], gap: usize) -> Vec<Option<[f64; 3]>> {
+    let mut out = at.to_vec();
+    let mut last: Option<usize> = None;
+    for k in 0..at.len() {
+        if at[k].is_none() {
+            continue;
+        }
+        if let Some(j) = last
+            && k - j > 1
+            && k - j <= gap + 1
+            && let (Some(a), Some(b)) = (at[j], at[k])
+        {
+            for (m, o) in out.iter_mut().enumerate().take(k).skip(j + 1) {
+                *o = Some(lerp3(a, b, (m - j) as f64 / (k - j) as f64));
+            }
+        }
+        last = Some(k);
+    }
+    out
+}
+
+/// `v` made smooth without rising anywhere: the least within `w` places
+/// either side of each place, then the mean of those within `w` places.
+/// Each mean is of minima whose windows all hold the place itself, so it
+/// is never above `v` there; and it changes by a ramp, not a step.
+fn smoothed_min(v: &[f64], w: usize) -> Vec<f64> {
+    let window = |k: usize| k.saturating_sub(w)..(k + w + 1).min(v.len());
+    let least: Vec<f64> = (0..v.len())
+        .map(|k| v[window(k)].iter().copied().fold(f64::INFINITY, f64::min))
+        .collect();
+    (0..v.len())
+        .map(|k| {
+            let span = &least[window(k)];
+            span.iter().sum::<f64>() / span.len() as f64
+        })
+        .collect()
+}
+
+/// The ball's position at (x, y) if it rests on the part, clear of the
+/// floor, on a face no steeper than the steep angle (`cos`, the cosine of
+/// it: for a ball the normal at the contact is the face's own), and
+/// wholly inside the band the roughing cleared round the outline.
+fn gentle(ctx: &Ctx, dc: &DropCutter, x: f64, y: f64, cos: f64) -> Option<[f64; 3]> {
+    // The roughing's outermost ring runs 1.5 cells (3 mm) inside its band,
+    // on a 2 mm grid: 5 mm kept from the wall.
+    let band = ctx.job.band() - dc.cutter().radius - 5.0;
+    if ctx.outside.at([x, y]) > band {
+        return None;
+    }
+    let (z, n) = dc.drop_contact(x, y)?;
+    (z > ctx.floor(x) + 0.05 && n[2] >= cos).then_some([x, y, z])
+}
