@@ -15,6 +15,7 @@ use blanksmith::model::machine::Cutter;
 use blanksmith::model::mesh::Mesh;
 use blanksmith::profiles::job;
 use blanksmith::profiles::machine as profile;
+use blanksmith::template::print;
 use blanksmith::{
     commands as jobs, description, description::demo, meshing::mesher, volume::certificate,
 };
@@ -165,9 +166,9 @@ fn templates_demo_a4() -> usize {
     ];
     let mut pages = vec![];
     for d in &drawings {
-        pages.extend(tiling::tile(d, tiling::A4));
+        pages.extend(tiling::tile(d, print::A4));
     }
-    tiling::to_pdf(&pages).len()
+    print::to_pdf(&pages).len()
         + drawings
             .iter()
             .map(|d| template::to_svg(d).len())
@@ -216,7 +217,7 @@ fn make_demo_end_to_end() -> usize {
     let m = jobs::make(
         &jobs::Input::Demo,
         mesher::DEFAULT_TOLERANCE,
-        blanksmith::template::tiling::A4,
+        blanksmith::template::print::A4,
         dir.path(),
         Some(&cut),
         &|_| {},

@@ -4,7 +4,8 @@
 
 use blanksmith::commands::{self as jobs, Design};
 use blanksmith::template::drawing::{self as template, Item, Role};
-use blanksmith::template::tiling::{self, CUT_WIDTH, PT_PER_MM};
+use blanksmith::template::print::{self, CUT_WIDTH, PT_PER_MM};
+use blanksmith::template::tiling;
 use lopdf::{Document, Object, content::Content};
 
 fn board() -> blanksmith::model::board::Board {
@@ -83,7 +84,7 @@ fn read_pdf(bytes: &[u8]) -> Vec<PageData> {
     out
 }
 
-fn templates_pdf(paper: tiling::Paper, only: &str) -> (Vec<u8>, Vec<template::Drawing>) {
+fn templates_pdf(paper: print::Paper, only: &str) -> (Vec<u8>, Vec<template::Drawing>) {
     let dir = tempfile::tempdir().unwrap();
     let t = jobs::templates(
         &Design::Board(Box::new(board())),
@@ -103,8 +104,8 @@ fn pages_have_exact_paper_sizes_and_both_calibration_bars() {
     // (1 pt = 1/72 in, ISO 32000-1). The bars are 100 mm = 283.46 pt and
     // 4 in = 288 pt long.
     for (paper, size) in [
-        (tiling::A4, [595.28, 841.89]),
-        (tiling::LETTER, [612.0, 792.0]),
+        (print::A4, [595.28, 841.89]),
+        (print::LETTER, [612.0, 792.0]),
     ] {
         let (pdf, _) = templates_pdf(paper, "outline");
         let pages = read_pdf(&pdf);
@@ -133,7 +134,7 @@ fn pages_have_exact_paper_sizes_and_both_calibration_bars() {
 
 #[test]
 fn tiles_reassemble_the_outline_and_lose_none_of_it() {
-    let (pdf, drawings) = templates_pdf(tiling::A4, "outline");
+    let (pdf, drawings) = templates_pdf(print::A4, "outline");
     let outline = drawings.iter().find(|d| d.kind == "outline").unwrap();
     let Item::Line { points, .. } = outline
         .items
@@ -231,11 +232,11 @@ fn svg_outline_matches_the_board_and_the_written_half_widths() {
 fn roll_paper_is_as_wide_as_asked_and_tabloid_and_a3_are_exact() {
     // A roll 914 mm (36 in) wide; ISO 216 A3 = 297 × 420 mm = 841.89 × 1190.55 pt;
     // US Tabloid = 11 × 17 in = 792 × 1224 pt.
-    let roll = tiling::paper("roll:36in").unwrap();
+    let roll = print::paper("roll:36in").unwrap();
     assert!((roll.width - 914.4).abs() < 1e-9);
     for (paper, size) in [
-        (tiling::A3, [841.89, 1190.55]),
-        (tiling::TABLOID, [792.0, 1224.0]),
+        (print::A3, [841.89, 1190.55]),
+        (print::TABLOID, [792.0, 1224.0]),
     ] {
         let (pdf, _) = templates_pdf(paper, "rocker");
         for p in read_pdf(&pdf) {
@@ -261,7 +262,7 @@ fn roll_paper_is_as_wide_as_asked_and_tabloid_and_a3_are_exact() {
         "{} tiles",
         pages.len()
     );
-    assert!(tiling::paper("roll:2cm").is_err() && tiling::paper("b5").is_err());
+    assert!(print::paper("roll:2cm").is_err() && print::paper("b5").is_err());
 }
 
 /// The outline template holds the planform of the board as meshed, for
@@ -509,7 +510,7 @@ fn dxf_templates_hold_the_svgs_lines_and_labels() {
         let dir = tempfile::tempdir().unwrap();
         jobs::templates(
             &Design::Board(Box::new(b)),
-            tiling::paper("a4").unwrap(),
+            print::paper("a4").unwrap(),
             &["outline".into(), "rocker".into(), "sections".into()],
             &[],
             dir.path(),
@@ -652,7 +653,7 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
         let dir = tempfile::tempdir().unwrap();
         jobs::templates(
             &Design::Board(Box::new(board.clone())),
-            tiling::paper(paper).unwrap(),
+            print::paper(paper).unwrap(),
             &[],
             &[],
             dir.path(),
@@ -665,10 +666,10 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
             let mb = media_box(dict);
             let (w, h) = (mb[2] / PT_PER_MM, mb[3] / PT_PER_MM);
             let inside = |x: f64, y: f64| {
-                x >= tiling::MARGIN - 0.01
-                    && x <= w - tiling::MARGIN + 0.01
-                    && y >= tiling::MARGIN - 0.01
-                    && y <= h - tiling::MARGIN + 0.01
+                x >= print::MARGIN - 0.01
+                    && x <= w - print::MARGIN + 0.01
+                    && y >= print::MARGIN - 0.01
+                    && y <= h - print::MARGIN + 0.01
             };
             let content = Content::decode(&doc.get_page_content(id)).unwrap();
             let (mut size, mut face, mut at, mut in_tile) = (0.0, Vec::new(), [0.0; 2], false);
@@ -714,14 +715,14 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
         // or crosses one of its segments.
         let t = jobs::templates(
             &Design::Board(Box::new(board.clone())),
-            tiling::paper(paper).unwrap(),
+            print::paper(paper).unwrap(),
             &["outline".into(), "rocker".into(), "sections".into()],
             &[],
             dir.path(),
         )
         .unwrap();
         for d in &t.drawings {
-            for page in tiling::tile(d, tiling::paper(paper).unwrap()) {
+            for page in tiling::tile(d, print::paper(paper).unwrap()) {
                 let Some(tile) = page.tile else { continue };
                 let [x0, y0] = tile.origin;
                 let [x1, y1] = [x0 + tile.window[0], y0 + tile.window[1]];
@@ -766,7 +767,7 @@ fn templates_take_few_pages() {
         let dir = tempfile::tempdir().unwrap();
         jobs::templates(
             &Design::Board(Box::new(b)),
-            tiling::paper(paper).unwrap(),
+            print::paper(paper).unwrap(),
             &[],
             &[],
             dir.path(),

@@ -209,12 +209,12 @@ pub fn cut_files(
     }
     let cradles = crate::toolpath::cradle::cradles(&plan.placement, job, design.name());
     if !cradles.is_empty() {
-        let paper = crate::template::tiling::A4;
+        let paper = crate::template::print::A4;
         let drawings: Vec<_> = cradles.iter().map(|(_, d)| d.clone()).collect();
         let pages = crate::template::tiling::tile_all(&drawings, paper);
         files.push((
             dir.join(format!("{}.cradles.pdf", design.name())),
-            crate::template::tiling::to_pdf(&pages),
+            crate::template::print::to_pdf(&pages),
         ));
         for (setup, d) in &cradles {
             files.push((

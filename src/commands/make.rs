@@ -60,7 +60,7 @@ pub(crate) fn board_marker(name: &str) -> String {
 pub fn make(
     input: &Input,
     tolerance: f64,
-    paper: crate::template::tiling::Paper,
+    paper: crate::template::print::Paper,
     out: &Path,
     cut: Option<&CutArgs>,
     progress: &(dyn Fn(&str) + Sync),
@@ -138,7 +138,7 @@ pub fn make(
     let sheet = crate::template::order::order_page(&board, &report, &weight, &summary, paper);
     files.push((
         dir.join(format!("{}.order.pdf", board.name)),
-        crate::template::tiling::to_pdf(&[sheet]),
+        crate::template::print::to_pdf(&[sheet]),
     ));
     let named: Vec<(String, Vec<u8>)> = files
         .into_iter()
@@ -391,7 +391,7 @@ pub(crate) fn duplicate_names(
 pub fn make_many(
     inputs: &[Input],
     tolerance: f64,
-    paper: crate::template::tiling::Paper,
+    paper: crate::template::print::Paper,
     out: &Path,
     cut: Option<&CutArgs>,
     progress: &(dyn Fn(usize, &str) + Sync),

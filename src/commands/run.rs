@@ -11,7 +11,7 @@ use super::cli::{
 };
 use super::{self as jobs, Input, JobError, Meshed, StlKind};
 use crate::slice::contours;
-use crate::template::tiling::{self, Paper};
+use crate::template::print::{self, Paper};
 use crate::units;
 
 /// What a command leaves for the terminal: its standard output and
@@ -188,7 +188,7 @@ fn resize(f: ResizeFlags, o: &mut Outcome) -> Result<(), JobError> {
 
 fn templates(f: TemplatesFlags, o: &mut Outcome) -> Result<(), JobError> {
     let unit = jobs::parse_unit(&f.units)?;
-    let paper = tiling::paper(&f.paper).map_err(JobError::Flag)?;
+    let paper = print::paper(&f.paper).map_err(JobError::Flag)?;
     let d = jobs::load_design(&f.design)?;
     let xs = jobs::parse_stations(f.stations.as_deref(), jobs::design_length(&d), unit)?;
     let only: Vec<String> = f
@@ -217,7 +217,7 @@ fn make(f: MakeFlags, o: &mut Outcome) -> Result<(), JobError> {
         stock_list: f.stock_list,
     };
     let cut = (!f.no_cut).then_some(&args);
-    let paper = tiling::paper(&f.paper).map_err(JobError::Flag)?;
+    let paper = print::paper(&f.paper).map_err(JobError::Flag)?;
     if f.boards.len() > 1 {
         return make_many(&f.boards, f.tolerance, paper, &f.out, cut, f.quiet, o);
     }

@@ -23,7 +23,7 @@ pub struct Templates {
 /// sections (default: 12 in from each tip and the wide point).
 pub fn templates(
     design: &Design,
-    paper: crate::template::tiling::Paper,
+    paper: crate::template::print::Paper,
     only: &[String],
     stations: &[f64],
     dir: &Path,
@@ -53,7 +53,7 @@ pub(crate) fn template_files(
     design: &Design,
     mesh: &Mesh,
     report: Option<&Report>,
-    paper: crate::template::tiling::Paper,
+    paper: crate::template::print::Paper,
     only: &[String],
     stations: &[f64],
     dir: &Path,
@@ -109,12 +109,12 @@ pub(crate) fn template_files(
                 "(a mesh from elsewhere: no measurements beyond the templates)".into(),
             ],
         };
-        pages.push(crate::template::tiling::sheet_page(&lines, paper));
+        pages.push(crate::template::print::sheet_page(&lines, paper));
     }
     pages.extend(crate::template::tiling::tile_all(&drawings, paper));
     let mut files = vec![(
         dir.join(format!("{name}.templates.pdf")),
-        crate::template::tiling::to_pdf(&pages),
+        crate::template::print::to_pdf(&pages),
     )];
     for d in &drawings {
         files.push((

@@ -2,6 +2,7 @@
 //! written whole as SVG and DXF.
 
 pub mod drawing;
+pub mod print;
 pub mod tiling;
 pub mod order;
 pub mod dxf;

@@ -4,7 +4,7 @@
 //! laminate and the weight estimate, and the cut summary.
 
 use crate::model::board::Board;
-use crate::template::tiling::{MARGIN, Mark, Page, Paper};
+use crate::template::print::{MARGIN, Mark, Page, Paper};
 use crate::units::Both;
 use crate::volume::report::Report;
 use crate::volume::weight::Weight;
@@ -53,7 +53,7 @@ struct Sheet {
 impl Sheet {
     /// A line of text at `size`, wrapped (continuations indented) where
     /// Helvetica's characters, about half an em each (the em is 1.4 x the
-    /// size given, see `tiling::draw`), would run past the right margin.
+    /// size given, see `print::draw`), would run past the right margin.
     fn text(&mut self, size: f64, s: String) {
         let chars = ((self.width - 2.0 * self.left) / (size * 1.4 * 0.47))
             .floor()
