@@ -162,7 +162,7 @@ fn templates_demo_a4() -> usize {
     let drawings = [
         template::outline(&side),
         template::rocker(&side),
-        template::sections(&board.name, &c.mesh, &stations),
+        blanksmith::template::sections::sections(&board.name, &c.mesh, &stations),
     ];
     let mut pages = vec![];
     for d in &drawings {

@@ -429,7 +429,11 @@ fn labels_are_in_the_boards_units_and_sections_name_both_ends() {
     assert!(t.iter().any(|s| s == "6\" from nose"), "{t:?}");
     let design = jobs::load_design(&root.join("shortboard.yaml")).unwrap();
     let mesh = design.mesh(0.05).unwrap();
-    let t = texts(&template::sections("s", &mesh, &[304.8]));
+    let t = texts(&blanksmith::template::sections::sections(
+        "s",
+        &mesh,
+        &[304.8],
+    ));
     // 6'2" = 1879.6 mm; 1879.6 - 304.8 = 1574.8 mm from the tail.
     assert!(
         t.iter()

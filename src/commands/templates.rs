@@ -97,13 +97,17 @@ pub(crate) fn template_files(
         drawings.push(template::rocker(&side));
     }
     if want("sections") {
-        drawings.push(template::sections(design.name(), mesh, &section_at));
+        drawings.push(crate::template::sections::sections(
+            design.name(),
+            mesh,
+            &section_at,
+        ));
     }
     let name = design.name();
     let mut pages = vec![];
     if want("sheet") {
         let lines = match report {
-            Some(r) => template::sheet(r),
+            Some(r) => crate::template::sheet::sheet(r),
             None => vec![
                 format!("{name}: shaping sheet"),
                 "(a mesh from elsewhere: no measurements beyond the templates)".into(),

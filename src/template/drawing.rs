@@ -1,14 +1,13 @@
 //! Full-size shop templates as drawings in millimetres: the half outline
-//! from the stringer, the rocker over a straight baseline, female section
-//! templates, and the shaping sheet. A drawing knows nothing of paper; the
-//! tiling stage lays it onto pages, and it can be written as one SVG.
+//! from the stringer and the rocker over a straight baseline (the female
+//! sections and the shaping sheet in their own files). A drawing knows
+//! nothing of paper; the tiling stage lays it onto pages, and it can be
+//! written as one SVG.
 
 use crate::model::board::Board;
 use crate::model::mesh::Mesh;
-use crate::slice::plane::{Axis, slice_many};
 use crate::svg::Svg;
 use crate::units::{self, MM_PER_INCH};
-use crate::volume::report::Report;
 
 /// What a line is for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -508,186 +507,6 @@ pub fn rocker(side: &Side) -> Drawing {
         height: top - zmin + 2.0 * b + BACK,
         items,
     }
-}
-
-/// Female section templates at `stations` (mm from the nose), side by side:
-/// each the section outline inside a frame, cut out along the outline.
-pub fn sections(name: &str, mesh: &Mesh, stations: &[f64]) -> Drawing {
-    let b = BORDER;
-    let frame = 30.0;
-    let (lo, hi) = mesh.bounding_box().unwrap_or(([0.0; 3], [0.0; 3]));
-    let length = hi[0] - lo[0];
-    let xs: Vec<f64> = stations.iter().map(|s| lo[0] + s).collect();
-    let slices = slice_many(mesh, Axis::X, &xs);
-    let mut items = vec![];
-    let mut left = b;
-    let mut height: f64 = 0.0;
-    for (s, &at) in slices.iter().zip(stations) {
-        let pts: Vec<[f64; 2]> = s.loops.iter().flatten().copied().collect();
-        if pts.is_empty() {
-            continue;
-        }
-        let (mut ylo, mut yhi, mut zlo, mut zhi) = (
-            f64::INFINITY,
-            f64::NEG_INFINITY,
-            f64::INFINITY,
-            f64::NEG_INFINITY,
-        );
-        for p in &pts {
-            ylo = ylo.min(p[0]);
-            yhi = yhi.max(p[0]);
-            zlo = zlo.min(p[1]);
-            zhi = zhi.max(p[1]);
-        }
-        let ox = left + frame - ylo;
-        let oz = b + frame - zlo;
-        let (fw, fh) = (yhi - ylo + 2.0 * frame, zhi - zlo + 2.0 * frame);
-        items.push(Item::Line {
-            points: vec![
-                [left, b],
-                [left + fw, b],
-                [left + fw, b + fh],
-                [left, b + fh],
-            ],
-            closed: true,
-            role: Role::Guide,
-        });
-        for l in &s.loops {
-            items.push(Item::Line {
-                points: l.iter().map(|p| [ox + p[0], oz + p[1]]).collect(),
-                closed: true,
-                role: Role::Cut,
-            });
-        }
-        items.push(Item::Line {
-            points: vec![[ox, b], [ox, b + fh]],
-            closed: false,
-            role: Role::Guide,
-        });
-        // Thickness at the stringer: where the section crosses y = 0.
-        let (mut tb, mut td) = (f64::INFINITY, f64::NEG_INFINITY);
-        for l in &s.loops {
-            for k in 0..l.len() {
-                let (p, q) = (l[k], l[(k + 1) % l.len()]);
-                if (p[0] <= 0.0) != (q[0] <= 0.0) {
-                    let z = p[1] + (q[1] - p[1]) * (0.0 - p[0]) / (q[0] - p[0]);
-                    tb = tb.min(z);
-                    td = td.max(z);
-                }
-            }
-        }
-        let thick = if tb.is_finite() { td - tb } else { zhi - zlo };
-        items.push(Item::Text {
-            at: [left + 3.0, b + fh + 4.0],
-            size: 3.5,
-            text: format!(
-                "SECTION {} from nose, {} from tail",
-                units::Both(at),
-                units::Both(length - at)
-            ),
-        });
-        items.push(Item::Text {
-            at: [left + 3.0, b + fh + 9.0],
-            size: 3.0,
-            text: format!(
-                "thickness at stringer {}; width {}",
-                label(thick),
-                label(yhi - ylo)
-            ),
-        });
-        items.push(Item::Text {
-            at: [left + 3.0, b + 4.0],
-            size: 3.0,
-            text: "cut along the section line; the frame is the template".into(),
-        });
-        left += fw + b;
-        height = height.max(fh + 12.0);
-    }
-    Drawing {
-        kind: "sections",
-        title: format!("{name}: female section templates, full size"),
-        width: left,
-        height: height + 2.0 * b,
-        items,
-    }
-}
-
-/// The shaping sheet's lines: measurements at stations, the volume
-/// certificate, and how to print.
-pub fn sheet(report: &Report) -> Vec<String> {
-    let mut lines = vec![
-        format!("{}: shaping sheet", report.name),
-        String::new(),
-        format!(
-            "length {} (flat); width {}; thickness {}",
-            units::Both(report.length_mm),
-            units::Both(report.width_mm),
-            units::Both(report.thickness_mm)
-        ),
-        format!(
-            "nose width {} and tail width {}, {} from the tips; tail {}",
-            units::Both(report.nose_width_mm),
-            units::Both(report.tail_width_mm),
-            units::Both(report.tip_station_mm),
-            report.tail
-        ),
-        format!(
-            "volume {:.2} L (mesh {:.4} L, shape integral {:.4} L, error estimate {:.4} L{})",
-            report.volume_litres,
-            report.volume_litres,
-            report.volume_litres_surface,
-            report.volume_error_estimate_litres,
-            if report.certified {
-                ", certified"
-            } else {
-                ", NOT CERTIFIED"
-            }
-        ),
-        String::new(),
-    ];
-    // One column a measurement, millimetres and inches in each cell, the
-    // unit on every number; laid out for a fixed-pitch face.
-    let cell = |v: f64| format!("{:>7.1} mm {:<9}", v, units::inches(v));
-    let head = |t: &str| format!("{t:<20}");
-    lines.push(format!(
-        "{:<18}| {}| {}| {}| {}| {}",
-        "from nose",
-        head("width"),
-        head("thickness"),
-        head("bottom (rocker)"),
-        head("deck"),
-        head("rail apex")
-    ));
-    lines.push(format!(
-        "{}{}",
-        "-".repeat(18),
-        "+---------------------".repeat(5)
-    ));
-    for r in &report.stations {
-        lines.push(format!(
-            "{:<18}| {}| {}| {}| {}| {}",
-            format!(
-                "{:>6.0} mm {}",
-                r.from_nose_mm,
-                units::feet_inches(r.from_nose_mm)
-            ),
-            cell(r.width_mm),
-            cell(r.thickness_mm),
-            cell(r.bottom_mm),
-            cell(r.deck_mm),
-            cell(r.apex_mm)
-        ));
-    }
-    lines.extend([
-        String::new(),
-        "Heights are above the flat the board rests on, at the stringer.".into(),
-        "Printing: print at 100 % (actual size, no fit-to-page); measure the 100 mm and 4 in bars"
-            .into(),
-        "on every page before cutting anything. Trim each tile on its dashed cut lines, lay the"
-            .into(),
-        "tiles by the assembly map, match the alignment crosses, and tape.".into(),
-    ]);
-    lines
 }
 
 /// A drawing as one true-scale SVG (mm), y turned down for SVG.

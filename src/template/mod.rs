@@ -2,6 +2,8 @@
 //! written whole as SVG and DXF.
 
 pub mod drawing;
+pub mod sections;
+pub mod sheet;
 pub mod print;
 pub mod tiling;
 pub mod order;

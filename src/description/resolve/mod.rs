@@ -4,6 +4,7 @@
 //! reader recorded for it, so a shaper sees exactly which number to change.
 
 mod fittings;
+mod laminate;
 mod outline;
 mod section;
 mod side;
@@ -254,8 +255,8 @@ pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, Descrip
         tip_station: d12,
         unit: cx.unit,
         fittings: Default::default(),
-        laminate: fittings::laminate(&cx, raw)?,
-        order: fittings::order(&cx, raw)?,
+        laminate: laminate::laminate(&cx, raw)?,
+        order: laminate::order(&cx, raw)?,
     };
     check_sections(&cx, raw, &board)?;
     let stringer = board.laminate.stringer.map(|s| s.0);
