@@ -15,21 +15,9 @@
 
 use rayon::prelude::*;
 
+use crate::geom::contact::{Tri, ball_touch, flat_touch};
 use crate::model::machine::{Cutter, ToolKind};
-use crate::model::mesh::Mesh;
-
-#[derive(Debug, Clone, Copy)]
-struct Tri {
-    /// Plan bounding box: min x, min y, max x, max y.
-    bb: [f64; 4],
-    p: [[f64; 3]; 3],
-    /// Each edge k (corner k to k + 1): unit direction, length, and
-    /// 1 − u_z², precomputed for the ball's edge test.
-    edges: [([f64; 3], f64, f64); 3],
-    /// Unit normal, made to point up (nz >= 0).
-    n: [f64; 3],
-    zmax: f64,
-}
+use crate::model::mesh::{Mesh, cross, norm, sub};
 
 /// What the search reads of every candidate before it looks at the
 /// triangle itself: the plan box and top corner, rounded outwards to `f32`
@@ -277,39 +265,6 @@ impl DropCutter {
     }
 }
 
-/// Where the vertical line through a point, (wx, wy) in plan from a
-/// segment's start, crosses the cylinder of squared radius `r2` about the
-/// segment (unit direction `u`, length `len`, `a` = 1 − u_z²): the height
-/// above the start of the upper (`upper`) or lower crossing, if that
-/// crossing is beside the segment rather than beyond its ends. Shared by
-/// the drop-cutter (a ball on an edge) and the height map (the capsule a
-/// ball sweeps).
-pub fn cylinder_crossing(
-    wx: f64,
-    wy: f64,
-    u: [f64; 3],
-    len: f64,
-    a: f64,
-    r2: f64,
-    upper: bool,
-) -> Option<f64> {
-    let k0 = wx * u[0] + wy * u[1];
-    let bq = -2.0 * k0 * u[2];
-    let cq = wx * wx + wy * wy - k0 * k0 - r2;
-    let disc = bq * bq - 4.0 * a * cq;
-    if disc < 0.0 {
-        return None;
-    }
-    let root = disc.sqrt();
-    let s = if upper {
-        (-bq + root) / (2.0 * a)
-    } else {
-        (-bq - root) / (2.0 * a)
-    };
-    let along = k0 + s * u[2];
-    (0.0..=len).contains(&along).then_some(s)
-}
-
 /// Whether triangle `t` can lift a cutter of radius `r` at (x, y) above
 /// `best`: its plan box within reach, and (for a ball) its top corner,
 /// lowered by how far the ball's surface rises at the box's distance, above
@@ -324,134 +279,6 @@ fn may_lift(t: &Bound, x: f64, y: f64, r: f64, ball: bool, best: f64) -> bool {
         return false;
     }
     !ball || t.zmax as f64 - (r - (r * r - d2).sqrt()) > best
-}
-
-fn sub(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
-    [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
-}
-fn cross(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
-    [
-        a[1] * b[2] - a[2] * b[1],
-        a[2] * b[0] - a[0] * b[2],
-        a[0] * b[1] - a[1] * b[0],
-    ]
-}
-fn norm(a: [f64; 3]) -> f64 {
-    (a[0] * a[0] + a[1] * a[1] + a[2] * a[2]).sqrt()
-}
-
-/// Whether (x, y) lies in the triangle's plan projection (edges included).
-fn inside_plan(t: &Tri, x: f64, y: f64) -> bool {
-    let [a, b, c] = t.p;
-    let d1 = (b[0] - a[0]) * (y - a[1]) - (b[1] - a[1]) * (x - a[0]);
-    let d2 = (c[0] - b[0]) * (y - b[1]) - (c[1] - b[1]) * (x - b[0]);
-    let d3 = (a[0] - c[0]) * (y - c[1]) - (a[1] - c[1]) * (x - c[0]);
-    (d1 >= 0.0 && d2 >= 0.0 && d3 >= 0.0) || (d1 <= 0.0 && d2 <= 0.0 && d3 <= 0.0)
-}
-
-fn plane_z(t: &Tri, x: f64, y: f64) -> f64 {
-    let a = t.p[0];
-    a[2] - (t.n[0] * (x - a[0]) + t.n[1] * (y - a[1])) / t.n[2]
-}
-
-/// Faces steeper than this are left to their edges (no face contact from above).
-const MIN_NZ: f64 = 1e-9;
-
-/// Highest tip height of a ball of radius `r` centred over (x, y) touching
-/// `t`, if above `floor` (else at most `floor`). Each contact's tip is no
-/// higher than its contact point, so an edge or vertex that does not rise
-/// above `floor` is skipped.
-fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
-    let mut best = floor;
-    // Face: the centre sits r along the normal from the contact point.
-    if t.n[2] > MIN_NZ {
-        let qx = x - r * t.n[0];
-        let qy = y - r * t.n[1];
-        if inside_plan(t, qx, qy) {
-            best = best.max(plane_z(t, qx, qy) + r * t.n[2] - r);
-        }
-    }
-    let r2 = r * r;
-    for k in 0..3 {
-        let p0 = t.p[k];
-        let p1 = t.p[(k + 1) % 3];
-        if p0[2].max(p1[2]) <= best {
-            continue;
-        }
-        // Vertex.
-        let d2 = (x - p0[0]).powi(2) + (y - p0[1]).powi(2);
-        if d2 <= r2 && p0[2] > best {
-            best = best.max(p0[2] + (r2 - d2).sqrt() - r);
-        }
-        // Edge: the centre line x = (x, y, s) at distance r from the line
-        // through p0, p1; keep the contact only within the segment.
-        let (u, len, a) = t.edges[k];
-        if len <= 0.0 || a < 1e-12 {
-            continue;
-        }
-        if let Some(s) = cylinder_crossing(x - p0[0], y - p0[1], u, len, a, r2, true) {
-            best = best.max(p0[2] + s - r);
-        }
-    }
-    best
-}
-
-/// Highest tip height of a flat end of radius `r` centred over (x, y) touching `t`.
-fn flat_touch(t: &Tri, x: f64, y: f64, r: f64) -> f64 {
-    if r == 0.0 {
-        // A vertical ray: only a face can be hit (edges and corners are
-        // hit only where a face is too).
-        return if t.n[2] > MIN_NZ && inside_plan(t, x, y) {
-            plane_z(t, x, y)
-        } else {
-            f64::NEG_INFINITY
-        };
-    }
-    let mut best = f64::NEG_INFINITY;
-    // Face: a plane is highest over the disc at the rim point up the slope.
-    if t.n[2] > MIN_NZ {
-        let g = (t.n[0] * t.n[0] + t.n[1] * t.n[1]).sqrt();
-        let (qx, qy) = if g > 1e-15 {
-            (x - r * t.n[0] / g, y - r * t.n[1] / g)
-        } else {
-            (x, y)
-        };
-        if inside_plan(t, qx, qy) {
-            best = plane_z(t, qx, qy);
-        }
-    }
-    let r2 = r * r;
-    for k in 0..3 {
-        let p0 = t.p[k];
-        let p1 = t.p[(k + 1) % 3];
-        let d2 = (x - p0[0]).powi(2) + (y - p0[1]).powi(2);
-        if d2 <= r2 {
-            best = best.max(p0[2]);
-        }
-        // Edge: z is linear along it, so its highest point over the disc is
-        // where the segment leaves the disc.
-        let dx = p1[0] - p0[0];
-        let dy = p1[1] - p0[1];
-        let a = dx * dx + dy * dy;
-        if a <= 0.0 {
-            continue;
-        }
-        let fx = p0[0] - x;
-        let fy = p0[1] - y;
-        let b = 2.0 * (fx * dx + fy * dy);
-        let c = fx * fx + fy * fy - r2;
-        let disc = b * b - 4.0 * a * c;
-        if disc < 0.0 {
-            continue;
-        }
-        let sq = disc.sqrt();
-        for s in [(-b - sq) / (2.0 * a), (-b + sq) / (2.0 * a)] {
-            if (0.0..=1.0).contains(&s) {
-                best = best.max(p0[2] + s * (p1[2] - p0[2]));
-            }
-        }
-    }
-    best
 }
 
 #[cfg(test)]

@@ -2,6 +2,7 @@
 //! of the shape, closest points, the drop-cutter, grid fields and contours,
 //! and the stock height map.
 
+pub mod contact;
 pub mod dropcutter;
 pub mod field;
 pub mod nearest;

@@ -11,7 +11,7 @@
 
 use rayon::prelude::*;
 
-use crate::geom::dropcutter::cylinder_crossing;
+use crate::geom::contact::cylinder_crossing;
 use crate::model::job::Block;
 use crate::model::machine::{Cutter, ToolKind};
 
