@@ -8,7 +8,7 @@
 //! - [`input`], [`output`]: input files read with a bound; output sets
 //!   written whole or not at all.
 //! - [`svg`]: a small true-scale SVG writer.
-//! - [`model`]: the types that cross stages (board, curve, mesh, machine,
+//! - [`model`]: the types that cross stages (board, contour, curve, mesh, machine,
 //!   job, toolpath, machine limits).
 //! - [`geom`]: kernels more than one stage uses (quadrature, sections,
 //!   closest points, drop-cutter, grid fields, the stock height map).

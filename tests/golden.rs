@@ -53,6 +53,47 @@ fn listed(dir: &str, ext: &str) -> Vec<String> {
     v
 }
 
+/// The cases with fixed arguments (split at spaces; `{m}` is the shipped
+/// machine), after the per-board ones.
+const FIXED: [(&str, &str); 9] = [
+    (
+        "make-box-no-cut",
+        "make fixtures/check-box.yaml -o {out} --no-cut --quiet",
+    ),
+    (
+        "make-demo-rockered",
+        "make -o {out} --job fixtures/job-rockered-blank.yaml --machine {m} --quiet",
+    ),
+    (
+        "make-demo-cradle",
+        "make -o {out} --job fixtures/job-cradle.yaml --stock-list fixtures/stock-list.yaml --machine {m} --quiet",
+    ),
+    (
+        "blanks-shortboard",
+        "blanks fixtures/shortboard.yaml --stock-list fixtures/stock-list.yaml --job fixtures/job-cradle.yaml",
+    ),
+    (
+        "cut-box",
+        "cut fixtures/check-box.yaml --machine {m} -o {out} --quiet",
+    ),
+    (
+        "resize-length",
+        "resize fixtures/shortboard.yaml --length 5'10\" -o {out}/short.yaml",
+    ),
+    (
+        "resize-volume",
+        "resize fixtures/check-box.yaml --volume 25 --keep length,width -o {out}/box.yaml",
+    ),
+    (
+        "resize-fresh",
+        "resize fixtures/fish.yaml --water fresh -o {out}/fish.yaml",
+    ),
+    (
+        "diff",
+        "diff fixtures/shortboard.yaml fixtures/fish.yaml -o {out}",
+    ),
+];
+
 /// The cases: an id (also its output folder under `out/`) and the
 /// arguments; `{out}` stands for the case's output folder.
 fn cases() -> Vec<(String, Vec<String>)> {
@@ -73,113 +114,10 @@ fn cases() -> Vec<(String, Vec<String>)> {
         add(format!("templates-{b}"), &["templates", &f, "-o", "{out}"]);
         add(format!("make-{b}"), &["make", &f, "-o", "{out}", "--quiet"]);
     }
-    add(
-        "make-box-no-cut".into(),
-        &[
-            "make",
-            "fixtures/check-box.yaml",
-            "-o",
-            "{out}",
-            "--no-cut",
-            "--quiet",
-        ],
-    );
-    add(
-        "make-demo-rockered".into(),
-        &[
-            "make",
-            "-o",
-            "{out}",
-            "--job",
-            "fixtures/job-rockered-blank.yaml",
-            "--machine",
-            MACHINE,
-            "--quiet",
-        ],
-    );
-    add(
-        "make-demo-cradle".into(),
-        &[
-            "make",
-            "-o",
-            "{out}",
-            "--job",
-            "fixtures/job-cradle.yaml",
-            "--stock-list",
-            "fixtures/stock-list.yaml",
-            "--machine",
-            MACHINE,
-            "--quiet",
-        ],
-    );
-    add(
-        "blanks-shortboard".into(),
-        &[
-            "blanks",
-            "fixtures/shortboard.yaml",
-            "--stock-list",
-            "fixtures/stock-list.yaml",
-            "--job",
-            "fixtures/job-cradle.yaml",
-        ],
-    );
-    add(
-        "cut-box".into(),
-        &[
-            "cut",
-            "fixtures/check-box.yaml",
-            "--machine",
-            MACHINE,
-            "-o",
-            "{out}",
-            "--quiet",
-        ],
-    );
-    add(
-        "resize-length".into(),
-        &[
-            "resize",
-            "fixtures/shortboard.yaml",
-            "--length",
-            "5'10\"",
-            "-o",
-            "{out}/short.yaml",
-        ],
-    );
-    add(
-        "resize-volume".into(),
-        &[
-            "resize",
-            "fixtures/check-box.yaml",
-            "--volume",
-            "25",
-            "--keep",
-            "length,width",
-            "-o",
-            "{out}/box.yaml",
-        ],
-    );
-    add(
-        "resize-fresh".into(),
-        &[
-            "resize",
-            "fixtures/fish.yaml",
-            "--water",
-            "fresh",
-            "-o",
-            "{out}/fish.yaml",
-        ],
-    );
-    add(
-        "diff".into(),
-        &[
-            "diff",
-            "fixtures/shortboard.yaml",
-            "fixtures/fish.yaml",
-            "-o",
-            "{out}",
-        ],
-    );
+    for (id, line) in FIXED {
+        let line = line.replace("{m}", MACHINE);
+        add(id.into(), &line.split(' ').collect::<Vec<_>>());
+    }
     for b in listed("fixtures/bad", ".yaml") {
         let id = b.trim_start_matches("fixtures/bad/").replace('/', "-");
         add(format!("bad-{id}"), &["mesh", &b, "-o", "{out}"]);

@@ -139,3 +139,25 @@ fn the_layout_table_matches_the_tree() {
         "not in the table: {missing:?}; not in the tree: {gone:?}"
     );
 }
+
+/// No file in `src/` over 600 lines, tests beside the code included: a
+/// file holds one idea that can be read in one sitting (functions are held
+/// to 150 lines by clippy's `too_many_lines`, set in `clippy.toml`).
+#[test]
+fn no_source_file_is_over_600_lines() {
+    let mut files = vec![];
+    sources(&root().join("src"), &mut files);
+    files.sort();
+    let long: Vec<String> = files
+        .iter()
+        .filter_map(|f| {
+            let n = std::fs::read_to_string(f).unwrap().lines().count();
+            (n > 600).then(|| format!("{}: {n} lines", f.strip_prefix(root()).unwrap().display()))
+        })
+        .collect();
+    assert!(
+        long.is_empty(),
+        "split along their seams:\n{}",
+        long.join("\n")
+    );
+}

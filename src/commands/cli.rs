@@ -1,6 +1,10 @@
 //! The command line: every command and its flags as `clap` reads them.
 //! The flag text becomes values in the commands' own files; `run` calls
 //! them and renders what they return.
+//!
+//! The doc comments here are the command's `--help` text, written for the
+//! terminal (`DIR/<name>.stl`, `KIND:DIAMETER[:CORNER]`), not as rustdoc.
+#![allow(rustdoc::invalid_html_tags, rustdoc::broken_intra_doc_links)]
 
 use std::path::PathBuf;
 

@@ -17,7 +17,8 @@ use std::path::Path;
 use serde::Deserialize;
 use serde_saphyr::Spanned;
 
-use crate::model::board::{Board, ContourKind, TailShape};
+use crate::model::board::{Board, TailShape};
+use crate::model::contour::ContourKind;
 use crate::units::Unit;
 pub use resolve::{MAX_LENGTH, MIN_LENGTH, resolve};
 use values::{Along, Edge, LengthValue, Position, RailSize};

@@ -5,7 +5,8 @@
 
 use std::fmt::Write as _;
 
-use crate::model::board::{Board, ContourKind, RailProfile, TailEnd};
+use crate::model::board::{Board, RailProfile, TailEnd};
+use crate::model::contour::ContourKind;
 use crate::model::curve::Curve;
 use crate::units::{MM_PER_FOOT, Unit};
 

@@ -1,6 +1,7 @@
 //! The types that cross stages: data and their invariants, no I/O.
 
 pub mod board;
+pub mod contour;
 pub mod curve;
 pub mod fittings;
 pub mod job;

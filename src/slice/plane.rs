@@ -15,6 +15,7 @@ use geo::{Area, Contains, Coord, LineString, MultiPolygon, Polygon};
 use rayon::prelude::*;
 use rustc_hash::FxHashMap;
 
+use crate::geom::field::signed_area;
 use crate::model::mesh::Mesh;
 
 /// The axis a family of planes is perpendicular to.
@@ -205,15 +206,6 @@ fn slice_one(mesh: &Mesh, axis: Axis, at: f64, tris: &[u32]) -> Slice {
         open,
         polygons,
     }
-}
-
-fn signed_area(l: &[[f64; 2]]) -> f64 {
-    0.5 * (0..l.len())
-        .map(|i| {
-            let (p, q) = (l[i], l[(i + 1) % l.len()]);
-            p[0] * q[1] - q[0] * p[1]
-        })
-        .sum::<f64>()
 }
 
 /// Nests loops into polygons: a loop inside an even number of others is an

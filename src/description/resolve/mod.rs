@@ -11,7 +11,8 @@ mod side;
 
 use super::values::{LengthValue, Position};
 use super::{BoardFile, DescriptionError};
-use crate::model::board::{Board, Closing, ContourKind, RailProfile, Station};
+use crate::model::board::{Board, Closing, RailProfile, Station};
+use crate::model::contour::ContourKind;
 use crate::model::curve::{Curve, End};
 use crate::units::{self, Unit};
 use outline::outline;

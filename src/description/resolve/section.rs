@@ -4,7 +4,8 @@
 use super::*;
 use crate::description::values::{Along, Edge, RailSize};
 use crate::description::{BoardFile, RailProfileSpec};
-use crate::model::board::{Contour, ContourKind, RailProfile, Rails};
+use crate::model::board::{RailProfile, Rails};
+use crate::model::contour::{Contour, ContourKind};
 
 /// Where a rail value's nose, middle and tail parts hold: the nose-width
 /// station, the wide point and the tail-width station.
