@@ -241,7 +241,7 @@ fn bad_fittings_are_refused_at_their_place() {
             "fins.side.from_rail",
             "past the stringer",
         ),
-        ("toe: 2,", "toe: 25,", "fins.side.toe", "from 0 to 10"),
+        ("toe: 2,", "toe: 25,", "fins.side.toe", "between 0 and 10"),
         (
             "leash_plug: {from_tail: 4 1/2}",
             "leash_plug: {from_tail: 4 1/2, depth: 1 1/4}",

@@ -7,6 +7,7 @@
 
 pub mod demo;
 pub mod fittings;
+pub mod located;
 mod resolve;
 pub mod values;
 pub mod write;

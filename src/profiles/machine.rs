@@ -8,7 +8,8 @@ use std::path::Path;
 use serde::Deserialize;
 use serde_saphyr::Spanned;
 
-use super::values::{FeedValue, Reader, mm_text, read_text};
+use super::values::{FeedValue, feed, mm_text, read_text};
+use crate::description::located::Reader;
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::model::machine::{Controller, Cutter, Machine, Tool, ToolKind};
@@ -158,25 +159,29 @@ fn resolve_machine(raw: MachineFile, text: &str, file: &str) -> Result<Machine, 
         None => 0.0,
     };
     let feed_cap = 100_000.0;
-    let max_feed_xy = r.feed(
+    let max_feed_xy = feed(
+        &r,
         &raw.max_feed.xy,
         "max_feed.xy",
         feed_cap,
         "the machine maker's rating",
     )?;
-    let max_feed_z = r.feed(
+    let max_feed_z = feed(
+        &r,
         &raw.max_feed.z,
         "max_feed.z",
         feed_cap,
         "the machine maker's rating",
     )?;
-    let rapid_xy = r.feed(
+    let rapid_xy = feed(
+        &r,
         &raw.rapid.xy,
         "rapid.xy",
         feed_cap,
         "the machine's G0 rate in X and Y",
     )?;
-    let rapid_z = r.feed(
+    let rapid_z = feed(
+        &r,
         &raw.rapid.z,
         "rapid.z",
         feed_cap,

@@ -7,10 +7,11 @@ use serde::Deserialize;
 use serde_saphyr::{Location, Spanned};
 
 use crate::description::DescriptionError;
+use crate::description::located::Reader;
 use crate::description::values::LengthValue;
 use crate::model::curve::Curve;
 use crate::model::job::{BlankRocker, Block, Stringer};
-use crate::profiles::values::{Reader, mm_text};
+use crate::profiles::values::mm_text;
 
 #[derive(Debug, Default, Deserialize)]
 #[serde(deny_unknown_fields)]

@@ -1,17 +1,19 @@
 //! Values as the profiles write them (feeds with their units, stepovers as
-//! a share or a length) and the located reader the machine, job and stock
-//! readers share: every length to millimetres and every feed to
-//! millimetres per minute, a rule broken said at its line and column.
+//! a share or a length), read through the located reader
+//! (`description::located`) every input file shares: every length to
+//! millimetres and every feed to millimetres per minute, a rule broken said
+//! at its line and column.
 
 use std::fmt;
 use std::path::Path;
 
 use serde::Deserialize;
 use serde::de::{self, Deserializer, Visitor};
-use serde_saphyr::{Location, Spanned};
+use serde_saphyr::Spanned;
 
+use crate::description::DescriptionError;
+use crate::description::located::Reader;
 use crate::description::values::LengthValue;
-use crate::description::{self, DescriptionError};
 use crate::units::{self, Unit};
 
 /// A feed rate as written: a bare number (per minute in the file's unit) or
@@ -141,120 +143,27 @@ impl<'de> Deserialize<'de> for StepoverValue {
     }
 }
 
-/// Reads values with the file's text at hand for located errors.
-pub(crate) struct Reader<'a> {
-    pub text: &'a str,
-    pub file: &'a str,
-    pub unit: Unit,
-}
-
-impl Reader<'_> {
-    pub fn fail<T>(
-        &self,
-        at: &Location,
-        field: &str,
-        rule: impl Into<String>,
-        hint: impl Into<String>,
-    ) -> Result<T, DescriptionError> {
-        Err(description::rule_error(
-            self.text, self.file, at, field, rule, hint,
-        ))
+/// A feed in (0, hi] mm/min.
+pub fn feed(
+    r: &Reader,
+    v: &Spanned<FeedValue>,
+    field: &str,
+    hi: f64,
+    hint: &str,
+) -> Result<f64, DescriptionError> {
+    let x = v.value.mm_per_min(r.unit);
+    if x > 0.0 && x <= hi {
+        return Ok(x);
     }
-
-    /// A length in (lo, hi], in mm.
-    pub fn length(
-        &self,
-        v: &Spanned<LengthValue>,
-        field: &str,
-        lo: f64,
-        hi: f64,
-        hint: &str,
-    ) -> Result<f64, DescriptionError> {
-        let x = v.value.0.to_mm(self.unit);
-        if x > lo && x <= hi {
-            return Ok(x);
-        }
-        self.fail(
-            &v.referenced,
-            field,
-            format!(
-                "is {}; it must be more than {} and at most {}",
-                mm_text(x),
-                mm_text(lo),
-                mm_text(hi)
-            ),
-            hint,
-        )
-    }
-
-    /// A length in [lo, hi], in mm.
-    pub fn length_or_zero(
-        &self,
-        v: &Spanned<LengthValue>,
-        field: &str,
-        lo: f64,
-        hi: f64,
-        hint: &str,
-    ) -> Result<f64, DescriptionError> {
-        let x = v.value.0.to_mm(self.unit);
-        if x >= lo && x <= hi {
-            return Ok(x);
-        }
-        self.fail(
-            &v.referenced,
-            field,
-            format!(
-                "is {}; it must be at least {} and at most {}",
-                units::exact(x),
-                units::exact(lo),
-                units::exact(hi)
-            ),
-            hint,
-        )
-    }
-
-    /// A feed in (0, hi] mm/min.
-    pub fn feed(
-        &self,
-        v: &Spanned<FeedValue>,
-        field: &str,
-        hi: f64,
-        hint: &str,
-    ) -> Result<f64, DescriptionError> {
-        let x = v.value.mm_per_min(self.unit);
-        if x > 0.0 && x <= hi {
-            return Ok(x);
-        }
-        self.fail(
-            &v.referenced,
-            field,
-            format!(
-                "is {x:.0} mm/min ({:.1} in/min); it must be more than 0 and at most {hi:.0} mm/min",
-                x / units::MM_PER_INCH
-            ),
-            hint,
-        )
-    }
-
-    /// A plain number in [lo, hi].
-    pub fn number(
-        &self,
-        v: &Spanned<f64>,
-        field: &str,
-        lo: f64,
-        hi: f64,
-        hint: &str,
-    ) -> Result<f64, DescriptionError> {
-        if v.value.is_finite() && v.value >= lo && v.value <= hi {
-            return Ok(v.value);
-        }
-        self.fail(
-            &v.referenced,
-            field,
-            format!("is {}; it must be between {lo} and {hi}", v.value),
-            hint,
-        )
-    }
+    r.fail(
+        &v.referenced,
+        field,
+        format!(
+            "is {x:.0} mm/min ({:.1} in/min); it must be more than 0 and at most {hi:.0} mm/min",
+            x / units::MM_PER_INCH
+        ),
+        hint,
+    )
 }
 
 /// `12.70 mm (1/2")`.

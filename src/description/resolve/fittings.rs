@@ -95,13 +95,7 @@ pub(super) fn number_in(
 ) -> Res<f64> {
     match v {
         None => Ok(default),
-        Some(s) if s.value.is_finite() && (lo..=hi).contains(&s.value) => Ok(s.value),
-        Some(s) => cx.fail(
-            &s.referenced,
-            field,
-            format!("is {}; it must be from {lo} to {hi}", s.value),
-            hint,
-        ),
+        Some(s) => cx.number(s, field, lo, hi, hint),
     }
 }
 

@@ -9,12 +9,13 @@ mod outline;
 mod section;
 mod side;
 
+use super::located::Reader;
 use super::values::{LengthValue, Position};
 use super::{BoardFile, DescriptionError};
 use crate::model::board::{Board, Closing, RailProfile, Station};
 use crate::model::contour::ContourKind;
 use crate::model::curve::{Curve, End};
-use crate::units::{self, Unit};
+use crate::units;
 use outline::outline;
 use section::{Anchors, bottom, rails};
 use serde_saphyr::{Location, Spanned};
@@ -26,37 +27,29 @@ pub const MIN_LENGTH: f64 = 300.0;
 /// Longest board accepted, mm (20 ft is past any surfboard or paddle board).
 pub const MAX_LENGTH: f64 = 6096.0;
 
+/// The located reader, and the board's length once it is known (for
+/// positions given from the tail).
 pub(super) struct Ctx<'a> {
-    text: &'a str,
-    file: &'a str,
-    unit: Unit,
+    r: Reader<'a>,
     length: f64,
 }
 
 pub(super) type Res<T> = Result<T, DescriptionError>;
 
+impl<'a> std::ops::Deref for Ctx<'a> {
+    type Target = Reader<'a>;
+
+    fn deref(&self) -> &Reader<'a> {
+        &self.r
+    }
+}
+
 impl Ctx<'_> {
-    pub(super) fn fail<T>(
-        &self,
-        at: &Location,
-        field: &str,
-        rule: impl Into<String>,
-        hint: impl Into<String>,
-    ) -> Res<T> {
-        Err(super::rule_error(
-            self.text, self.file, at, field, rule, hint,
-        ))
-    }
-
-    pub(super) fn mm(&self, v: &Spanned<LengthValue>) -> f64 {
-        v.value.0.to_mm(self.unit)
-    }
-
     pub(super) fn at(&self, p: &Spanned<Position>) -> f64 {
-        p.value.from_nose(self.length, self.unit)
+        p.value.from_nose(self.length, self.r.unit)
     }
 
-    /// A length that must lie in (lo, hi) — or [lo, hi) when `zero_ok`.
+    /// A length that must lie in (lo, hi] — or [lo, hi] when `zero_ok`.
     pub(super) fn length_in(
         &self,
         v: &Spanned<LengthValue>,
@@ -66,47 +59,10 @@ impl Ctx<'_> {
         zero_ok: bool,
         hint: &str,
     ) -> Res<f64> {
-        let x = self.mm(v);
-        let ok = if zero_ok { x >= lo } else { x > lo } && x <= hi;
-        if !ok {
-            let lower = if zero_ok { "at least" } else { "more than" };
-            return self.fail(
-                &v.referenced,
-                field,
-                format!(
-                    "is {}; it must be {lower} {} and at most {}",
-                    units::exact(x),
-                    units::exact(lo),
-                    units::exact(hi)
-                ),
-                hint,
-            );
-        }
-        Ok(x)
-    }
-
-    pub(super) fn required<'v, T>(
-        &self,
-        v: &'v Option<Spanned<T>>,
-        near: &Location,
-        field: &str,
-        hint: &str,
-    ) -> Res<&'v Spanned<T>> {
-        match v {
-            Some(s) => Ok(s),
-            None => self.fail(near, field, "is missing", hint),
-        }
-    }
-
-    pub(super) fn forbid<T>(&self, v: &Option<Spanned<T>>, field: &str, why: &str) -> Res<()> {
-        match v {
-            Some(s) => self.fail(
-                &s.referenced,
-                field,
-                format!("does not apply: {why}"),
-                "remove the field",
-            ),
-            None => Ok(()),
+        if zero_ok {
+            self.r.length_or_zero(v, field, lo, hi, hint)
+        } else {
+            self.r.length(v, field, lo, hi, hint)
         }
     }
 }
@@ -119,9 +75,11 @@ pub(super) fn show(mm: f64) -> String {
 /// Checks a description's shape rules and builds the board.
 pub fn resolve(raw: &BoardFile, text: &str, file: &str) -> Result<Board, DescriptionError> {
     let mut cx = Ctx {
-        text,
-        file,
-        unit: raw.units.value,
+        r: Reader {
+            text,
+            file,
+            unit: raw.units.value,
+        },
         length: 0.0,
     };
     let name = &raw.name;

@@ -7,12 +7,13 @@ use std::path::Path;
 use serde::Deserialize;
 use serde_saphyr::{Location, Spanned};
 
+use crate::description::located::Reader;
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::model::job::{Finish, Holding, Job, Pass, Pitch, RailPass};
 use crate::model::machine::{Machine, ToolKind};
 use crate::profiles::stock::{self, BlockSpec};
-use crate::profiles::values::{FeedValue, Reader, StepoverValue, mm_text, read_text};
+use crate::profiles::values::{FeedValue, StepoverValue, mm_text, read_text};
 use crate::units::Unit;
 
 mod passes;
@@ -221,23 +222,6 @@ impl JobReader<'_> {
         )?;
         Ok([hole_diameter, hole_gap, pin_depth])
     }
-
-    fn forbid<T>(
-        &self,
-        v: &Option<Spanned<T>>,
-        field: &str,
-        why: &str,
-    ) -> Result<(), DescriptionError> {
-        match v {
-            Some(s) => self.r.fail(
-                &s.referenced,
-                field,
-                format!("does not apply: {why}"),
-                "remove the field",
-            ),
-            None => Ok(()),
-        }
-    }
 }
 
 fn resolve(
@@ -306,7 +290,7 @@ fn resolve(
     )?;
     {
         let (name, spec) = ("outline", &outline_spec);
-        jr.forbid(
+        jr.r.forbid(
             &spec.scallop,
             &format!("{name}.scallop"),
             "only finishing has a scallop target",
@@ -321,10 +305,10 @@ fn resolve(
         Holding::Frame => jr.frame(&raw.frame, d_rough, &outline)?,
         Holding::Cradle => {
             let why = "a cradle holds the board: all the stock off it is cut away";
-            jr.forbid(&raw.frame, "frame", why)?;
+            jr.r.forbid(&raw.frame, "frame", why)?;
             if let Some(t) = &raw.tabs {
-                jr.forbid(&t.width, "tabs.width", why)?;
-                jr.forbid(&t.height, "tabs.height", why)?;
+                jr.r.forbid(&t.width, "tabs.width", why)?;
+                jr.r.forbid(&t.height, "tabs.height", why)?;
             }
             0.0
         }

@@ -184,7 +184,8 @@ impl JobReader<'_> {
         }
         .min(m.max_feed_xy);
         let feed = match &spec.feed {
-            Some(v) => self.r.feed(
+            Some(v) => crate::profiles::values::feed(
+                &self.r,
                 v,
                 &f("feed"),
                 m.max_feed_xy,
@@ -196,7 +197,8 @@ impl JobReader<'_> {
             None => feed_default,
         };
         let plunge_feed = match &spec.plunge_feed {
-            Some(v) => self.r.feed(
+            Some(v) => crate::profiles::values::feed(
+                &self.r,
                 v,
                 &f("plunge_feed"),
                 m.max_feed_z,
@@ -215,7 +217,7 @@ impl JobReader<'_> {
             None => 18000f64.clamp(m.spindle_min.max(1.0), m.spindle_max),
         };
         if which != Strategy::Roughing {
-            self.forbid(
+            self.r.forbid(
                 &spec.ramp_angle,
                 &f("ramp_angle"),
                 "only the roughing enters its levels by a ramp",
@@ -250,12 +252,12 @@ impl JobReader<'_> {
         fin_spec: PassSpec,
         rails_spec: PassSpec,
     ) -> Result<Finish, DescriptionError> {
-        self.forbid(
+        self.r.forbid(
             &fin_spec.stepdown,
             "finishing.stepdown",
             "finishing follows the surface; its stepover comes from `scallop`",
         )?;
-        self.forbid(
+        self.r.forbid(
             &fin_spec.stepover,
             "finishing.stepover",
             "the stepover follows from `scallop`",
