@@ -153,7 +153,7 @@ fn templates_demo_a4() -> usize {
     use blanksmith::{template::drawing as template, template::tiling};
     let board = demo_board();
     let c = certificate::certify(&board, mesher::DEFAULT_TOLERANCE).unwrap();
-    let side = template::side_of(&board);
+    let side = template::curves_of(&board);
     let stations = [
         board.tip_station,
         board.length / 2.0,

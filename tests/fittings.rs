@@ -42,7 +42,7 @@ fn template_edge(d: &template::Drawing, x: f64) -> f64 {
 fn fin_and_plug_marks_stand_where_the_description_puts_them() {
     for name in ["shortboard.yaml", "fish.yaml", "longboard.yaml"] {
         let b = fixture(name);
-        let side = template::side_of(&b);
+        let side = template::curves_of(&b);
         let mut d = template::outline(&side);
         let outline_items = d.items.len();
         let marks = template::fitting_marks(&b);

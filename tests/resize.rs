@@ -142,8 +142,8 @@ fn a_resized_board_reads_back_with_the_same_volume() {
         let back = description::board_from_str(&text, "resized.yaml")
             .unwrap_or_else(|e| panic!("{name}: {e}"));
         let (a, b) = (
-            integrals::profile(&r.board).volume() * 1e-6,
-            integrals::profile(&back).volume() * 1e-6,
+            integrals::area_integrals(&r.board).volume() * 1e-6,
+            integrals::area_integrals(&back).volume() * 1e-6,
         );
         assert!((a - b).abs() < 1e-6, "{name}: {a} vs {b}");
     }

@@ -53,7 +53,7 @@ fn section_areas_integrate_to_the_mesh_volume() {
     for name in ["shortboard.yaml", "fish.yaml"] {
         let path = format!("{}/fixtures/{name}", env!("CARGO_MANIFEST_DIR"));
         let board = description::load(std::path::Path::new(&path)).unwrap();
-        let plan = mesher::plan(&board, 0.05).unwrap();
+        let plan = mesher::sample(&board, 0.05).unwrap();
         let mesh = mesher::build(&board, &plan);
         let xs = plan.stations();
         let mut at = vec![];

@@ -180,7 +180,7 @@ fn tiles_reassemble_the_outline_and_lose_none_of_it() {
 #[test]
 fn svg_outline_matches_the_board_and_the_written_half_widths() {
     let b = board();
-    let side = template::side_of(&b);
+    let side = template::curves_of(&b);
     let svg = template::to_svg(&template::outline(&side));
     let doc = roxmltree::Document::parse(&svg).unwrap();
     let root = doc.root_element();
@@ -336,7 +336,7 @@ fn the_outline_template_holds_the_meshed_planform_for_every_tail() {
             panic!()
         };
         let mesh = design.mesh(0.05).unwrap();
-        let d = drawing::outline(&drawing::side_of(board));
+        let d = drawing::outline(&drawing::curves_of(board));
         let poly: Vec<[f64; 2]> = d
             .items
             .iter()
@@ -421,11 +421,11 @@ fn labels_are_in_the_boards_units_and_sections_name_both_ends() {
             .collect()
     };
     let fish = blanksmith::description::load(&root.join("fish.yaml")).unwrap();
-    let t = texts(&template::outline(&template::side_of(&fish)));
+    let t = texts(&template::outline(&template::curves_of(&fish)));
     assert!(t.iter().any(|s| s == "150 mm from nose"), "{t:?}");
     assert!(!t.iter().any(|s| s.contains("\" from nose")), "{t:?}");
     let short = board();
-    let t = texts(&template::outline(&template::side_of(&short)));
+    let t = texts(&template::outline(&template::curves_of(&short)));
     assert!(t.iter().any(|s| s == "6\" from nose"), "{t:?}");
     let design = jobs::load_design(&root.join("shortboard.yaml")).unwrap();
     let mesh = design.mesh(0.05).unwrap();
@@ -450,7 +450,7 @@ fn labels_are_in_the_boards_units_and_sections_name_both_ends() {
 #[test]
 fn the_rocker_template_is_closed_and_labelled_at_its_stations() {
     let b = board();
-    let side = template::side_of(&b);
+    let side = template::curves_of(&b);
     let d = template::rocker(&side);
     let Some(Item::Line {
         points,

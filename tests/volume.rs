@@ -34,7 +34,7 @@ fn box_board_holds_length_times_width_times_thickness() {
         "{}",
         c.measures.volume
     );
-    assert!((integrals::profile(&b).volume() - want).abs() <= 1e-9 * want);
+    assert!((integrals::area_integrals(&b).volume() - want).abs() <= 1e-9 * want);
     // Its area is 2(LW + LT + WT) (elementary geometry).
     let area = 2.0 * (1000.0 * 500.0 + 1000.0 * 60.0 + 500.0 * 60.0);
     assert!((c.measures.area - area).abs() <= 1e-9 * area);
@@ -115,7 +115,7 @@ fn ellipsoid_board_holds_four_thirds_pi_abc() {
     eprintln!(
         "ellipsoid: mesh {:.5} L, shape {:.5} L, exact {:.5} L",
         cert.measures.volume * 1e-6,
-        integrals::profile(&board).volume() * 1e-6,
+        integrals::area_integrals(&board).volume() * 1e-6,
         want * 1e-6
     );
     assert!(
@@ -124,7 +124,7 @@ fn ellipsoid_board_holds_four_thirds_pi_abc() {
         cert.measures.volume * 1e-6,
         want * 1e-6
     );
-    let shape_err_l = (integrals::profile(&board).volume() - want).abs() * 1e-6;
+    let shape_err_l = (integrals::area_integrals(&board).volume() - want).abs() * 1e-6;
     assert!(
         shape_err_l < 0.005,
         "shape integral off the ellipsoid by {shape_err_l} L"
@@ -242,7 +242,7 @@ fn finer_tolerance_converges() {
     // makes the mesh hold more than the continuous shape by more than
     // rounding (chords of a convex-in-the-large surface lie inside it).
     let b = fixture("fish.yaml");
-    let exact = integrals::profile(&b).volume();
+    let exact = integrals::area_integrals(&b).volume();
     let mut last = f64::INFINITY;
     for tol in [0.4, 0.1, 0.025] {
         let m = mesh_board(&b, tol).unwrap();

@@ -91,8 +91,8 @@ pub fn diff(a: &Path, b: &Path, dir: &Path, water: &Water) -> Result<Diff, JobEr
     let litres = [0, 1].map(|i| crate::volume::measure::volume(&meshes[i]) * 1e-6);
     let svg = crate::resize::overlay::svg(
         &format!("{} against {}", names[1], names[0]),
-        &crate::resize::overlay::profile(&names[0], &meshes[0], 200),
-        &crate::resize::overlay::profile(&names[1], &meshes[1], 200),
+        &crate::resize::overlay::curves(&names[0], &meshes[0], 200),
+        &crate::resize::overlay::curves(&names[1], &meshes[1], 200),
     );
     let files = [(
         dir.join(format!("{}-vs-{}.overlay.svg", names[1], names[0])),

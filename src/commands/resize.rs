@@ -173,7 +173,7 @@ pub fn resize(
         &format!("{} (the resized board, not written)", dest.display()),
     )
     .map_err(|e| JobError::Resize(Box::new(e)))?;
-    let back_litres = crate::volume::integrals::profile(&back).volume() * 1e-6;
+    let back_litres = crate::volume::integrals::area_integrals(&back).volume() * 1e-6;
     if (back_litres - new.volume_litres_surface).abs() > 1e-6 {
         return Err(JobError::Internal(format!(
             "the written description holds {back_litres:.6} L, not {:.6} L; nothing written",
@@ -182,8 +182,8 @@ pub fn resize(
     }
     let overlay = crate::resize::overlay::svg(
         &format!("{} against {}", new_board.name, board.name),
-        &crate::resize::overlay::profile(&board.name, &old_cert.mesh, 200),
-        &crate::resize::overlay::profile(&new_board.name, &new_cert.mesh, 200),
+        &crate::resize::overlay::curves(&board.name, &old_cert.mesh, 200),
+        &crate::resize::overlay::curves(&new_board.name, &new_cert.mesh, 200),
     );
     let svg_path = dest.with_extension("overlay.svg");
     let files = [(dest, yaml.into_bytes()), (svg_path, overlay.into_bytes())];

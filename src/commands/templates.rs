@@ -69,8 +69,8 @@ pub(crate) fn template_files(
     }
     let want = |k: &str| only.is_empty() || only.iter().any(|o| o == k);
     let side = match design {
-        Design::Board(b) => template::side_of(b),
-        Design::Mesh { name, mesh } => template::side_of_mesh(name, mesh),
+        Design::Board(b) => template::curves_of(b),
+        Design::Mesh { name, mesh } => template::curves_of_mesh(name, mesh),
     };
     let length = side.length();
     let section_at = if stations.is_empty() {

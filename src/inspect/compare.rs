@@ -15,7 +15,7 @@ use crate::volume::measure as volume;
 
 /// Distances from the points of one surface to the other.
 #[derive(Debug, Clone, Serialize)]
-pub struct Side {
+pub struct Distances {
     /// Points measured (the surface's vertices).
     pub points: usize,
     /// Largest distance, mm.
@@ -59,9 +59,9 @@ pub struct Comparison {
     /// Symmetric Hausdorff distance: the larger of the two maxima, mm.
     pub hausdorff_mm: f64,
     /// From the design's points to the cut.
-    pub design_to_cut: Side,
+    pub design_to_cut: Distances,
     /// From the cut's points to the design.
-    pub cut_to_design: Side,
+    pub cut_to_design: Distances,
     /// The largest deviations on the design, at least 50 mm apart.
     pub worst: Vec<Worst>,
     /// Design volume, litres.
@@ -74,9 +74,9 @@ pub struct Comparison {
     pub alignment: Option<Alignment>,
 }
 
-fn side(d: &[f64]) -> Side {
+fn side(d: &[f64]) -> Distances {
     let n = d.len().max(1) as f64;
-    Side {
+    Distances {
         points: d.len(),
         max_mm: d.iter().map(|x| x.abs()).fold(0.0, f64::max),
         mean_mm: d.iter().map(|x| x.abs()).sum::<f64>() / n,

@@ -472,7 +472,7 @@ pub fn check_tolerance(tolerance: f64) -> Result<(), MeshError> {
 
 /// Plans the sampling of `board` so that every sampled curve is within
 /// `tolerance` mm of its chords.
-pub fn plan(board: &Board, tolerance: f64) -> Result<Sampling, MeshError> {
+pub fn sample(board: &Board, tolerance: f64) -> Result<Sampling, MeshError> {
     check_tolerance(tolerance)?;
     let ring = ring_params(board, tolerance);
     let stations = stations(board, &ring, tolerance)?
@@ -485,7 +485,7 @@ pub fn plan(board: &Board, tolerance: f64) -> Result<Sampling, MeshError> {
 /// Meshes `board` so that every sampled curve is within `tolerance` mm of
 /// the surface.
 pub fn mesh_board(board: &Board, tolerance: f64) -> Result<Mesh, MeshError> {
-    Ok(build(board, &plan(board, tolerance)?))
+    Ok(build(board, &sample(board, tolerance)?))
 }
 
 /// Builds the mesh on a planned sampling.

@@ -7,7 +7,7 @@
 use std::fmt::Write as _;
 
 use crate::model::board::Board;
-use crate::template::drawing::{self, BORDER, Item, Role, Side};
+use crate::template::drawing::{self, BORDER, Curves, Item, Role};
 use crate::units::{self, MM_PER_INCH};
 
 /// Width of every view, SVG units (pixels at full width).
@@ -63,7 +63,7 @@ fn both(mm: f64) -> String {
 /// the stringer, with the width at 12 in from each tip and at the wide
 /// point, the fin boxes and the leash plug.
 pub fn plan_view(board: &Board) -> String {
-    let side = drawing::side_of(board);
+    let side = drawing::curves_of(board);
     let l = side.length();
     let s = (W - 2.0 * PAD) / l;
     let half = side.half_width.iter().fold(0.0f64, |m, &v| m.max(v));
@@ -169,7 +169,7 @@ pub fn plan_view(board: &Board) -> String {
 /// A profile along the board with heights stretched: `lines` (colour,
 /// heights at `side.x`), labelled every foot in the board's units.
 fn profile(
-    side: &Side,
+    side: &Curves,
     lines: &[(&str, Vec<f64>)],
     caption: &str,
     marks: &[(f64, String)],
@@ -238,7 +238,7 @@ fn profile(
 /// The board from the side, nose left: the bottom (rocker) and the deck at
 /// the stringer over the flat it rests on, heights ×[`EXAGGERATION`].
 pub fn side_view(board: &Board) -> String {
-    let side = drawing::side_of(board);
+    let side = drawing::curves_of(board);
     let l = side.length();
     let tip = 12.0 * MM_PER_INCH;
     let marks = vec![
@@ -274,7 +274,7 @@ pub fn side_view(board: &Board) -> String {
 /// heights ×[`EXAGGERATION`], with the thickest point and the thickness
 /// 12 in from each tip.
 pub fn thickness_view(board: &Board) -> String {
-    let side = drawing::side_of(board);
+    let side = drawing::curves_of(board);
     let l = side.length();
     let t: Vec<f64> = side
         .deck

@@ -8,7 +8,7 @@ use crate::slice::plane::{Axis, slice_many};
 use crate::svg::Svg;
 
 /// A board's plan and side curves, measured from its mesh.
-pub struct Profile {
+pub struct Curves {
     /// Name, for the legend.
     pub name: String,
     /// Distance from the nose of each sample, mm.
@@ -22,14 +22,14 @@ pub struct Profile {
 }
 
 /// Measures `mesh` at `samples` stations along x (nose at its smallest x).
-pub fn profile(name: &str, mesh: &Mesh, samples: usize) -> Profile {
+pub fn curves(name: &str, mesh: &Mesh, samples: usize) -> Curves {
     let (lo, hi) = mesh.bounding_box().unwrap_or(([0.0; 3], [0.0; 3]));
     let len = hi[0] - lo[0];
     let xs: Vec<f64> = (1..samples)
         .map(|i| lo[0] + len * i as f64 / samples as f64)
         .collect();
     let slices = slice_many(mesh, Axis::X, &xs);
-    let mut p = Profile {
+    let mut p = Curves {
         name: name.to_string(),
         x: vec![0.0],
         half_width: vec![0.0],
@@ -61,7 +61,7 @@ pub fn profile(name: &str, mesh: &Mesh, samples: usize) -> Profile {
 const COLOURS: [&str; 2] = ["#1f4e9c", "#c0392b"];
 
 /// The overlay of `a` and `b`.
-pub fn svg(title: &str, a: &Profile, b: &Profile) -> String {
+pub fn svg(title: &str, a: &Curves, b: &Curves) -> String {
     let margin = 15.0;
     let len =
         a.x.last()

@@ -65,7 +65,7 @@ pub const BORDER: f64 = 20.0;
 pub const BACK: f64 = 40.0;
 
 /// The board's curves at the stringer, sampled along the length.
-pub struct Side {
+pub struct Curves {
     /// Name of the board.
     pub name: String,
     /// Station spacing for ticks and heights: 6 in, or 150 mm for a mm board.
@@ -84,8 +84,8 @@ pub struct Side {
 
 /// Samples a board description finely (the mesher's own stations at a
 /// 0.05 mm chord tolerance, plus every 5 mm).
-pub fn side_of(board: &Board) -> Side {
-    let mut x: Vec<f64> = crate::meshing::mesher::plan(board, 0.05)
+pub fn curves_of(board: &Board) -> Curves {
+    let mut x: Vec<f64> = crate::meshing::mesher::sample(board, 0.05)
         .map(|p| p.stations().to_vec())
         .unwrap_or_default();
     x.extend(
@@ -107,7 +107,7 @@ pub fn side_of(board: &Board) -> Side {
         .zip(&bottom)
         .map(|(&v, b)| b + board.thickness(v))
         .collect();
-    Side {
+    Curves {
         name: board.name.clone(),
         step: station_step(board),
         x,
@@ -119,8 +119,8 @@ pub fn side_of(board: &Board) -> Side {
 }
 
 /// Samples a mesh (x along the board) by slicing it.
-pub fn side_of_mesh(name: &str, mesh: &Mesh) -> Side {
-    let p = crate::resize::overlay::profile(name, mesh, 400);
+pub fn curves_of_mesh(name: &str, mesh: &Mesh) -> Curves {
+    let p = crate::resize::overlay::curves(name, mesh, 400);
     let n = p.x.len();
     // The profile's tips have no height; take their neighbours'.
     let fix = |v: &[f64]| -> Vec<f64> {
@@ -138,7 +138,7 @@ pub fn side_of_mesh(name: &str, mesh: &Mesh) -> Side {
             })
             .collect()
     };
-    Side {
+    Curves {
         name: name.to_string(),
         step: 6.0 * MM_PER_INCH,
         x: p.x.clone(),
@@ -149,7 +149,7 @@ pub fn side_of_mesh(name: &str, mesh: &Mesh) -> Side {
     }
 }
 
-impl Side {
+impl Curves {
     /// Length, mm.
     pub fn length(&self) -> f64 {
         self.x.last().copied().unwrap_or(0.0)
@@ -205,7 +205,7 @@ fn station_step(board: &Board) -> f64 {
 
 /// The half outline from the stringer, with station ticks, the half-width
 /// written at each, the wide point, and the nose and tail ends.
-pub fn outline(side: &Side) -> Drawing {
+pub fn outline(side: &Curves) -> Drawing {
     let b = BORDER;
     let l = side.length();
     let w_max = side.half_width.iter().fold(0.0f64, |m, &v| m.max(v));
@@ -406,7 +406,7 @@ pub fn fitting_marks(board: &Board) -> Vec<Item> {
 /// The bottom and deck at the stringer over a straight baseline (the flat
 /// the board rests on), with heights at stations, nose and tail rocker and
 /// the tail exit angle.
-pub fn rocker(side: &Side) -> Drawing {
+pub fn rocker(side: &Curves) -> Drawing {
     let b = BORDER;
     let l = side.length();
     let zmin = side.bottom.iter().fold(0.0f64, |m, &v| m.min(v));

@@ -33,7 +33,7 @@ pub struct Certified {
     /// certify.
     pub refined_from: Option<f64>,
     /// The continuous shape's volume along the board, for (b) and the report.
-    pub profile: integrals::Profile,
+    pub integrals: integrals::AreaIntegrals,
 }
 
 /// Three volumes and whether they agree.
@@ -87,7 +87,7 @@ pub fn certify(board: &Board, tolerance: f64) -> Result<Certified, MeshError> {
 }
 
 fn certify_at(board: &Board, tolerance: f64) -> Result<Certified, MeshError> {
-    let sampling = mesher::plan(board, tolerance)?;
+    let sampling = mesher::sample(board, tolerance)?;
     let ((mesh, coarse_volume), surface) = rayon::join(
         || {
             rayon::join(
@@ -95,7 +95,7 @@ fn certify_at(board: &Board, tolerance: f64) -> Result<Certified, MeshError> {
                 || volume::volume(&mesher::build(board, &sampling.coarsened(board))),
             )
         },
-        || integrals::profile(board),
+        || integrals::area_integrals(board),
     );
     let topology = topology::analyse(&mesh);
     let measures = volume::measure(&mesh);
@@ -123,6 +123,6 @@ fn certify_at(board: &Board, tolerance: f64) -> Result<Certified, MeshError> {
         },
         tolerance,
         refined_from: None,
-        profile: surface,
+        integrals: surface,
     })
 }

@@ -25,7 +25,7 @@ pub fn section_area(board: &Board, x: f64) -> f64 {
 
 /// Volume along the board: pieces of ∫A dx and ∫x·A dx.
 #[derive(Debug, Clone, PartialEq)]
-pub struct Profile {
+pub struct AreaIntegrals {
     pieces: Vec<Piece<2>>,
 }
 
@@ -48,7 +48,7 @@ fn marks(board: &Board) -> Vec<f64> {
 }
 
 /// Integrates the section areas along `board`.
-pub fn profile(board: &Board) -> Profile {
+pub fn area_integrals(board: &Board) -> AreaIntegrals {
     let breaks = marks(board);
     let l = board.length;
     let tolerance = RELATIVE_ACCURACY * volume_scale(board);
@@ -67,10 +67,10 @@ pub fn profile(board: &Board) -> Profile {
             )
         })
         .collect();
-    Profile { pieces }
+    AreaIntegrals { pieces }
 }
 
-impl Profile {
+impl AreaIntegrals {
     /// Volume, mm³.
     pub fn volume(&self) -> f64 {
         self.pieces.iter().map(|p| p.value[0]).sum()
@@ -136,7 +136,7 @@ mod tests {
     #[test]
     fn litres_along_add_up_to_the_volume() {
         let b = crate::description::board_from_str(crate::description::demo::DEMO, "demo").unwrap();
-        let p = profile(&b);
+        let p = area_integrals(&b);
         for step in [MM_PER_FOOT, 300.0] {
             let sum: f64 = p.litres_along(b.length, step).iter().map(|x| x.2).sum();
             assert!((sum - p.volume() * 1e-6).abs() < 1e-9, "{step}: {sum}");
