@@ -17,7 +17,7 @@ use blanksmith::profiles::job;
 use blanksmith::profiles::machine as profile;
 use blanksmith::template::print;
 use blanksmith::{
-    commands as jobs, description, description::demo, meshing::mesher, volume::certificate,
+    commands as cmd, description, description::demo, meshing::mesher, volume::certificate,
 };
 use divan::black_box;
 
@@ -97,7 +97,7 @@ fn both_setups_demo_default_job() -> usize {
 fn simulate_both_setups_demo(b: divan::Bencher) {
     let (plan, m, j) = demo_plan("{}");
     b.bench(|| {
-        jobs::verify_plan(&plan, &m, &j, &|_| {})
+        cmd::verify_plan(&plan, &m, &j, &|_| {})
             .unwrap()
             .removed_volume_litres
     });
@@ -199,7 +199,7 @@ fn simulate_both_setups_demo_fine_cells(b: divan::Bencher) {
         ..Default::default()
     };
     b.bench(|| {
-        jobs::verify_plan_with(&plan, &m, &j, options, &|_| {})
+        cmd::verify_plan_with(&plan, &m, &j, options, &|_| {})
             .unwrap()
             .removed_volume_litres
     });
@@ -209,13 +209,13 @@ fn simulate_both_setups_demo_fine_cells(b: divan::Bencher) {
 #[divan::bench(sample_count = 3, sample_size = 1)]
 fn make_demo_end_to_end() -> usize {
     let dir = tempfile::tempdir().unwrap();
-    let cut = jobs::CutArgs {
+    let cut = cmd::CutArgs {
         machine: None,
         job: None,
         stock_list: None,
     };
-    let m = jobs::make(
-        &jobs::Input::Demo,
+    let m = cmd::make(
+        &cmd::Input::Demo,
         mesher::DEFAULT_TOLERANCE,
         blanksmith::template::print::A4,
         dir.path(),

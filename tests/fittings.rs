@@ -344,11 +344,11 @@ fn make_writes_an_order_sheet_on_the_paper_asked_for() {
 /// and volume against the description, and no gouge anywhere else.
 #[test]
 fn pockets_are_cut_to_the_box_geometry_and_nowhere_else() {
-    use blanksmith::commands::{self as jobs, Design};
+    use blanksmith::commands::{self as cmd, Design};
     let b = fixture("shortboard.yaml");
     let m = blanksmith::profiles::machine::generic_machine();
     let j = blanksmith::profiles::job::job_from_str("{}", "job.yaml", &m).unwrap();
-    let plan = jobs::plan_design(&Design::Board(Box::new(b.clone())), &m, &j, &|_| {}).unwrap();
+    let plan = cmd::plan_design(&Design::Board(Box::new(b.clone())), &m, &j, &|_| {}).unwrap();
     let names: Vec<&str> = plan.programs.iter().map(|p| p.file_name.as_str()).collect();
     assert!(
         names.iter().any(|n| n.ends_with("-1-deck-T4.nc")),
@@ -358,7 +358,7 @@ fn pockets_are_cut_to_the_box_geometry_and_nowhere_else() {
         names.iter().any(|n| n.ends_with("-2-bottom-T4.nc")),
         "{names:?}"
     );
-    let v = jobs::verify_plan(&plan, &m, &j, &|_| {}).unwrap();
+    let v = cmd::verify_plan(&plan, &m, &j, &|_| {}).unwrap();
     assert!(!v.has_findings(), "{}", v.text());
     assert!(
         v.gouge_max_mm.unwrap() <= v.gouge_tolerance_mm,
@@ -406,7 +406,7 @@ fn pockets_are_cut_to_the_box_geometry_and_nowhere_else() {
     // shop, and the setup sheet says so.
     let mut small = m.clone();
     small.tools.retain(|t| t.id != 4);
-    let plan = jobs::plan_design(&Design::Board(Box::new(b)), &small, &j, &|_| {}).unwrap();
+    let plan = cmd::plan_design(&Design::Board(Box::new(b)), &small, &j, &|_| {}).unwrap();
     assert!(plan.pockets.is_empty());
     assert!(plan.sheet.contains("not routed"), "{}", plan.sheet);
 }

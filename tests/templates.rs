@@ -2,7 +2,7 @@
 //! the PDF (lopdf), tiles reassembled into the outline, the SVG outline
 //! against the board (roxmltree).
 
-use blanksmith::commands::{self as jobs, Design};
+use blanksmith::commands::{self as cmd, Design};
 use blanksmith::template::drawing::{self as template, Item, Role};
 use blanksmith::template::print::{self, CUT_WIDTH, PT_PER_MM};
 use blanksmith::template::tiling;
@@ -86,7 +86,7 @@ fn read_pdf(bytes: &[u8]) -> Vec<PageData> {
 
 fn templates_pdf(paper: print::Paper, only: &str) -> (Vec<u8>, Vec<template::Drawing>) {
     let dir = tempfile::tempdir().unwrap();
-    let t = jobs::templates(
+    let t = cmd::templates(
         &Design::Board(Box::new(board())),
         paper,
         &[only.to_string()],
@@ -427,7 +427,7 @@ fn labels_are_in_the_boards_units_and_sections_name_both_ends() {
     let short = board();
     let t = texts(&template::outline(&template::curves_of(&short)));
     assert!(t.iter().any(|s| s == "6\" from nose"), "{t:?}");
-    let design = jobs::load_design(&root.join("shortboard.yaml")).unwrap();
+    let design = cmd::load_design(&root.join("shortboard.yaml")).unwrap();
     let mesh = design.mesh(0.05).unwrap();
     let t = texts(&blanksmith::template::sections::sections(
         "s",
@@ -512,7 +512,7 @@ fn dxf_templates_hold_the_svgs_lines_and_labels() {
         let b = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
         let name = b.name.clone();
         let dir = tempfile::tempdir().unwrap();
-        jobs::templates(
+        cmd::templates(
             &Design::Board(Box::new(b)),
             print::paper("a4").unwrap(),
             &["outline".into(), "rocker".into(), "sections".into()],
@@ -655,7 +655,7 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
     let board = board();
     for paper in ["a4", "letter", "a3", "tabloid", "roll:914mm"] {
         let dir = tempfile::tempdir().unwrap();
-        jobs::templates(
+        cmd::templates(
             &Design::Board(Box::new(board.clone())),
             print::paper(paper).unwrap(),
             &[],
@@ -717,7 +717,7 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
         }
         // No blank tile: each window holds a point of its drawing's lines
         // or crosses one of its segments.
-        let t = jobs::templates(
+        let t = cmd::templates(
             &Design::Board(Box::new(board.clone())),
             print::paper(paper).unwrap(),
             &["outline".into(), "rocker".into(), "sections".into()],
@@ -769,7 +769,7 @@ fn templates_take_few_pages() {
         let path = format!("{}/fixtures/{fixture}.yaml", env!("CARGO_MANIFEST_DIR"));
         let b = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
         let dir = tempfile::tempdir().unwrap();
-        jobs::templates(
+        cmd::templates(
             &Design::Board(Box::new(b)),
             print::paper(paper).unwrap(),
             &[],

@@ -9,7 +9,7 @@ use super::cli::{
     BlanksFlags, CheckFlags, Cli, Command, CompareFlags, CutFlags, MakeFlags, MeshFlags,
     ReportFlags, ResizeFlags, SliceFlags, TemplatesFlags, VerifyFlags,
 };
-use super::{self as jobs, Input, JobError, Meshed, StlKind};
+use super::{self as cmd, Input, JobError, Meshed, StlKind};
 use crate::slice::contours;
 use crate::template::print::{self, Paper};
 use crate::units;
@@ -63,8 +63,8 @@ pub fn run(cli: Cli) -> Result<Outcome, JobError> {
         Command::Compare(f) => compare(f, &mut o)?,
         Command::Resize(f) => resize(f, &mut o)?,
         Command::Diff(f) => {
-            let d = jobs::diff(&f.a, &f.b, &f.out, &f.water.flags().water()?)?;
-            o.say(jobs::diff_text(&d));
+            let d = cmd::diff(&f.a, &f.b, &f.out, &f.water.flags().water()?)?;
+            o.say(cmd::diff_text(&d));
         }
         Command::Templates(f) => templates(f, &mut o)?,
         Command::Make(f) => make(f, &mut o)?,
@@ -97,21 +97,21 @@ fn meshed(m: &Meshed, print_table: bool, o: &mut Outcome) {
 }
 
 fn mesh(f: MeshFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let b = jobs::load(&Input::File(f.board.clone()))?;
+    let b = cmd::load(&Input::File(f.board.clone()))?;
     let kind = if f.ascii {
         StlKind::Ascii
     } else {
         StlKind::Binary
     };
-    let m = jobs::mesh_to(b, f.tolerance, &f.out, kind, false, &[f.board.as_path()])?;
+    let m = cmd::mesh_to(b, f.tolerance, &f.out, kind, false, &[f.board.as_path()])?;
     meshed(&m, false, o);
     Ok(())
 }
 
 fn report(f: ReportFlags, o: &mut Outcome) -> Result<(), JobError> {
     let w = f.water.flags().water()?;
-    let b = jobs::load(&Input::File(f.board.clone()))?;
-    let m = jobs::report(b, f.tolerance, &w, &f.board)?;
+    let b = cmd::load(&Input::File(f.board.clone()))?;
+    let m = cmd::report(b, f.tolerance, &w, &f.board)?;
     if f.json {
         o.say(m.report.to_json());
         o.findings(!m.report.certified);
@@ -122,7 +122,7 @@ fn report(f: ReportFlags, o: &mut Outcome) -> Result<(), JobError> {
 }
 
 fn check(f: CheckFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let inspection = jobs::check(&f.mesh, f.weld)?;
+    let inspection = cmd::check(&f.mesh, f.weld)?;
     if f.json {
         o.say(inspection.to_json());
     } else {
@@ -133,9 +133,9 @@ fn check(f: CheckFlags, o: &mut Outcome) -> Result<(), JobError> {
 }
 
 fn slice(f: SliceFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let unit = jobs::parse_unit(&f.units)?;
-    let d = jobs::load_design(&f.design)?;
-    let xs = jobs::parse_stations(f.stations.as_deref(), jobs::design_length(&d), unit)?;
+    let unit = cmd::parse_unit(&f.units)?;
+    let d = cmd::load_design(&f.design)?;
+    let xs = cmd::parse_stations(f.stations.as_deref(), cmd::design_length(&d), unit)?;
     let step = match f.z_step {
         None => None,
         Some(t) => Some(
@@ -144,7 +144,7 @@ fn slice(f: SliceFlags, o: &mut Outcome) -> Result<(), JobError> {
                 .to_mm(unit),
         ),
     };
-    let r = jobs::slice(&d, &xs, step, &f.out)?;
+    let r = cmd::slice(&d, &xs, step, &f.out)?;
     for (s, q) in r
         .sections
         .iter()
@@ -158,18 +158,18 @@ fn slice(f: SliceFlags, o: &mut Outcome) -> Result<(), JobError> {
 }
 
 fn compare(f: CompareFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let (c, written) = jobs::compare(&f.design, &f.cut, f.align, &f.out)?;
+    let (c, written) = cmd::compare(&f.design, &f.cut, f.align, &f.out)?;
     if f.json {
         o.line(serde_json::to_string_pretty(&c).expect("serialisable"));
     } else {
-        o.say(jobs::comparison_text(&c));
+        o.say(cmd::comparison_text(&c));
         o.wrote(&written);
     }
     Ok(())
 }
 
 fn resize(f: ResizeFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let args = jobs::ResizeArgs {
+    let args = cmd::ResizeArgs {
         length: f.length,
         width: f.width,
         thickness: f.thickness,
@@ -181,16 +181,16 @@ fn resize(f: ResizeFlags, o: &mut Outcome) -> Result<(), JobError> {
         litres_per_kg: f.litres_per_kg,
         name: f.name,
     };
-    let r = jobs::resize(&f.board, &args, f.out.as_deref())?;
-    o.say(jobs::resize_text(&r));
+    let r = cmd::resize(&f.board, &args, f.out.as_deref())?;
+    o.say(cmd::resize_text(&r));
     Ok(())
 }
 
 fn templates(f: TemplatesFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let unit = jobs::parse_unit(&f.units)?;
+    let unit = cmd::parse_unit(&f.units)?;
     let paper = print::paper(&f.paper).map_err(JobError::Flag)?;
-    let d = jobs::load_design(&f.design)?;
-    let xs = jobs::parse_stations(f.stations.as_deref(), jobs::design_length(&d), unit)?;
+    let d = cmd::load_design(&f.design)?;
+    let xs = cmd::parse_stations(f.stations.as_deref(), cmd::design_length(&d), unit)?;
     let only: Vec<String> = f
         .only
         .iter()
@@ -198,7 +198,7 @@ fn templates(f: TemplatesFlags, o: &mut Outcome) -> Result<(), JobError> {
         .map(|s| s.trim().to_string())
         .filter(|s| !s.is_empty())
         .collect();
-    let t = jobs::templates(&d, paper, &only, &xs, &f.out)?;
+    let t = cmd::templates(&d, paper, &only, &xs, &f.out)?;
     o.line(format!(
         "{} templates on {} pages of {}",
         t.drawings.len(),
@@ -211,7 +211,7 @@ fn templates(f: TemplatesFlags, o: &mut Outcome) -> Result<(), JobError> {
 }
 
 fn make(f: MakeFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let args = jobs::CutArgs {
+    let args = cmd::CutArgs {
         machine: f.machine,
         job: f.job,
         stock_list: f.stock_list,
@@ -228,7 +228,7 @@ fn make(f: MakeFlags, o: &mut Outcome) -> Result<(), JobError> {
         .map(Input::File)
         .unwrap_or(Input::Demo);
     let bar = spinner(f.quiet);
-    let m = jobs::make(&input, f.tolerance, paper, &f.out, cut, &|s| {
+    let m = cmd::make(&input, f.tolerance, paper, &f.out, cut, &|s| {
         bar.set_message(s.to_string())
     });
     bar.finish_and_clear();
@@ -236,24 +236,24 @@ fn make(f: MakeFlags, o: &mut Outcome) -> Result<(), JobError> {
     meshed(&m.meshed, false, o);
     profiles_used(cut, o);
     match &m.cutting {
-        jobs::Cutting::Failed(e) => {
+        cmd::Cutting::Failed(e) => {
             o.warn(format!(
                 "no router programs (the shape's files are written): {e}"
             ));
             o.findings(true);
         }
-        jobs::Cutting::Skipped => o.line("cutting skipped (--no-cut): no router programs"),
-        jobs::Cutting::Done(_) => {}
+        cmd::Cutting::Skipped => o.line("cutting skipped (--no-cut): no router programs"),
+        cmd::Cutting::Done(_) => {}
     }
     Ok(())
 }
 
 /// The machine and job a cut used, when it could read them.
-fn profiles_used(cut: Option<&jobs::CutArgs>, o: &mut Outcome) {
+fn profiles_used(cut: Option<&cmd::CutArgs>, o: &mut Outcome) {
     if let Some(a) = cut
-        && let Ok((machine, _)) = jobs::cut_profiles(a)
+        && let Ok((machine, _)) = cmd::cut_profiles(a)
     {
-        o.line(jobs::profiles_used(a, &machine));
+        o.line(cmd::profiles_used(a, &machine));
     }
 }
 
@@ -265,13 +265,13 @@ fn make_many(
     tolerance: f64,
     paper: Paper,
     out: &Path,
-    cut: Option<&jobs::CutArgs>,
+    cut: Option<&cmd::CutArgs>,
     quiet: bool,
     o: &mut Outcome,
 ) -> Result<(), JobError> {
     let bars = spinners(boards, quiet);
     let inputs: Vec<Input> = boards.iter().cloned().map(Input::File).collect();
-    let result = jobs::make_many(&inputs, tolerance, paper, out, cut, &|k, s| {
+    let result = cmd::make_many(&inputs, tolerance, paper, out, cut, &|k, s| {
         bars[k].set_message(s.to_string())
     });
     for b in &bars {
@@ -290,9 +290,9 @@ fn make_many(
         match r {
             Ok(m) => {
                 let (fits, [t1, t2]) = match &m.cutting {
-                    jobs::Cutting::Done(t) => ("yes", t.map(crate::gcode::program::duration)),
-                    jobs::Cutting::Skipped => ("—", [dash(), dash()]),
-                    jobs::Cutting::Failed(e) => {
+                    cmd::Cutting::Done(t) => ("yes", t.map(crate::gcode::program::duration)),
+                    cmd::Cutting::Skipped => ("—", [dash(), dash()]),
+                    cmd::Cutting::Failed(e) => {
                         o.warn(format!("{}: no router programs: {e}", path.display()));
                         (if e.is_misfit() { "no" } else { "—" }, [dash(), dash()])
                     }
@@ -336,7 +336,7 @@ fn make_many(
 
 fn verify(f: VerifyFlags, o: &mut Outcome) -> Result<(), JobError> {
     let bar = spinner(f.quiet);
-    let args = jobs::VerifyArgs {
+    let args = cmd::VerifyArgs {
         programs: f.programs,
         machine: f.machine,
         job: f.job,
@@ -347,8 +347,7 @@ fn verify(f: VerifyFlags, o: &mut Outcome) -> Result<(), JobError> {
         lenient: f.lenient,
         cell: f.cell,
     };
-    let result =
-        jobs::verify_programs(&args, f.out.as_deref(), &|s| bar.set_message(s.to_string()));
+    let result = cmd::verify_programs(&args, f.out.as_deref(), &|s| bar.set_message(s.to_string()));
     bar.finish_and_clear();
     let (v, written) = result?;
     if f.json {
@@ -362,12 +361,12 @@ fn verify(f: VerifyFlags, o: &mut Outcome) -> Result<(), JobError> {
 }
 
 fn blanks(f: BlanksFlags, o: &mut Outcome) -> Result<(), JobError> {
-    let args = jobs::CutArgs {
+    let args = cmd::CutArgs {
         machine: f.machine,
         job: f.job,
         stock_list: Some(f.stock_list),
     };
-    let (text, tried) = jobs::blanks(&f.design, &args)?;
+    let (text, tried) = cmd::blanks(&f.design, &args)?;
     if f.json {
         o.say(crate::toolpath::pick::to_json(&tried));
     } else {
@@ -379,12 +378,12 @@ fn blanks(f: BlanksFlags, o: &mut Outcome) -> Result<(), JobError> {
 
 fn cut(f: CutFlags, o: &mut Outcome) -> Result<(), JobError> {
     let bar = spinner(f.quiet);
-    let args = jobs::CutArgs {
+    let args = cmd::CutArgs {
         machine: Some(f.machine),
         job: f.job,
         stock_list: f.stock_list,
     };
-    let result = jobs::cut(&f.design, &args, &f.out, &|s| {
+    let result = cmd::cut(&f.design, &args, &f.out, &|s| {
         bar.set_message(s.to_string())
     });
     bar.finish_and_clear();
