@@ -194,7 +194,7 @@ fn both_setups_demo_rockered_blank() -> usize {
 #[divan::bench(sample_count = 2, sample_size = 1)]
 fn simulate_both_setups_demo_fine_cells(b: divan::Bencher) {
     let (plan, m, j) = demo_plan("{}");
-    let options = blanksmith::verify::simulate::VerifyOptions {
+    let options = blanksmith::verify::setting::VerifyOptions {
         cell: 0.25,
         ..Default::default()
     };

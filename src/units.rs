@@ -273,6 +273,16 @@ pub fn exact(mm: f64) -> String {
     format!("{r} mm ({inch})")
 }
 
+/// The tail (or nose) station as the trade says it: `12 in`, or the
+/// length in both units when a description moved it.
+pub fn tip_station_words(mm: f64) -> String {
+    if (mm - MM_PER_FOOT).abs() < 1e-9 {
+        "12 in".to_string()
+    } else {
+        Both(mm).to_string()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -427,7 +427,8 @@ fn the_blanks_command_ranks_the_shops_list_and_a_bad_list_writes_nothing() {
 /// 2 mm into the board).
 #[test]
 fn a_block_thicker_than_declared_still_gives_the_design_thickness() {
-    use blanksmith::verify::simulate::{self, ProgramSource, Setting, VerifyOptions};
+    use blanksmith::verify::setting::{ProgramSource, Setting, VerifyOptions};
+    use blanksmith::verify::simulate;
     let m = profile::generic_machine();
     let j = job::default_job(&m).unwrap();
     let design = commands::load_design(&fixture("check-box.yaml")).unwrap();

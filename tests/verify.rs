@@ -11,7 +11,8 @@ use blanksmith::model::mesh::Mesh;
 use blanksmith::profiles::machine as profile;
 use blanksmith::toolpath::setup::Side;
 use blanksmith::verify::report::Verification;
-use blanksmith::verify::simulate::{self as verify, ProgramSource, Setting, VerifyOptions};
+use blanksmith::verify::setting::{ProgramSource, Setting, VerifyOptions};
+use blanksmith::verify::simulate as verify;
 
 fn run(
     programs: &[&str],

@@ -14,7 +14,8 @@ use crate::toolpath::pick;
 use crate::toolpath::setup::CamError;
 use crate::verify::picture;
 use crate::verify::report::Verification;
-use crate::verify::simulate::{self as simulate, ProgramSource, Setting, VerifyOptions};
+use crate::verify::setting::{ProgramSource, Setting, VerifyOptions};
+use crate::verify::simulate;
 use std::path::{Path, PathBuf};
 
 /// A board's cutting outputs (programs for any tool, setup sheet,

@@ -194,7 +194,7 @@ fn pull_text(d: &super::Diff) -> String {
     };
     row(&mut s, "tangent at the tail tip", &a.at_tip, &b.at_tip);
     let over = if (d.tip_stations[0] - d.tip_stations[1]).abs() < 1e-9 {
-        crate::volume::report::tip_station_words(d.tip_stations[0])
+        crate::units::tip_station_words(d.tip_stations[0])
     } else {
         "tail station".into()
     };

@@ -8,7 +8,8 @@ use crate::profiles::job;
 use crate::profiles::machine as profile;
 use crate::toolpath::setup::Side;
 use crate::verify::report::Verification;
-use crate::verify::simulate::{self as simulate, ProgramSource, Setting, VerifyOptions};
+use crate::verify::setting::{ProgramSource, Setting, VerifyOptions};
+use crate::verify::simulate;
 use std::path::{Path, PathBuf};
 
 /// What `verify` runs on.

@@ -149,7 +149,7 @@ fn tail_pull(t: &crate::volume::tail_pull::TailPull, tip_station: f64) -> String
     );
     let over = format!(
         "the rocker's chord over the last {}",
-        crate::volume::report::tip_station_words(tip_station)
+        crate::units::tip_station_words(tip_station)
     );
     for (what, p) in [
         ("the bottom's tangent at the tail tip", &t.at_tip),

@@ -4,7 +4,7 @@
 //! touch, and each pocket's depth and area.
 
 use super::report::{DeviationMap, PocketReport, REACH_CHECKED_MM, Verification};
-use super::simulate::{Setting, VerifyOptions};
+use super::setting::{Setting, VerifyOptions};
 use crate::geom::dropcutter::DropCutter;
 use crate::geom::zmap::ZMap;
 use crate::model::machine::Cutter;

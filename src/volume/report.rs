@@ -237,7 +237,7 @@ impl Report {
     /// The key figures, for the terminal.
     pub fn summary(&self) -> String {
         let mut s = String::new();
-        let d = tip_station_words(self.tip_station_mm);
+        let d = units::tip_station_words(self.tip_station_mm);
         let _ = writeln!(s, "{}", self.name);
         let _ = writeln!(s, "  length       {} (flat)", Both(self.length_mm));
         let _ = writeln!(
@@ -388,16 +388,6 @@ impl Report {
             .collect();
         let _ = writeln!(s, "  {} L", line.join(" | "));
         s
-    }
-}
-
-/// The tail (or nose) station as the trade says it: `12 in`, or the
-/// length in both units when a description moved it.
-pub fn tip_station_words(mm: f64) -> String {
-    if (mm - MM_PER_FOOT).abs() < 1e-9 {
-        "12 in".to_string()
-    } else {
-        Both(mm).to_string()
     }
 }
 

@@ -204,7 +204,7 @@ pub fn estimate(board: &Board, water: &Water) -> Result<TailPull, WaterError> {
                 format!(
                     "{:.0}% of the width {} from the tail, {tail_width:.0} mm",
                     s * 100.0,
-                    crate::volume::report::tip_station_words(board.tip_station)
+                    crate::units::tip_station_words(board.tip_station)
                 ),
             )
         }
