@@ -29,7 +29,9 @@
 //! 11. [`gcode`]: G-code read and written; the programs of a cut.
 //! 12. [`verify`]: simulation of programs, deviation pictures.
 //! 13. [`page`]: the report pages.
-//! 14. [`commands`]: the commands' work, one file a command, without the command line.
+//! 14. [`commands`]: the commands' work, one file a command (reachable
+//!     without the command line), the flags as read (`cli`) and a command
+//!     run and rendered once (`run`).
 
 pub mod units;
 pub mod input;

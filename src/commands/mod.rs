@@ -2,6 +2,8 @@
 //! line: read a board, certify its mesh, and write the files of a job.
 //! Nothing is written until everything a command writes has been computed,
 //! and then a command's files are put in place as one set (`output`).
+//! `cli` is the command line as `clap` reads it; `run` calls the work with
+//! the flags and renders what it returns, once.
 
 pub mod cli;
 pub mod run;
