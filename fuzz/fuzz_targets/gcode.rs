@@ -6,7 +6,8 @@ use blanksmith::model::job::Block;
 use blanksmith::profiles::machine as profile;
 use blanksmith::model::machine::Cutter;
 use blanksmith::toolpath::setup::Side;
-use blanksmith::verify::simulate::{self as verify, ProgramSource, Setting, VerifyOptions};
+use blanksmith::verify::setting::{ProgramSource, Setting, VerifyOptions};
+use blanksmith::verify::simulate as verify;
 use libfuzzer_sys::fuzz_target;
 
 fuzz_target!(|data: &[u8]| {
