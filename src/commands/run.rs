@@ -22,7 +22,8 @@ pub struct Outcome {
     pub stdout: String,
     /// Standard error, one message a line.
     pub stderr: String,
-    /// The exit code: 0 done, 1 findings.
+    /// The exit code: 0 done, 1 findings, 2 when a board of a batch failed
+    /// (the other boards' files are written).
     pub code: u8,
 }
 
