@@ -491,6 +491,13 @@ pub fn board_from_str(text: &str, file: &str) -> Result<Board, DescriptionError>
 
 /// Reads and resolves a description file.
 pub fn load(path: &Path) -> Result<Board, DescriptionError> {
+    let (text, file) = read_text(path)?;
+    board_from_str(&text, &file)
+}
+
+/// An input file's text (a description, a profile, a stock list) and its
+/// name for messages, read with a size bound.
+pub fn read_text(path: &Path) -> Result<(String, String), DescriptionError> {
     let file = path.display().to_string();
     let text = crate::input::read_text(path, crate::input::TEXT_LIMIT).map_err(|message| {
         DescriptionError::Io {
@@ -498,5 +505,5 @@ pub fn load(path: &Path) -> Result<Board, DescriptionError> {
             message,
         }
     })?;
-    board_from_str(&text, &file)
+    Ok((text, file))
 }

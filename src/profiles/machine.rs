@@ -8,8 +8,9 @@ use std::path::Path;
 use serde::Deserialize;
 use serde_saphyr::Spanned;
 
-use super::values::{FeedValue, feed, mm_text, read_text};
+use super::values::{FeedValue, feed, mm_text};
 use crate::description::located::Reader;
+use crate::description::read_text;
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::model::machine::{Controller, Cutter, Machine, Tool, ToolKind};

@@ -416,6 +416,6 @@ pub fn stock_list_from_str(text: &str, file: &str) -> Result<Vec<StockEntry>, De
 
 /// Reads a stock list file (bounded, as every input).
 pub fn load_stock_list(path: &std::path::Path) -> Result<Vec<StockEntry>, DescriptionError> {
-    let (text, file) = crate::profiles::values::read_text(path)?;
+    let (text, file) = crate::description::read_text(path)?;
     stock_list_from_str(&text, &file)
 }

@@ -5,7 +5,6 @@
 //! at its line and column.
 
 use std::fmt;
-use std::path::Path;
 
 use serde::Deserialize;
 use serde::de::{self, Deserializer, Visitor};
@@ -169,18 +168,6 @@ pub fn feed(
 /// `12.70 mm (1/2")`.
 pub fn mm_text(mm: f64) -> String {
     units::exact(mm)
-}
-
-/// A profile file's text and its name for messages, read with a size bound.
-pub(crate) fn read_text(path: &Path) -> Result<(String, String), DescriptionError> {
-    let file = path.display().to_string();
-    let text = crate::input::read_text(path, crate::input::TEXT_LIMIT).map_err(|message| {
-        DescriptionError::Io {
-            file: file.clone(),
-            message,
-        }
-    })?;
-    Ok((text, file))
 }
 
 #[cfg(test)]

@@ -8,12 +8,13 @@ use serde::Deserialize;
 use serde_saphyr::{Location, Spanned};
 
 use crate::description::located::Reader;
+use crate::description::read_text;
 use crate::description::values::LengthValue;
 use crate::description::{self, DescriptionError};
 use crate::model::job::{Finish, Holding, Job, Pass, Pitch, RailPass};
 use crate::model::machine::{Machine, ToolKind};
 use crate::profiles::stock::{self, BlockSpec};
-use crate::profiles::values::{FeedValue, StepoverValue, mm_text, read_text};
+use crate::profiles::values::{FeedValue, StepoverValue, mm_text};
 use crate::units::Unit;
 
 mod passes;
