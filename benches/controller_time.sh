@@ -17,10 +17,22 @@
 #   finishing    101.8 s   108.2 s  0.940   (the 2 in ball, curved passes)
 #   rails        139.3 s   150.6 s  0.925   (the 1/2 in ball's Z levels)
 # The curving passes (finishing, rails) run 6 to 7.5 % slower in the
-# controller than estimated: outside the 5 % aim. A likely cause, from
-# memory of LinuxCNC's planner and not checked here: it holds a blend
-# arc's normal acceleration to about √3/2 of the axis limit, where the
-# estimate uses the whole limit (v² = a·R).
+# controller than estimated: outside the 5 % aim.
+# Looked into the same day (the simulation's HAL, as DEVELOPERS.md shows):
+# - Counted in servo cycles (motion not in position, 1 ms each) the four
+#   excerpts moved for 102.1, 37.6, 98.0 and 140.2 s; with their dwells
+#   (5, 5, 10, 10 s, during which motion is in position) that is within
+#   0.6 s of the wall clock, so the wall times above are the controller's.
+# - Not the blend arcs: a chain of 2 mm chords turning 5° each in XY
+#   (radius 22.9 mm) ran at 199 mm/s, √(0.866 × 2000 × 22.9) = 199: a
+#   blend arc at √3/2 of the plane's acceleration, faster than the
+#   estimate's corner rule there (√(0.5 × 1000 × 22.9) = 107 mm/s).
+# - A move the queue ends with runs at half the acceleration: 1000 mm at
+#   250 mm/s took 4.250 s, not 4.125 s; the first of a reversal, 4.125 s.
+#   A few moves a program: not the 6 s.
+# - Where the finishing excerpt loses its 6 s is not found: recording
+#   speed and program line every cycle (HAL sampler) lost samples to
+#   overruns, and each blend arc is counted to a neighbouring line.
 # Before (the first run that day, two-ball finish and joined roughing
 # rings): roughing 1.026, outline 1.042, finishing 0.936, rails 1.035.
 # Earlier (2026-12-02, the old programs): roughing 1.000, outline 0.932,

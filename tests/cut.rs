@@ -953,3 +953,28 @@ fn shipped_jobs_are_the_defaults_and_the_fine_preset() {
         6.35
     );
 }
+
+/// The shipped job that spells out the defaults cuts the demo as the
+/// defaults do: the block it names is the one the defaults size for the
+/// demo, so the programs differ only by the table position's offset
+/// (the same run time and path length, program by program). It once named
+/// a thicker block, on which the 1/4 in end mill could not reach the fin
+/// boxes, and the README's first job gave no programs.
+#[test]
+fn the_spelled_out_job_cuts_the_demo_as_the_defaults_do() {
+    let m = profile::generic_machine();
+    let spelled = job::load_job(&fixture("job-shortboard.yaml"), &m).unwrap();
+    let c = case_with("shortboard.yaml", m, spelled);
+    let d = shortboard();
+    let (a, b) = (&c.plan.placement.block, &d.plan.placement.block);
+    assert_eq!(
+        [a.length, a.width, a.thickness],
+        [b.length, b.width, b.thickness]
+    );
+    assert_eq!(c.plan.programs.len(), d.plan.programs.len());
+    for (p, q) in c.plan.programs.iter().zip(&d.plan.programs) {
+        assert_eq!(p.file_name, q.file_name);
+        assert!((p.time_s - q.time_s).abs() < 1e-6, "{}", p.file_name);
+        assert!((p.path_mm - q.path_mm).abs() < 1e-6, "{}", p.file_name);
+    }
+}
