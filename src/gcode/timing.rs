@@ -5,9 +5,11 @@
 //! its own speed: the feed, or for a rapid the fastest the axes allow
 //! together. Where two moves meet the machine keeps its speed as far as
 //! the corner allows: a blend arc tangent to both moves within half of the
-//! shorter one, taken at the acceleration the axes allow (v² = a·R), as a
-//! controller that blends corners for the best speed does; a move that
-//! blends shares the acceleration with its neighbour (half each). A forward and a
+//! shorter one, taken at half the least axis's acceleration (v² = a·R/2),
+//! as a controller that blends corners for the best speed does (more
+//! cautious than LinuxCNC's arcs at √3/2 of the acceleration in the
+//! corner's plane; `benches/controller_time.sh` keeps the comparison); a
+//! move that blends shares the acceleration with its neighbour (half each). A forward and a
 //! backward pass over the whole program make every move's entry and exit
 //! speeds reachable from its neighbours (the usual look-ahead of motion
 //! planners: e.g. Sonja Macfarlane and Elizabeth Croft, IEEE Trans. Robot.
