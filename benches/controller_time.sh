@@ -11,11 +11,14 @@
 # the estimate starts it (1,500 lines an excerpt, the shipped router's
 # 2000/2000/1000 mm/s²; one run each, the machine otherwise idle; the
 # simulation's time includes about 0.6 s of the runner's polling):
-#   excerpt     estimate  LinuxCNC  ratio
-#   roughing     105.7 s   103.8 s  1.018
-#   outline       44.8 s    40.2 s  1.113   (estimate too long)
-#   finishing    101.8 s   102.3 s  0.995   (the 2 in ball, curved passes)
-#   rails        139.3 s   144.8 s  0.962   (the 1/2 in ball's Z levels)
+#   excerpt     estimate  LinuxCNC  ratio  (corner at half the least axis's)
+#   roughing     102.9 s   103.8 s  0.991  (105.7 s, 1.018)
+#   outline       38.7 s    40.2 s  0.963  ( 44.8 s, 1.113)
+#   finishing    101.3 s   102.3 s  0.990  (101.8 s, 0.995; the 2 in ball)
+#   rails        138.8 s   144.8 s  0.959  (139.3 s, 0.962; the 1/2 in ball)
+# The estimate takes a corner at half the acceleration of the plane it
+# turns in (gcode/timing.rs); the figures in brackets are its earlier rule,
+# half the least axis's, which held an XY turn to Z's limit.
 # The runs before did not move the machine to program zero first: each
 # excerpt started where the last had ended, so its first rapid was not
 # the one estimated (the second run read finishing 0.940, rails 0.925,
@@ -27,13 +30,13 @@
 # - Blend arcs: a chain of 2 mm chords turning 5° each in XY (radius
 #   22.9 mm) ran at 199 mm/s, √(0.866 × 2000 × 22.9) = 199: LinuxCNC
 #   blends at √3/2 of the acceleration in the corner's plane, where the
-#   estimate takes half the least axis's (there 107 mm/s). The outline
-#   (XY loops at 8 m/min) loses most of its estimated time there. Tried
+#   earlier rule took half the least axis's (there 107 mm/s): the outline
+#   (XY loops at 8 m/min) lost most of its estimated time there. Tried
 #   offline on these four excerpts (against the simulation's times less
-#   the 0.6 s): the controller's rule gives roughing 0.979,
+#   the 0.6 s): the controller's whole √3/2 gives roughing 0.979,
 #   outline 0.920, finishing 0.985, rails 0.950, and with whole
-#   accelerations on blended moves 0.947, 0.909, 0.971, 0.931; neither
-#   holds all four within 5 %, so the estimate keeps its rule.
+#   accelerations on blended moves 0.947, 0.909, 0.971, 0.931; half the
+#   plane's acceleration (kept) 0.997, 0.977, 0.996, 0.963.
 # - A move the queue ends with runs at half the acceleration: 1000 mm at
 #   250 mm/s took 4.250 s, not 4.125 s; the first of a reversal, 4.125 s.
 # Before (the first run that day, two-ball finish and joined roughing

@@ -5,10 +5,10 @@
 //! its own speed: the feed, or for a rapid the fastest the axes allow
 //! together. Where two moves meet the machine keeps its speed as far as
 //! the corner allows: a blend arc tangent to both moves within half of the
-//! shorter one, taken at half the least axis's acceleration (v² = a·R/2),
-//! as a controller that blends corners for the best speed does (more
-//! cautious than LinuxCNC's arcs at √3/2 of the acceleration in the
-//! corner's plane; `benches/controller_time.sh` keeps the comparison); a
+//! shorter one, taken at half the acceleration the axes allow in the
+//! plane of the turn (v² = a·R/2), as a controller that blends corners for
+//! the best speed does (more cautious than LinuxCNC's arcs, at √3/2 of it;
+//! `benches/controller_time.sh` keeps the comparison); a
 //! move that blends shares the acceleration with its neighbour (half each). A forward and a
 //! backward pass over the whole program make every move's entry and exit
 //! speeds reachable from its neighbours (the usual look-ahead of motion
@@ -62,9 +62,37 @@ impl Limits {
             .fold(f64::INFINITY, f64::min)
     }
 
-    /// The least acceleration of any axis: a corner turns in any direction.
+    /// The least acceleration of any axis: a helix turns in any direction.
     fn least_accel(&self) -> f64 {
         self.accel.iter().copied().fold(f64::INFINITY, f64::min)
+    }
+
+    /// The acceleration a corner from `a` to `b` (unit directions) may use
+    /// in any direction of the plane it turns in: each axis's limit over
+    /// its share of that plane, √(1 − n²) for the plane's normal n (an
+    /// axis square to the plane does not move in the turn), the least of
+    /// them; LinuxCNC bounds its blend arcs the same way. A reversal, with
+    /// no one plane, gets the least axis's.
+    fn in_plane(&self, a: [f64; 3], b: [f64; 3]) -> f64 {
+        let n = [
+            a[1] * b[2] - a[2] * b[1],
+            a[2] * b[0] - a[0] * b[2],
+            a[0] * b[1] - a[1] * b[0],
+        ];
+        let len = dot(n, n).sqrt();
+        if len < 1e-9 {
+            return self.least_accel();
+        }
+        (0..3)
+            .map(|k| {
+                let share = (1.0 - (n[k] / len).powi(2)).max(0.0).sqrt();
+                if share < 1e-9 {
+                    f64::INFINITY
+                } else {
+                    self.accel[k] / share
+                }
+            })
+            .fold(f64::INFINITY, f64::min)
     }
 }
 
@@ -118,7 +146,7 @@ pub fn run_time(moves: &[Move], limits: &Limits) -> f64 {
         } else {
             let half = 0.5 * p.length.min(q.length);
             let radius = half / (0.5 * turn).tan();
-            v.min((0.5 * limits.least_accel() * radius).sqrt())
+            v.min((0.5 * limits.in_plane(p.dir, q.dir) * radius).sqrt())
         };
         if turn < 0.5 * std::f64::consts::PI {
             blends[i - 1] = true;
@@ -202,6 +230,32 @@ mod tests {
         let stop = 2.0 * run_time(&[straight(100.0, 250.0)], &LIMITS);
         let flowing = run_time(&[straight(200.0, 250.0)], &LIMITS);
         assert!(t > flowing && t < stop, "{flowing} < {t} < {stop}");
+    }
+
+    #[test]
+    fn a_corner_takes_the_acceleration_of_its_plane() {
+        // A turn in XY uses X's and Y's 2000 mm/s², not Z's 1000: Z does
+        // not move in it. In XZ, Z's limit holds. A 45° diagonal plane
+        // through Z: X over √(1 − ½) ≈ 2828 and Z's 1000 (Z is in it).
+        let (x, y, z) = ([1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]);
+        assert_eq!(LIMITS.in_plane(x, y), 2000.0);
+        assert_eq!(LIMITS.in_plane(x, z), 1000.0);
+        assert_eq!(LIMITS.in_plane(x, [-1.0, 0.0, 0.0]), 1000.0);
+        let r = std::f64::consts::FRAC_1_SQRT_2;
+        assert!((LIMITS.in_plane([r, r, 0.0], z) - 1000.0).abs() < 1e-9);
+        // v² = ½·a·R: a right angle between 100 mm moves (R = 50 mm) is
+        // taken at √(½ · 2000 · 50) = 223.6 mm/s in XY.
+        let a = straight(100.0, 250.0);
+        let b = Move {
+            dir: y,
+            ..straight(100.0, 250.0)
+        };
+        let both = run_time(&[a, b], &LIMITS);
+        let v: f64 = (0.5 * 2000.0 * 50.0_f64).sqrt();
+        // A right angle is no blend (under 90° only): each move at the
+        // whole 2000 mm/s², rest → 250 → v.
+        let each = trapezoid(100.0, 0.0, v, 250.0, 2000.0);
+        assert!((both - 2.0 * each).abs() < 1e-9, "{both} vs {}", 2.0 * each);
     }
 
     #[test]
