@@ -71,8 +71,9 @@ impl Limits {
     /// in any direction of the plane it turns in: each axis's limit over
     /// its share of that plane, √(1 − n²) for the plane's normal n (an
     /// axis square to the plane does not move in the turn), the least of
-    /// them; LinuxCNC bounds its blend arcs the same way. A reversal, with
-    /// no one plane, gets the least axis's.
+    /// them; LinuxCNC bounds its blend arcs the same way (its trajectory
+    /// planner's `calculateInscribedDiameter`, `src/emc/tp/blendmath.c`).
+    /// A reversal, with no one plane, gets the least axis's.
     fn in_plane(&self, a: [f64; 3], b: [f64; 3]) -> f64 {
         let n = [
             a[1] * b[2] - a[2] * b[1],
@@ -237,6 +238,8 @@ mod tests {
         // A turn in XY uses X's and Y's 2000 mm/s², not Z's 1000: Z does
         // not move in it. In XZ, Z's limit holds. A 45° diagonal plane
         // through Z: X over √(1 − ½) ≈ 2828 and Z's 1000 (Z is in it).
+        // The rule is LinuxCNC's for its blend arcs (tp/blendmath.c); the
+        // figures follow from it by hand.
         let (x, y, z) = ([1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]);
         assert_eq!(LIMITS.in_plane(x, y), 2000.0);
         assert_eq!(LIMITS.in_plane(x, z), 1000.0);
