@@ -978,3 +978,24 @@ fn the_spelled_out_job_cuts_the_demo_as_the_defaults_do() {
         assert!((p.path_mm - q.path_mm).abs() < 1e-6, "{}", p.file_name);
     }
 }
+
+/// The setup sheet gives each program's time and their sum, so a shop can
+/// book the machine: the sum is the programs' own times added (rounded to
+/// the second once, at the end).
+#[test]
+fn the_setup_sheet_adds_up_the_programs_times() {
+    let c = shortboard();
+    for p in &c.plan.programs {
+        let line = format!("{}: ", p.file_name);
+        let row = c
+            .plan
+            .sheet
+            .lines()
+            .find(|l| l.trim_start().starts_with(&line));
+        let row = row.unwrap_or_else(|| panic!("{} not listed", p.file_name));
+        assert!(row.ends_with(&program::duration(p.time_s)), "{row}");
+    }
+    let total: f64 = c.plan.programs.iter().map(|p| p.time_s).sum();
+    let want = format!("  in all: {} of cutting", program::duration(total));
+    assert!(c.plan.sheet.contains(&want), "{want}\n{}", c.plan.sheet);
+}

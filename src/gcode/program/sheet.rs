@@ -109,6 +109,10 @@ pub fn setup_sheet(
             duration(p.time_s)
         ));
     }
+    s.push_str(&format!(
+        "  in all: {} of cutting, by the estimate with the machine's accelerations; tool changes, the flip and setting zero come on top\n",
+        duration(programs.iter().map(|p| p.time_s).sum())
+    ));
     s
 }
 
