@@ -19,7 +19,7 @@
 //! speed v and acceleration a: L/v + v/a when L ≥ v²/a, else 2√(L/a).
 
 use crate::model::machine::Machine;
-use crate::model::mesh::dot;
+use crate::model::mesh::{cross, dot, norm};
 
 /// One straight (or helical) move for the planner.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -75,12 +75,8 @@ impl Limits {
     /// planner's `calculateInscribedDiameter`, `src/emc/tp/blendmath.c`).
     /// A reversal, with no one plane, gets the least axis's.
     fn in_plane(&self, a: [f64; 3], b: [f64; 3]) -> f64 {
-        let n = [
-            a[1] * b[2] - a[2] * b[1],
-            a[2] * b[0] - a[0] * b[2],
-            a[0] * b[1] - a[1] * b[0],
-        ];
-        let len = dot(n, n).sqrt();
+        let n = cross(a, b);
+        let len = norm(n);
         if len < 1e-9 {
             return self.least_accel();
         }
