@@ -318,7 +318,10 @@ pub(crate) fn board_page(
     };
     let mut templates = vec![];
     if let Some(t) = text(".sections.svg") {
-        templates.push(("Sections (full size, shrunk to the page)", t));
+        templates.push((
+            "Half sections (the full-size templates, shrunk to the page)",
+            t,
+        ));
     }
     use crate::page::views;
     let views = vec![

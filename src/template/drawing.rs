@@ -265,16 +265,13 @@ pub fn outline(side: &Curves) -> Drawing {
             closed: false,
             role: Role::Guide,
         });
-        items.push(Item::Text {
-            at: [b + x + 1.0, b + w + 6.0],
-            size: 3.0,
-            text: format!("{} from nose", side.distance(x)),
-        });
-        items.push(Item::Text {
-            at: [b + x + 1.0, b + 3.0],
-            size: 3.0,
-            text: format!("half {}", label(w)),
-        });
+        items.push(beside(
+            b + x,
+            b + l,
+            b + w + 6.0,
+            format!("{} from nose", side.distance(x)),
+        ));
+        items.push(beside(b + x, b + l, b + 3.0, format!("half {}", label(w))));
         x += step;
     }
     let xw = side.wide_point();
@@ -403,14 +400,33 @@ pub fn fitting_marks(board: &Board) -> Vec<Item> {
     items
 }
 
-/// The bottom and deck at the stringer over a straight baseline (the flat
-/// the board rests on), with heights at stations, nose and tail rocker and
-/// the tail exit angle.
+/// A station's label (3 mm text) at height `y`, just right of its tick at
+/// `x`, or just left of it where it would run past the drawing's `end`:
+/// a label by the tail needs no paper of its own.
+fn beside(x: f64, end: f64, y: f64, text: String) -> Item {
+    let width = crate::template::print::text_width(&text, 3.0);
+    let at = if x + 1.0 + width > end {
+        x - 1.0 - width
+    } else {
+        x + 1.0
+    };
+    Item::Text {
+        at: [at, y],
+        size: 3.0,
+        text,
+    }
+}
+
+/// The bottom at the stringer over a straight baseline (the flat the board
+/// rests on): a strip to cut out, with the rocker and the thickness at
+/// stations, nose and tail rocker and the tail exit angle. The deck is not
+/// drawn: it would double the strip's height on paper for what the
+/// thickness at each station already says.
 pub fn rocker(side: &Curves) -> Drawing {
     let b = BORDER;
     let l = side.length();
     let zmin = side.bottom.iter().fold(0.0f64, |m, &v| m.min(v));
-    let top = side.deck.iter().fold(0.0f64, |m, &v| m.max(v));
+    let top = side.bottom.iter().fold(0.0f64, |m, &v| m.max(v));
     // The template is a strip: the rocker curve on top, a straight back
     // BACK below the baseline, square ends; cut round, it lies on the
     // board's bottom along the stringer.
@@ -424,21 +440,10 @@ pub fn rocker(side: &Curves) -> Drawing {
         .collect();
     bottom.push([b + l, base - BACK]);
     bottom.push([b, base - BACK]);
-    let deck: Vec<[f64; 2]> = side
-        .x
-        .iter()
-        .zip(&side.deck)
-        .map(|(&x, &z)| [b + x, base + z])
-        .collect();
     items.push(Item::Line {
         points: bottom,
         closed: true,
         role: Role::Cut,
-    });
-    items.push(Item::Line {
-        points: deck,
-        closed: false,
-        role: Role::Guide,
     });
     items.push(Item::Line {
         points: vec![[b - 10.0, base], [b + l + 10.0, base]],
@@ -458,25 +463,27 @@ pub fn rocker(side: &Curves) -> Drawing {
             label(BACK)
         ),
     });
+    // Each station's tick from the baseline up to the bottom, its words
+    // inside the strip below the baseline, where every piece has room.
     let step = side.step;
     let mut x = step;
     while x < l - 1.0 {
-        let z = side.at(x)[1];
+        let [_, z, deck] = side.at(x);
         items.push(Item::Line {
             points: vec![[b + x, base], [b + x, base + z]],
             closed: false,
             role: Role::Guide,
         });
-        items.push(Item::Text {
-            at: [b + x + 1.0, base + z + 7.0],
-            size: 3.0,
-            text: format!("{} from nose", side.distance(x)),
-        });
-        items.push(Item::Text {
-            at: [b + x + 1.0, base + z + 3.0],
-            size: 3.0,
-            text: format!("rocker {}", label(z)),
-        });
+        for (k, text) in [
+            format!("{} from nose", side.distance(x)),
+            format!("rocker {}", label(z)),
+            format!("thick {}", label(deck - z)),
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            items.push(beside(b + x, b + l, base - 5.5 - 4.5 * k as f64, text));
+        }
         x += step;
     }
     let n = side.x.len();
@@ -488,13 +495,13 @@ pub fn rocker(side: &Curves) -> Drawing {
     } else {
         0.0
     };
-    // Inside the strip, between the baseline and the back: above the
-    // curve it would need paper of its own at the nose.
+    // Inside the strip, above the words of the back: above the curve it
+    // would need paper of its own at the nose.
     items.push(Item::Text {
-        at: [b + 5.0, base - 16.0],
+        at: [b + 5.0, base - BACK + 9.0],
         size: 3.0,
         text: format!(
-            "nose rocker {}, tail rocker {}, tail exit angle {:.1} deg; solid line: bottom (cut edge), thin: deck",
+            "nose rocker {}, tail rocker {}, tail exit angle {:.1} deg; solid line: the bottom at the stringer (cut edge)",
             label(side.bottom[0]),
             label(side.bottom[side.bottom.len() - 1]),
             exit

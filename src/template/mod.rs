@@ -5,6 +5,7 @@ pub mod drawing;
 pub mod sections;
 pub mod sheet;
 pub mod print;
+mod layout;
 pub mod tiling;
 pub mod order;
 pub mod dxf;

@@ -116,7 +116,7 @@ pub fn order_page(
         width: w,
         height: h,
         marks: sh.marks,
-        tile: None,
+        tiles: vec![],
     }
 }
 

@@ -153,7 +153,7 @@ pub struct Tile {
     pub marks: Vec<Mark>,
 }
 
-/// A page: its size, marks in page mm, and maybe a tile.
+/// A page: its size, marks in page mm, and the tiles it shows.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Page {
     /// Width, mm.
@@ -162,8 +162,8 @@ pub struct Page {
     pub height: f64,
     /// Marks in page coordinates.
     pub marks: Vec<Mark>,
-    /// The tile shown, if any.
-    pub tile: Option<Tile>,
+    /// The tiles shown (none on a sheet or a map), top to bottom.
+    pub tiles: Vec<Tile>,
 }
 
 /// Space at the head of each page for its title, mm.
@@ -292,7 +292,7 @@ pub fn sheet_page(lines: &[String], paper: Paper) -> Page {
         width: w,
         height: h,
         marks,
-        tile: None,
+        tiles: vec![],
     }
 }
 
@@ -352,8 +352,8 @@ pub fn draw(content: &mut Content, marks: &[Mark], font: Name, mono: Name) {
     }
 }
 
-/// The pages as a PDF. Inside a tile the content is drawn in drawing
-/// coordinates under one translation (`cm`), clipped to the window.
+/// The pages as a PDF. Inside each tile the content is drawn in drawing
+/// coordinates under one translation (`cm`), clipped to its window.
 pub fn to_pdf(pages: &[Page]) -> Vec<u8> {
     let mut pdf = Pdf::new();
     let catalog = Ref::new(1);
@@ -389,7 +389,7 @@ pub fn to_pdf(pages: &[Page]) -> Vec<u8> {
         w.finish();
         let mut c = Content::new();
         draw(&mut c, &page.marks, font_name, mono_name);
-        if let Some(t) = &page.tile {
+        for t in &page.tiles {
             let p = |v: f64| (v * PT_PER_MM) as f32;
             c.save_state();
             c.rect(p(t.at[0]), p(t.at[1]), p(t.window[0]), p(t.window[1]));

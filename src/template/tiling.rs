@@ -4,6 +4,7 @@
 //! and the page furniture in `print`).
 
 use crate::template::drawing::{Drawing, Item, Role};
+use crate::template::layout::{CAPTION, Layout, layout, pieces};
 use crate::template::print::*;
 
 fn drawing_marks(d: &Drawing) -> Vec<Mark> {
@@ -34,117 +35,6 @@ fn drawing_marks(d: &Drawing) -> Vec<Mark> {
         .collect()
 }
 
-/// What a drawing holds, for finding where it needs paper: each segment
-/// of a line, and each label's box.
-enum Piece {
-    Segment([f64; 2], [f64; 2]),
-    Label([f64; 4]),
-}
-
-impl Piece {
-    /// The heights it reaches between `x0` and `x1`, if it reaches there.
-    fn span(&self, x0: f64, x1: f64) -> Option<(f64, f64)> {
-        match *self {
-            Piece::Segment(a, b) => {
-                let (lo, hi) = (a[0].min(b[0]), a[0].max(b[0]));
-                if hi < x0 || lo > x1 {
-                    return None;
-                }
-                let y = |x: f64| {
-                    if (b[0] - a[0]).abs() < 1e-12 {
-                        a[1]
-                    } else {
-                        a[1] + (b[1] - a[1]) * (x - a[0]) / (b[0] - a[0])
-                    }
-                };
-                let (ya, yb) = if (b[0] - a[0]).abs() < 1e-12 {
-                    (a[1], b[1])
-                } else {
-                    (y(lo.max(x0)), y(hi.min(x1)))
-                };
-                Some((ya.min(yb), ya.max(yb)))
-            }
-            Piece::Label(r) => (r[2] >= x0 && r[0] <= x1).then_some((r[1], r[3])),
-        }
-    }
-}
-
-fn pieces(drawing: &Drawing) -> Vec<Piece> {
-    let mut out = vec![];
-    for item in &drawing.items {
-        match item {
-            Item::Line { points, closed, .. } => {
-                let n = points.len();
-                let segments = if *closed { n } else { n.saturating_sub(1) };
-                for k in 0..segments {
-                    out.push(Piece::Segment(points[k], points[(k + 1) % n]));
-                }
-            }
-            Item::Text { at, size, text } => out.push(Piece::Label([
-                at[0],
-                at[1] - 0.3 * size,
-                at[0] + text_width(text, *size),
-                at[1] + size,
-            ])),
-        }
-    }
-    out
-}
-
-/// A sheet's tiles over a drawing: `windows` (lower-left corners in the
-/// drawing, mm) of `ww` × `wh` with their row within their column.
-struct Layout {
-    pw: f64,
-    ph: f64,
-    ww: f64,
-    wh: f64,
-    sx: f64,
-    cols: usize,
-    /// (column, row within it, lower-left corner).
-    windows: Vec<(usize, usize, [f64; 2])>,
-}
-
-/// The tiles of a page `pw` × `ph` over a drawing's content: columns
-/// `ww − OVERLAP` apart; in each column, rows from the lowest thing drawn
-/// there to the highest (a column with nothing drawn gets no tiles, and a
-/// long, low drawing needs no empty rows where it is low).
-fn layout(pieces: &[Piece], drawing: &Drawing, pw: f64, ph: f64) -> Layout {
-    let (ww, wh) = (
-        pw - 2.0 * MARGIN,
-        ph - 2.0 * MARGIN - footer_height(pw) - HEADER,
-    );
-    let (sx, sy) = (ww - OVERLAP, wh - OVERLAP);
-    let cols = (((drawing.width - OVERLAP) / sx).ceil() as usize).max(1);
-    let mut windows = vec![];
-    for c in 0..cols {
-        let (x0, x1) = (c as f64 * sx, c as f64 * sx + ww);
-        let (lo, hi) = pieces
-            .iter()
-            .filter_map(|p| p.span(x0, x1))
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), b| {
-                (lo.min(b.0), hi.max(b.1))
-            });
-        if lo > hi {
-            continue;
-        }
-        // From the lowest thing drawn in the column, as many rows as reach
-        // the highest.
-        let rows = (((hi - lo - wh) / sy).ceil().max(0.0) as usize) + 1;
-        for r in 0..rows {
-            windows.push((c, r, [x0, lo + r as f64 * sy]));
-        }
-    }
-    Layout {
-        pw,
-        ph,
-        ww,
-        wh,
-        sx,
-        cols,
-        windows,
-    }
-}
-
 /// A drawing ready to lay out: turned for a roll where it must be, its
 /// tiles chosen (the orientation that needs fewer pages).
 struct Planned {
@@ -161,16 +51,19 @@ fn plan(drawing: &Drawing, paper: Paper) -> Option<Planned> {
         drawing.clone()
     };
     let pieces = pieces(&drawing);
+    if pieces.is_empty() {
+        return None;
+    }
     let options = if paper.roll {
         let ph = drawing.height + 2.0 * MARGIN + footer_height(paper.width) + HEADER;
-        vec![layout(&pieces, &drawing, paper.width, ph.max(200.0))]
+        vec![layout(&pieces, paper.width, ph.max(200.0), true)]
     } else {
         vec![
-            layout(&pieces, &drawing, paper.width, paper.height),
-            layout(&pieces, &drawing, paper.height, paper.width),
+            layout(&pieces, paper.width, paper.height, false),
+            layout(&pieces, paper.height, paper.width, false),
         ]
     };
-    let layout = options.into_iter().min_by_key(|o| o.windows.len())?;
+    let layout = options.into_iter().min_by_key(|o| o.pages.len())?;
     Some(Planned { drawing, layout })
 }
 
@@ -180,13 +73,15 @@ pub fn tile(drawing: &Drawing, paper: Paper) -> Vec<Page> {
     tile_all(std::slice::from_ref(drawing), paper)
 }
 
-/// Lays `drawings` onto `paper`: one assembly page with every drawing's
-/// map (when any takes more than one tile), then each drawing's tiles.
+/// Lays `drawings` onto `paper`: one assembly page with the map of every
+/// drawing that is printed in more than one tile of a part, then each
+/// drawing's pages.
 pub fn tile_all(drawings: &[Drawing], paper: Paper) -> Vec<Page> {
     let planned: Vec<Planned> = drawings.iter().filter_map(|d| plan(d, paper)).collect();
     let mut pages = vec![];
-    if planned.iter().any(|p| p.layout.windows.len() > 1) {
-        pages.push(assembly_page(&planned, paper));
+    let assembled: Vec<&Planned> = planned.iter().filter(|p| needs_map(&p.layout)).collect();
+    if !assembled.is_empty() {
+        pages.push(assembly_page(&assembled, paper));
     }
     for p in &planned {
         pages.extend(tiles(&p.drawing, &p.layout));
@@ -194,52 +89,67 @@ pub fn tile_all(drawings: &[Drawing], paper: Paper) -> Vec<Page> {
     pages
 }
 
-/// A drawing's tile pages.
+/// Whether some part of the drawing takes more than one tile.
+fn needs_map(l: &Layout) -> bool {
+    (0..l.cols.len()).any(|part| l.windows.iter().filter(|w| w.part == part).count() > 1)
+}
+
+/// A drawing's pages: one tile under the page's heading, or several one
+/// above the other, each under its caption.
 fn tiles(drawing: &Drawing, l: &Layout) -> Vec<Page> {
     let marks = drawing_marks(drawing);
     let guides = cut_lines_and_crosses(l);
+    let mut tm = marks;
+    tm.extend(guides);
     let mut pages = vec![];
-    for &(c, r, origin) in &l.windows {
-        let rows = l.windows.iter().filter(|w| w.0 == c).count();
-        let mut tm = marks.clone();
-        tm.extend(guides.iter().cloned());
+    for on_page in &l.pages {
         let mut page_marks = footer(l.pw);
-        page_marks.push(header(
-            l.pw,
-            l.ph,
-            &format!(
-                "{} - column {} of {}, row {} of {rows}",
-                drawing.title,
-                c + 1,
-                l.cols,
-                r + 1
-            ),
-        ));
-        let window = [MARGIN, MARGIN + footer_height(l.pw)];
-        page_marks.push(Mark::Line {
-            points: vec![
-                window,
-                [window[0] + l.ww, window[1]],
-                [window[0] + l.ww, window[1] + l.wh],
-                [window[0], window[1] + l.wh],
-            ],
-            closed: true,
-            width: 0.1,
-            dashed: false,
-            grey: true,
-        });
+        let heading = match on_page.as_slice() {
+            [k] => format!("{} - {}", drawing.title, l.name(&l.windows[*k])),
+            _ => format!("{} - {} tiles", drawing.title, on_page.len()),
+        };
+        page_marks.push(header(l.pw, l.ph, &heading));
+        let mut top = l.ph - MARGIN - HEADER;
+        let mut tiles = vec![];
+        for &k in on_page {
+            let w = &l.windows[k];
+            if on_page.len() > 1 {
+                page_marks.push(fitted(
+                    [MARGIN, top - CAPTION + 1.8],
+                    2.8,
+                    &format!("{} - {}", drawing.kind, l.name(w)),
+                    l.ww,
+                ));
+                top -= CAPTION;
+            }
+            let at = [MARGIN, top - w.size[1]];
+            page_marks.push(Mark::Line {
+                points: vec![
+                    at,
+                    [at[0] + w.size[0], at[1]],
+                    [at[0] + w.size[0], at[1] + w.size[1]],
+                    [at[0], at[1] + w.size[1]],
+                ],
+                closed: true,
+                width: 0.1,
+                dashed: false,
+                grey: true,
+            });
+            tiles.push(Tile {
+                row: w.row,
+                column: w.column,
+                origin: w.origin,
+                window: w.size,
+                at,
+                marks: tm.clone(),
+            });
+            top -= w.size[1];
+        }
         pages.push(Page {
             width: l.pw,
             height: l.ph,
             marks: page_marks,
-            tile: Some(Tile {
-                row: r,
-                column: c,
-                origin,
-                window: [l.ww, l.wh],
-                at: window,
-                marks: tm,
-            }),
+            tiles,
         });
     }
     pages
@@ -267,47 +177,45 @@ fn cut_lines_and_crosses(l: &Layout) -> Vec<Mark> {
             });
         }
     };
-    let span = |c: usize| {
-        l.windows
-            .iter()
-            .filter(|w| w.0 == c)
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), w| {
-                (lo.min(w.2[1]), hi.max(w.2[1] + l.wh))
-            })
-    };
-    for c in 0..l.cols {
-        let (lo, hi) = span(c);
-        if lo > hi {
-            continue;
-        }
-        // Between this column's rows.
-        let mut ys: Vec<f64> = l
-            .windows
-            .iter()
-            .filter(|w| w.0 == c && w.1 > 0)
-            .map(|w| w.2[1] + OVERLAP / 2.0)
-            .collect();
-        let x0 = c as f64 * l.sx;
-        for &y in &ys {
-            out.push(dashed([x0, y], [x0 + l.ww, y]));
-            cross(x0 + OVERLAP / 2.0 + 10.0, y, &mut out);
-            cross(x0 + l.ww - OVERLAP / 2.0 - 10.0, y, &mut out);
-        }
-        // Between this column and the next, over the height both cover.
-        let (nlo, nhi) = if c + 1 < l.cols {
-            span(c + 1)
-        } else {
-            (1.0, 0.0)
+    for (part, &cols) in l.cols.iter().enumerate() {
+        let column = |c: usize| {
+            l.windows
+                .iter()
+                .filter(move |w| w.part == part && w.column == c)
         };
-        let (a, b) = (lo.max(nlo), hi.min(nhi));
-        if a < b {
-            let x = (c + 1) as f64 * l.sx + OVERLAP / 2.0;
-            out.push(dashed([x, lo.min(nlo)], [x, hi.max(nhi)]));
-            ys.clear();
-            let n = ((b - a) / (l.wh / 2.0)).ceil().max(1.0) as usize;
-            for k in 0..=n {
-                let y = a + 8.0 + (b - a - 16.0).max(0.0) * k as f64 / n as f64;
-                cross(x, y, &mut out);
+        let span = |c: usize| {
+            column(c).fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), w| {
+                (lo.min(w.origin[1]), hi.max(w.origin[1] + w.size[1]))
+            })
+        };
+        for c in 0..cols {
+            let Some(first) = column(c).next() else {
+                continue;
+            };
+            let x0 = first.origin[0];
+            let (lo, hi) = span(c);
+            // Between this column's rows.
+            for w in column(c).filter(|w| w.row > 0) {
+                let y = w.origin[1] + OVERLAP / 2.0;
+                out.push(dashed([x0, y], [x0 + l.ww, y]));
+                cross(x0 + OVERLAP / 2.0 + 10.0, y, &mut out);
+                cross(x0 + l.ww - OVERLAP / 2.0 - 10.0, y, &mut out);
+            }
+            // Between this column and the next, over the height both cover.
+            let (nlo, nhi) = if c + 1 < cols {
+                span(c + 1)
+            } else {
+                (1.0, 0.0)
+            };
+            let (a, b) = (lo.max(nlo), hi.min(nhi));
+            if a < b {
+                let x = x0 + l.ww - OVERLAP / 2.0;
+                out.push(dashed([x, lo.min(nlo)], [x, hi.max(nhi)]));
+                let n = ((b - a) / (l.wh / 2.0)).ceil().max(1.0) as usize;
+                for k in 0..=n {
+                    let y = a + 8.0 + (b - a - 16.0).max(0.0) * k as f64 / n as f64;
+                    cross(x, y, &mut out);
+                }
             }
         }
     }
@@ -316,16 +224,18 @@ fn cut_lines_and_crosses(l: &Layout) -> Vec<Mark> {
 
 /// The assembly page: every drawing's map one above the other at one
 /// scale, each printed tile over it with its column and row.
-fn assembly_page(planned: &[Planned], paper: Paper) -> Page {
+fn assembly_page(planned: &[&Planned], paper: Paper) -> Page {
     // The extent of each map: its drawing and every tile.
     let extents: Vec<([f64; 2], [f64; 2])> = planned
         .iter()
         .map(|p| {
-            let l = &p.layout;
             let (mut lo, mut hi) = ([0.0f64, 0.0f64], [p.drawing.width, p.drawing.height]);
-            for w in &l.windows {
-                lo = [lo[0].min(w.2[0]), lo[1].min(w.2[1])];
-                hi = [hi[0].max(w.2[0] + l.ww), hi[1].max(w.2[1] + l.wh)];
+            for w in &p.layout.windows {
+                lo = [lo[0].min(w.origin[0]), lo[1].min(w.origin[1])];
+                hi = [
+                    hi[0].max(w.origin[0] + w.size[0]),
+                    hi[1].max(w.origin[1] + w.size[1]),
+                ];
             }
             (lo, hi)
         })
@@ -357,7 +267,7 @@ fn assembly_page(planned: &[Planned], paper: Paper) -> Page {
         [MARGIN, ph - MARGIN - HEADER - 4.0],
         2.6,
         &format!(
-            "{count} tiles, one a page of {}; tiles overlap {OVERLAP:.0} mm; trim on the dashed lines, match the crosses, tape. Blank areas are not printed.",
+            "{count} tiles on {}; overlaps {OVERLAP:.0} mm: trim on the dashed lines, match the crosses, tape. Blank areas are left out.",
             paper.name
         ),
         room_w,
@@ -386,13 +296,9 @@ fn assembly_page(planned: &[Planned], paper: Paper) -> Page {
                 });
             }
         }
-        for &(c, r, [x0, y0]) in &l.windows {
-            let rect = [
-                [x0, y0],
-                [x0 + l.ww, y0],
-                [x0 + l.ww, y0 + l.wh],
-                [x0, y0 + l.wh],
-            ];
+        for w in &l.windows {
+            let ([x0, y0], [sw, sh]) = (w.origin, w.size);
+            let rect = [[x0, y0], [x0 + sw, y0], [x0 + sw, y0 + sh], [x0, y0 + sh]];
             marks.push(Mark::Line {
                 points: rect.iter().map(at).collect(),
                 closed: true,
@@ -400,10 +306,15 @@ fn assembly_page(planned: &[Planned], paper: Paper) -> Page {
                 dashed: true,
                 grey: true,
             });
+            let part = if l.cols.len() > 1 {
+                format!("p{} ", w.part + 1)
+            } else {
+                String::new()
+            };
             marks.push(Mark::Text {
                 at: at(&[x0 + 3.0 / scale, y0 + 3.0 / scale]),
                 size: 2.0,
-                text: format!("c{} r{}", c + 1, r + 1),
+                text: format!("{part}c{} r{}", w.column + 1, w.row + 1),
             });
         }
         top -= (hi[1] - lo[1]) * scale;
@@ -412,7 +323,7 @@ fn assembly_page(planned: &[Planned], paper: Paper) -> Page {
         width: pw,
         height: ph,
         marks,
-        tile: None,
+        tiles: vec![],
     }
 }
 
