@@ -28,7 +28,8 @@ fn esc(t: &str) -> String {
 }
 
 /// An SVG file's text made fit to inline: its XML prolog dropped, scaled
-/// to the page width.
+/// to the page width and no taller than most of the window (a tall
+/// drawing, the stacked sections, stays whole in view).
 fn inline_svg(svg: &str) -> String {
     let body = match svg.find("<svg") {
         Some(i) => &svg[i..],
@@ -36,7 +37,7 @@ fn inline_svg(svg: &str) -> String {
     };
     body.replacen(
         "<svg ",
-        "<svg class=\"fig\" style=\"width:100%;height:auto\" ",
+        "<svg class=\"fig\" style=\"width:100%;height:auto;max-height:80vh\" ",
         1,
     )
 }
