@@ -605,3 +605,122 @@ fn header_placement_reads_back_as_written() {
     assert_eq!(read_pose(&head), Some(pose));
     assert_eq!(read_kept(&head), Some(kept));
 }
+
+/// A 10 mm flat tool's program (setup 1's or setup 2's words) that follows
+/// the rectangle `x0..x1` × `y0..y1` at depth `z`.
+fn ring(x0: f64, y0: f64, x1: f64, y1: f64, z: f64) -> String {
+    format!("G0 X{x0} Y{y0}\nG1 Z{z} F500\nG1 X{x1} F2000\nG1 Y{y1}\nG1 X{x0}\nG1 Y{y0}\nG0 Z10\n")
+}
+
+/// Where the rail is steep, what is left is measured as the true distance
+/// to the design, not along the vertical scaled by the normal's Z (which
+/// reads low on a curved face). A design cylinder of radius 30 mm lying
+/// along X, its axis 40 mm under the untouched stock top: at a cell `dy`
+/// from the axis the stock top is √(dy² + 40²) − 30 from the cylinder
+/// (elementary geometry), where the old reading gave the vertical gap
+/// times √(1 − (dy/30)²). The cylinder is 720 facets round (0.0003 mm off
+/// the circle).
+#[test]
+fn leftover_on_a_steep_face_is_the_true_distance() {
+    let (r, zc, n) = (30.0f64, -40.0f64, 720usize);
+    let mut design = Mesh {
+        vertices: vec![],
+        triangles: vec![],
+    };
+    for k in 0..n {
+        let a = 2.0 * PI * k as f64 / n as f64;
+        let (y, z) = (100.0 + r * a.cos(), zc + r * a.sin());
+        design.vertices.push([50.0, y, z]);
+        design.vertices.push([250.0, y, z]);
+    }
+    design.vertices.push([50.0, 100.0, zc]);
+    design.vertices.push([250.0, 100.0, zc]);
+    let (c0, c1) = (2 * n as u32, 2 * n as u32 + 1);
+    for k in 0..n as u32 {
+        let j = (k + 1) % n as u32;
+        let (a0, a1, b0, b1) = (2 * k, 2 * k + 1, 2 * j, 2 * j + 1);
+        design.triangles.push([a0, b0, b1]);
+        design.triangles.push([a0, b1, a1]);
+        design.triangles.push([c0, b0, a0]);
+        design.triangles.push([c1, a1, b1]);
+    }
+    // One cut far from the cylinder; the stock over it is untouched.
+    let p = format!("{HEAD}{}{TAIL}", ring(270.0, 20.0, 290.0, 180.0, -5.0));
+    let v = run(
+        &[&p],
+        Block::flat(300.0, 200.0, 80.0),
+        Cutter::flat(10.0),
+        Some(&design),
+        0.5,
+    );
+    let m = &v.maps[0];
+    for dy in [5.0f64, 20.0, 27.0, 29.0] {
+        let j = ((100.0 + dy) / m.cell[1]) as usize;
+        let i = (150.0 / m.cell[0]) as usize;
+        let y = m.origin[1] + (j as f64 + 0.5) * m.cell[1] - 100.0;
+        let want = (y * y + zc * zc).sqrt() - r;
+        let got = m.deviation[j * m.dims[0] + i] as f64;
+        let normal = (0.0 - (zc + (r * r - y * y).sqrt())) * (1.0 - (y / r).powi(2)).sqrt();
+        // Flat enough (dy = 5) the two agree to 0.3 mm on this tall a gap;
+        // on the steep face the true distance is read.
+        let tolerance = if dy < 10.0 { 0.3 } else { 0.01 };
+        assert!(
+            (got - want).abs() < tolerance,
+            "dy {y}: {got} vs {want} (normal reading {normal})"
+        );
+        if dy > 25.0 {
+            assert!(want - normal > 2.0, "dy {y}: {want} vs {normal}");
+        }
+    }
+}
+
+/// Foam left outside the design's plan but joined to it is reported as
+/// the parting line's fin, measured as its true distance to the design,
+/// and the stock beyond the outline's cut is not. A design box 100 × 100
+/// × 20 mm, its top 10 mm under the stock's; setup 1 faces the stock down
+/// to the box's top and cuts a slot round it 3 mm out from its sides, to
+/// 45 mm deep; setup 2 cuts the same slot from below, 10 mm deep, so the
+/// slot goes through. Left: a ring 3 mm wide round the box, from the
+/// box's top down to the block's bottom, 20 mm below the box. Its area
+/// 106² − 100² = 1236 mm²; each column is farthest from the box at its
+/// foot, √(s² + 20²) at s out from a side, √(2s² + 20²) at a corner: at
+/// most 20.37 mm for the outermost cells (s = 2.75 mm).
+#[test]
+fn the_fin_outside_the_plan_is_reported_at_its_true_distance() {
+    let design = Mesh::cuboid([100.0, 50.0, -30.0], [100.0, 100.0, 20.0]);
+    let mut p1 = String::from(HEAD);
+    let mut y = 0.0;
+    while y <= 200.0 {
+        p1.push_str(&format!(
+            "G0 X0 Y{y}\nG1 Z-10 F500\nG1 X300 F2000\nG0 Z10\n"
+        ));
+        y += 5.0;
+    }
+    p1.push_str(&ring(92.0, 42.0, 208.0, 158.0, -45.0));
+    p1.push_str(TAIL);
+    // Setup 2 sees the block turned about X: Y' = 200 − Y.
+    let p2 = format!("{HEAD}{}{TAIL}", ring(92.0, 42.0, 208.0, 158.0, -10.0));
+    let v = run(
+        &[&p1, &p2],
+        Block::flat(300.0, 200.0, 50.0),
+        Cutter::flat(10.0),
+        Some(&design),
+        0.5,
+    );
+    assert!(!v.has_findings(), "{}", v.text());
+    let fin = v.parting_line.as_ref().expect("a fin");
+    assert!(
+        (1150.0..=1300.0).contains(&fin.area_mm2),
+        "{} mm²: the stock beyond the slot is not the board's",
+        fin.area_mm2
+    );
+    let most = (2.0 * 2.75f64.powi(2) + 400.0).sqrt();
+    assert!((fin.max_mm - most).abs() < 0.05, "{} vs {most}", fin.max_mm);
+    assert!((20.0..=20.2).contains(&fin.median_mm), "{}", fin.median_mm);
+    assert!(
+        v.text().contains("the fin along the parting line"),
+        "{}",
+        v.text()
+    );
+    assert!(v.tab_zones.is_none());
+}

@@ -6,10 +6,11 @@
 use super::report::{DeviationMap, PocketReport, REACH_CHECKED_MM, Verification};
 use super::setting::{Setting, VerifyOptions};
 use crate::geom::dropcutter::DropCutter;
+use crate::geom::nearest::Nearest;
 use crate::geom::zmap::ZMap;
 use crate::model::machine::Cutter;
 use crate::model::mesh::Mesh;
-use crate::toolpath::setup::{Side, flip_mesh};
+use crate::toolpath::setup::{Side, flip, flip_mesh};
 
 /// The figures against the design, from the stock's top after setup 1
 /// (`top1`) and the stock after setup 2 (`top2`, when there was one);
@@ -32,14 +33,38 @@ pub(super) fn against(
             .map(|(p, overlap)| move |x: f64| p.floor_at(side, x, overlap));
         balls[side.number() as usize - 1].map(|r| Reach { r, floor })
     };
-    let mut maps = vec![deviation(&m1, design, Side::Deck, reach(Side::Deck))];
+    let near = Nearest::new(design);
+    // Foam left on the board by the tabs: inside their rectangles on the
+    // design's plan, and outside the plan within a ball's radius of them.
+    let mut beside_tabs = vec![];
+    let mut on_tabs = vec![];
+    let mut maps = vec![deviation(
+        &m1,
+        design,
+        Side::Deck,
+        reach(Side::Deck),
+        (&near, |p| p),
+    )];
     if let Some(m2) = top2 {
+        let to_design = |p| flip(p, b);
         maps.push(deviation(
             m2,
             &flip_mesh(design, b),
             Side::Bottom,
             reach(Side::Bottom),
+            (&near, to_design),
         ));
+        let inside: Vec<bool> = maps[1].deviation.iter().map(|d| !d.is_nan()).collect();
+        let keep: Vec<[[f64; 2]; 2]> = setting
+            .keep
+            .iter()
+            .map(|r| [[r[0][0], b.width - r[1][1]], [r[1][0], b.width - r[0][1]]])
+            .collect();
+        let tab_reach = balls[1].or(balls[0]).unwrap_or(0.0);
+        let (fin, tabs) =
+            super::outside::outside_plan(m2, &inside, &keep, tab_reach, &near, to_design);
+        beside_tabs = tabs;
+        v.parting_line = super::outside::summary(fin, options.cell * options.cell);
     }
     let mut all: Vec<f32> = Vec::new();
     let (mut gouge, mut left) = ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
@@ -70,6 +95,7 @@ pub(super) fn against(
                         p[0] >= r[0][0] && p[0] <= r[1][0] && y1 >= r[0][1] && y1 <= r[1][1]
                     })
                 {
+                    on_tabs.push((d, p));
                     continue;
                 }
                 if let Some(k) = setting
@@ -106,6 +132,8 @@ pub(super) fn against(
         }
     }
     let cell_area = options.cell * options.cell;
+    on_tabs.extend(beside_tabs);
+    v.tab_zones = super::outside::summary(on_tabs, cell_area);
     for (z, mut cells) in setting.pockets.iter().zip(pocket_cells) {
         cells.sort_by(f64::total_cmp);
         let deep: Vec<f64> = cells
@@ -154,11 +182,21 @@ struct Reach<F: Fn(f64) -> f64 + Sync> {
     floor: Option<F>,
 }
 
+/// Below this normal Z component (steeper than about 25°, the rails) a
+/// cell's deviation is the true distance to the design, found with
+/// `near` at the cell's surface point taken back to the design's
+/// coordinates; flatter, the vertical difference times the normal's Z
+/// differs from it only by the surface's curvature over the gap: on a
+/// sphere of radius R, h² sin²θ / 2R, under 0.001 mm for h = 0.5 mm left
+/// at θ = 25° on R = 50 mm.
+const STEEP_NZ: f64 = 0.9;
+
 fn deviation<F: Fn(f64) -> f64 + Sync>(
     map: &ZMap,
     design: &Mesh,
     side: Side,
     ball: Option<Reach<F>>,
+    (near, to_design): (&Nearest, impl Fn([f64; 3]) -> [f64; 3] + Sync),
 ) -> DeviationMap {
     use rayon::prelude::*;
     let ray = DropCutter::new(&[design], Cutter::flat(0.0));
@@ -177,6 +215,11 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
                 // down to the column's bottom.
                 let surface = if present { map.top[k] } else { map.bottom[k] } as f64;
                 dev.push(match ray.drop_contact(c[0], c[1]) {
+                    Some((z, n)) if n[2] < STEEP_NZ => near
+                        .closest(to_design([c[0], c[1], surface]))
+                        .map_or(f32::NAN, |h| {
+                            (h.distance.min((surface - z).abs()) * (surface - z).signum()) as f32
+                        }),
                     Some((z, n)) => ((surface - z) * n[2]) as f32,
                     None => f32::NAN,
                 });

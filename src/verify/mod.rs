@@ -4,5 +4,6 @@
 pub mod setting;
 pub mod simulate;
 pub mod report;
+mod outside;
 mod measure;
 pub mod picture;

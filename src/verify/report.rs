@@ -93,6 +93,17 @@ pub struct Verification {
     pub unreachable_max_mm: Option<f64>,
     /// Where (X, Y, setup).
     pub unreachable_at: Option<[f64; 3]>,
+    /// The foam outside the design's plan still joined to the board (true
+    /// distance to the design), after both setups: the fin along the
+    /// parting line, and what the outline's cutter leaves in a notch.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub parting_line: Option<ZoneReport>,
+    /// The foam left on the board at the tabs: on the design's plan inside
+    /// the tabs' rectangles, and outside it within a finishing ball's
+    /// radius of them (true distance to the design where it is steep or
+    /// off the plan).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tab_zones: Option<ZoneReport>,
     /// Gouge tolerance used, mm.
     pub gouge_tolerance_mm: f64,
     /// All stock removed, L.
@@ -115,6 +126,20 @@ pub struct Verification {
     /// Deviation maps (setup 1, setup 2) for pictures; not in the JSON.
     #[serde(skip)]
     pub maps: Vec<DeviationMap>,
+}
+
+/// Foam left in one zone outside the design's plan, as the true distance
+/// from the foam to the design.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ZoneReport {
+    /// Plan area with foam on it, mm².
+    pub area_mm2: f64,
+    /// Median distance, mm.
+    pub median_mm: f64,
+    /// Greatest distance, mm.
+    pub max_mm: f64,
+    /// Where the greatest is (X, Y, setup).
+    pub at: [f64; 3],
 }
 
 /// Signed deviation from the design per cell, in a setup's coordinates:
@@ -160,6 +185,8 @@ impl Verification {
             unreachable_mm2: 0.0,
             unreachable_max_mm: None,
             unreachable_at: None,
+            parting_line: None,
+            tab_zones: None,
             gouge_tolerance_mm,
             removed_volume_litres: 0.0,
             time_estimate_s: 0.0,
@@ -259,6 +286,29 @@ impl Verification {
                 at[1],
                 at[2]
             );
+        }
+        for (z, words) in [
+            (
+                &self.parting_line,
+                "outside the outline (the fin along the parting line, a notch's apex)",
+            ),
+            (
+                &self.tab_zones,
+                "at the tabs, where the board meets them and beside them",
+            ),
+        ] {
+            if let Some(z) = z {
+                let _ = writeln!(
+                    s,
+                    "{words}: {:.1} cm² of foam, {:.3} mm off the design at the median, at most {:.3} mm at X {:.1} Y {:.1} mm in setup {}: sand it off with the rail",
+                    z.area_mm2 / 100.0,
+                    z.median_mm,
+                    z.max_mm,
+                    z.at[0],
+                    z.at[1],
+                    z.at[2]
+                );
+            }
         }
         for p in &self.pockets {
             let _ = writeln!(
