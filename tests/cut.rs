@@ -763,7 +763,9 @@ fn rockered_blank_rapids_clear_the_blank_beneath_them() {
                 at = to;
             }
         }
-        assert!(across > 20, "{across}");
+        // Enough crossings to mean something (the bottom's roughing is
+        // small where the ball takes the foam itself: 13 crossings).
+        assert!(across > 10, "{across}");
         assert!(low * 2 > across, "setup {}: {low} of {across} low", k + 1);
     }
 }
@@ -830,9 +832,10 @@ fn finishing_links_clear_the_design_and_stay_low() {
     }
 }
 
-/// Programs for a rockered blank simulate clean on that blank, and the
+/// Programs for a rockered blank simulate clean on that blank, the
 /// roughing does not run its upper levels through the air over the
-/// blank's low middle.
+/// blank's low middle, and it leaves the foam over the middle, which the
+/// finishing ball can take itself, to the ball.
 #[test]
 fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
     let c = rockered();
@@ -873,7 +876,9 @@ fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
                 at = p;
             }
         }
-        assert!(level_moves > 1000, "{level_moves}");
+        // Enough moves to mean something (the bottom's roughing is small
+        // where the ball takes the foam itself: 241 moves along a level).
+        assert!(level_moves > 200, "{level_moves}");
         assert_eq!(
             in_air,
             0,
@@ -881,6 +886,22 @@ fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
             k + 1
         );
     }
+    // Over the board's middle the blank stands at most 81 + 5 - 63.5 =
+    // 22.5 mm over the deck (the fixture's 81 mm tall middle, its 5 mm
+    // allowance, the demo's 63.5 mm thickness): within the 2 in ball's
+    // 25.4 mm radius, so the deck's roughing leaves that foam to the ball
+    // and no roughing move comes within 100 mm of the middle.
+    let (lo, hi) = c.plan.placement.part.bounding_box().unwrap();
+    let mid = [(lo[0] + hi[0]) / 2.0, (lo[1] + hi[1]) / 2.0];
+    let near_middle = roughing_of(c, 0)
+        .steps
+        .iter()
+        .filter(|s| matches!(s, Step::Cut(p) if (p[0] - mid[0]).hypot(p[1] - mid[1]) < 100.0))
+        .count();
+    assert_eq!(
+        near_middle, 0,
+        "roughing over the middle, where the ball reaches"
+    );
 }
 
 #[test]

@@ -72,6 +72,7 @@ pub(super) fn against(
         ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
     let mut out_of_reach_cells = 0usize;
     let mut pocket_cells: Vec<Vec<f64>> = vec![vec![]; setting.pockets.len()];
+    let near_pocket = pocket_boxes(setting, 1.5 * options.cell);
     for dm in &maps {
         for j in 0..dm.dims[1] {
             for i in 0..dm.dims[0] {
@@ -98,18 +99,18 @@ pub(super) fn against(
                     on_tabs.push((d, p));
                     continue;
                 }
-                if let Some(k) = setting
-                    .pockets
-                    .iter()
-                    .position(|z| z.side == dm.side && z.contains([p[0], p[1]]))
-                {
+                if let Some(k) = setting.pockets.iter().zip(&near_pocket).position(|(z, b)| {
+                    z.side == dm.side && in_box(b, p) && z.contains([p[0], p[1]])
+                }) {
                     pocket_cells[k].push(-d);
                     continue;
                 }
                 // A cell at a pocket's wall stands beside a cliff as
                 // deep as the pocket: it is judged neither way.
-                if setting.pockets.iter().any(|z| {
-                    z.side == dm.side && z.edge_distance([p[0], p[1]]) <= 1.5 * options.cell
+                if setting.pockets.iter().zip(&near_pocket).any(|(z, b)| {
+                    z.side == dm.side
+                        && in_box(b, p)
+                        && z.edge_distance([p[0], p[1]]) <= 1.5 * options.cell
                 }) {
                     continue;
                 }
@@ -173,9 +174,31 @@ pub(super) fn against(
     v.maps = maps;
 }
 
-/// Deviation of a side's simulated surface from the design seen from above,
-/// measured along the surface normal (the vertical difference times the
-/// normal's Z component).
+/// Each pocket's plan box grown by `margin` (its wall's): a cell outside
+/// it is neither in the pocket nor at its wall, so the box is tried before
+/// the outline.
+fn pocket_boxes(setting: &Setting, margin: f64) -> Vec<[[f64; 2]; 2]> {
+    setting
+        .pockets
+        .iter()
+        .map(|z| {
+            z.outline.iter().fold(
+                [[f64::INFINITY; 2], [f64::NEG_INFINITY; 2]],
+                |[lo, hi], q| {
+                    [
+                        [lo[0].min(q[0] - margin), lo[1].min(q[1] - margin)],
+                        [hi[0].max(q[0] + margin), hi[1].max(q[1] + margin)],
+                    ]
+                },
+            )
+        })
+        .collect()
+}
+
+fn in_box(b: &[[f64; 2]; 2], p: [f64; 3]) -> bool {
+    p[0] >= b[0][0] && p[0] <= b[1][0] && p[1] >= b[0][1] && p[1] <= b[1][1]
+}
+
 /// The ball that finished a side, and the floor its tip stayed above.
 struct Reach<F: Fn(f64) -> f64 + Sync> {
     r: f64,
@@ -191,6 +214,10 @@ struct Reach<F: Fn(f64) -> f64 + Sync> {
 /// at θ = 25° on R = 50 mm.
 const STEEP_NZ: f64 = 0.9;
 
+/// Deviation of a side's simulated surface from the design seen from
+/// above: along the surface normal (the vertical difference times the
+/// normal's Z component), the true distance where steeper than
+/// [`STEEP_NZ`]; with `ball`, which cells that ball could not reach.
 fn deviation<F: Fn(f64) -> f64 + Sync>(
     map: &ZMap,
     design: &Mesh,

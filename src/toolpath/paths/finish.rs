@@ -11,23 +11,22 @@ use crate::model::toolpath::{Step, Toolpath};
 /// ball, the rail band's Z levels after them); with a smaller ball for the
 /// rails, its Z levels as a path of their own. Also the cutter positions
 /// computed.
-pub(super) fn finishing(ctx: &Ctx) -> (Vec<Toolpath>, usize) {
+pub(super) fn finishing(ctx: &Ctx, dc: &DropCutter) -> (Vec<Toolpath>, usize) {
     let fin = &ctx.job.finishing;
     let pass = fin.pass.clone();
     let cutter = pass.tool.cutter;
     let theta = fin.steep_angle.to_radians();
-    let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), cutter);
     // With a ball of its own for the rails, the finishing ball keeps to
     // where the surface under it is gentler than the steep angle and the
     // part (not the floor round it) holds it up.
     let gentle_only = fin.rails.is_some();
-    let (passes, mut positions) = parallel(ctx, &dc, gentle_only);
+    let (passes, mut positions) = parallel(ctx, dc, gentle_only);
     let stepover = scallop_stepover(cutter.radius, fin.scallop);
     let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
     let mut at: Option<[f64; 3]> = None;
     for runs in passes {
         for run in runs {
-            link(&mut steps, ctx, &dc, &mut at, &run, stepover * 1.5);
+            link(&mut steps, ctx, dc, &mut at, &run, stepover * 1.5);
         }
     }
     // Z levels over the steep rail band.

@@ -208,8 +208,14 @@ pub fn setup_paths(
         progress("registration holes");
         paths.push(holes(&ctx));
     }
+    // The finishing ball's drop-cutter, built once: the roughing asks it
+    // where the ball can take the foam itself, then the ball runs on it.
+    let ball = DropCutter::new(
+        &ctx.guard.iter().collect::<Vec<_>>(),
+        job.finishing.pass.tool.cutter,
+    );
     progress("roughing");
-    let rough = roughing(&ctx);
+    let rough = roughing(&ctx, &ball);
     ctx.cut(&rough);
     paths.push(rough);
     progress("outline");
@@ -217,7 +223,7 @@ pub fn setup_paths(
     ctx.cut(&out);
     paths.push(out);
     progress("finishing");
-    let (fin, positions) = finishing(&ctx);
+    let (fin, positions) = finishing(&ctx, &ball);
     paths.extend(fin);
     SetupPaths {
         side,

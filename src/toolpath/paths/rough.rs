@@ -74,7 +74,27 @@ pub(super) fn orient(mut l: Line, clockwise: bool) -> Line {
     l
 }
 
-pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
+/// Which `nodes` the roughing leaves to the finishing ball (`ball`, its
+/// drop-cutter on the part; `floor` under each node): where the stock's
+/// top over where the ball's tip will run is within the ball's radius and
+/// its deepest cut, the ball takes the foam itself in one pass (common
+/// practice, no source: a ball cuts with its round part only). On a flat
+/// block that is nowhere much; on a blank already close to the board's
+/// shape it is most of the deck and the bottom.
+fn left_to_ball(ctx: &Ctx, ball: &DropCutter, nodes: &[[f64; 2]], floor: &[f64]) -> Vec<bool> {
+    let tool = &ctx.job.finishing.pass.tool;
+    let reach = tool.cutter.radius.min(tool.max_stepdown);
+    ball.drop_many(nodes)
+        .into_iter()
+        .zip(nodes)
+        .zip(floor)
+        .map(|((tip, p), &f)| tip.is_some_and(|z| ctx.stock_top_at(p[0]) - z.max(f) <= reach))
+        .collect()
+}
+
+/// Z-level roughing of a setup; `ball` is the finishing ball's
+/// drop-cutter on the part.
+pub(super) fn roughing(ctx: &Ctx, ball: &DropCutter) -> Toolpath {
     let job = ctx.job;
     let pass = job.roughing.clone();
     let r = pass.tool.cutter.radius;
@@ -109,9 +129,11 @@ pub(super) fn roughing(ctx: &Ctx) -> Toolpath {
                 || p[0] >= hi[0] - 1e-9
                 || p[1] >= hi[1] - 1e-9)
     };
+    let finished_by_ball = left_to_ball(ctx, ball, &nodes, &floor);
     let in_band: Vec<bool> = nodes
         .iter()
-        .map(|p| ctx.outside.at(*p) <= band_limit && !edge(p))
+        .zip(&finished_by_ball)
+        .map(|(p, by_ball)| ctx.outside.at(*p) <= band_limit && !edge(p) && !by_ball)
         .collect();
     let lowest = high
         .iter()
