@@ -495,17 +495,21 @@ fn own_programs_verify_clean_for_every_fixture() {
             assert_eq!(v.unreachable_at, v.leftover_at, "{}", v.text());
         }
         // The foam outside the outline is reported on its own, at its true
-        // distance from the design: a fin along the parting line a shaper
-        // sands off with the rail, under 2.5 mm (common practice, no
-        // source; the demo's is 1.62 mm at most, 0.77 mm at the median);
-        // on the fish the most is in the swallow's notch, at the stringer,
+        // distance from the design: with the outline pass's side brought to
+        // 0.1 mm of the rail's widest line, what is left along the parting
+        // line is under 1 mm, a few strokes of a sanding block (common
+        // practice, no source; the demo's is 0.67 mm at most, 0.40 mm at
+        // the median, where the pass's margin left 1.62 mm and 0.77 mm); on
+        // the fish the most is in the swallow's notch, at the stringer,
         // where the outline's cutter cannot enter the apex.
-        let fin = v.parting_line.as_ref().expect("a fin reported");
+        // (The box leaves none at all.)
         let b = &c.plan.placement.block;
-        if c.plan.programs[0].file_name.contains("fish") {
-            assert!((fin.at[1] - b.width / 2.0).abs() < 30.0, "{}", v.text());
-        } else {
-            assert!(fin.max_mm <= 2.5 && fin.area_mm2 > 0.0, "{}", v.text());
+        if let Some(fin) = &v.parting_line {
+            if c.plan.programs[0].file_name.contains("fish") {
+                assert!((fin.at[1] - b.width / 2.0).abs() < 30.0, "{}", v.text());
+            } else {
+                assert!(fin.max_mm <= 1.0, "{}", v.text());
+            }
         }
         let litres = b.length * b.width * b.thickness / 1e6;
         assert!(v.removed_volume_litres > 0.0 && v.removed_volume_litres < litres);
