@@ -785,6 +785,25 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
     }
 }
 
+/// A fixture's templates, all of them, on `paper`, written into a fresh
+/// folder: the folder (kept while the caller needs it), the board's name
+/// and what was made.
+fn fixture_templates(fixture: &str, paper: &str) -> (tempfile::TempDir, String, cmd::Templates) {
+    let path = format!("{}/fixtures/{fixture}.yaml", env!("CARGO_MANIFEST_DIR"));
+    let b = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
+    let name = b.name.clone();
+    let dir = tempfile::tempdir().unwrap();
+    let made = cmd::templates(
+        &Design::Board(Box::new(b)),
+        print::paper(paper).unwrap(),
+        &[],
+        &[],
+        dir.path(),
+    )
+    .unwrap();
+    (dir, name, made)
+}
+
 /// Page counts on A4 (the demo 41 and the longboard 65 pages before blank
 /// tiles were left out, the maps put on one page, short tiles packed
 /// several to a page and the sections halved); on a roll, where each
@@ -792,20 +811,7 @@ fn page_furniture_stays_inside_the_printable_area_on_every_paper() {
 /// a template.
 #[test]
 fn templates_take_few_pages() {
-    let count = |fixture: &str, paper: &str| {
-        let path = format!("{}/fixtures/{fixture}.yaml", env!("CARGO_MANIFEST_DIR"));
-        let b = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
-        let dir = tempfile::tempdir().unwrap();
-        cmd::templates(
-            &Design::Board(Box::new(b)),
-            print::paper(paper).unwrap(),
-            &[],
-            &[],
-            dir.path(),
-        )
-        .unwrap()
-        .pages
-    };
+    let count = |fixture: &str, paper: &str| fixture_templates(fixture, paper).2.pages;
     // The targets set for these layouts: the demo on A4 in at most 24 pages,
     // the longboard in at most 40 (they take 22 and 33).
     assert!(
@@ -830,18 +836,7 @@ fn tiles_sharing_a_page_do_not_overlap() {
     let mut shared = 0;
     for fixture in ["shortboard", "fish", "longboard"] {
         for paper in ["a4", "letter"] {
-            let path = format!("{}/fixtures/{fixture}.yaml", env!("CARGO_MANIFEST_DIR"));
-            let b = blanksmith::description::load(std::path::Path::new(&path)).unwrap();
-            let name = b.name.clone();
-            let dir = tempfile::tempdir().unwrap();
-            cmd::templates(
-                &Design::Board(Box::new(b)),
-                print::paper(paper).unwrap(),
-                &[],
-                &[],
-                dir.path(),
-            )
-            .unwrap();
+            let (dir, name, _) = fixture_templates(fixture, paper);
             let pdf = std::fs::read(dir.path().join(format!("{name}.templates.pdf"))).unwrap();
             for (n, p) in read_pdf(&pdf).iter().enumerate() {
                 let m = print::MARGIN * PT_PER_MM;
