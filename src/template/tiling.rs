@@ -1,7 +1,7 @@
-//! Drawings laid onto paper at 1:1: each drawing cut into pages only
-//! where it holds something, tiles that overlap with alignment crosses and
-//! cut lines, a label on each tile, and an assembly map first (the paper
-//! and the page furniture in `print`).
+//! Drawings laid onto paper at 1:1: each drawing's tiles (where they go,
+//! and which share a page, from `layout`) on their pages, overlapping with
+//! alignment crosses and cut lines, each tile named, and an assembly map
+//! first (the paper and the page furniture in `print`).
 
 use crate::template::drawing::{Drawing, Item, Role};
 use crate::template::layout::{CAPTION, Layout, layout, pieces};
