@@ -150,6 +150,12 @@ fn the_same_input_gives_byte_identical_files() {
     // source), nothing is fetched from elsewhere.
     let page = std::fs::read_to_string(a.path().join("out/saltgrass-fish-5-6/index.html")).unwrap();
     assert!(page.contains("<p id=\"volume\""));
+    // The half sections, and the rail close up after them.
+    let sections = page.find("<h2>Half sections").expect("the sections");
+    let rail = page
+        .find("<h3>The rail, close up")
+        .expect("the rail close up");
+    assert!(rail > sections);
     for tag in page.split("<script").skip(1) {
         let open = &tag[..tag.find('>').unwrap()];
         assert!(!open.contains("src="), "<script{open}>");

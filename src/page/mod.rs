@@ -223,9 +223,10 @@ pub fn board_page(p: &BoardPage) -> String {
     }
     for (title, svg) in &p.templates {
         let _ = write!(s, "<h2>{}</h2>{}", esc(title), inline_svg(svg));
-        if title.starts_with("Sections") && !p.rails.is_empty() {
-            let _ = write!(s, "<h3>The rail, close up</h3>{}", p.rails);
-        }
+    }
+    // The rail close up follows the sections (the only template drawn).
+    if !p.templates.is_empty() && !p.rails.is_empty() {
+        let _ = write!(s, "<h3>The rail, close up</h3>{}", p.rails);
     }
     if !p.fittings.is_empty() {
         s.push_str("<h2>Fins, glassing and weight</h2>");
