@@ -3,6 +3,7 @@
 //! (all, and where the finishing ball reaches), the cells no ball can
 //! touch, and each pocket's depth and area.
 
+use super::outside::in_rect;
 use super::report::{DeviationMap, PocketReport, REACH_CHECKED_MM, Verification};
 use super::setting::{Setting, VerifyOptions};
 use crate::geom::dropcutter::DropCutter;
@@ -91,16 +92,12 @@ pub(super) fn against(
                 } else {
                     p[1]
                 };
-                if d > 0.0
-                    && setting.keep.iter().any(|r| {
-                        p[0] >= r[0][0] && p[0] <= r[1][0] && y1 >= r[0][1] && y1 <= r[1][1]
-                    })
-                {
+                if d > 0.0 && setting.keep.iter().any(|r| in_rect([p[0], y1], r, 0.0)) {
                     on_tabs.push((d, p));
                     continue;
                 }
                 if let Some(k) = setting.pockets.iter().zip(&near_pocket).position(|(z, b)| {
-                    z.side == dm.side && in_box(b, p) && z.contains([p[0], p[1]])
+                    z.side == dm.side && in_rect([p[0], p[1]], b, 0.0) && z.contains([p[0], p[1]])
                 }) {
                     pocket_cells[k].push(-d);
                     continue;
@@ -109,7 +106,7 @@ pub(super) fn against(
                 // deep as the pocket: it is judged neither way.
                 if setting.pockets.iter().zip(&near_pocket).any(|(z, b)| {
                     z.side == dm.side
-                        && in_box(b, p)
+                        && in_rect([p[0], p[1]], b, 0.0)
                         && z.edge_distance([p[0], p[1]]) <= 1.5 * options.cell
                 }) {
                     continue;
@@ -193,10 +190,6 @@ fn pocket_boxes(setting: &Setting, margin: f64) -> Vec<[[f64; 2]; 2]> {
             )
         })
         .collect()
-}
-
-fn in_box(b: &[[f64; 2]; 2], p: [f64; 3]) -> bool {
-    p[0] >= b[0][0] && p[0] <= b[1][0] && p[1] >= b[0][1] && p[1] <= b[1][1]
 }
 
 /// The ball that finished a side, and the floor its tip stayed above.

@@ -42,45 +42,35 @@ pub(super) fn outside_plan(
     use rayon::prelude::*;
     let [nx, ny] = map.dims;
     let present = |k: usize| map.top[k] > map.bottom[k] + PRESENT_MM;
-    let in_rect = |p: [f64; 2], r: &[[f64; 2]; 2], grow: f64| {
-        p[0] >= r[0][0] - grow
-            && p[0] <= r[1][0] + grow
-            && p[1] >= r[0][1] - grow
-            && p[1] <= r[1][1] + grow
-    };
     let centre = |k: usize| map.centre(k % nx, k / nx);
     let tab = |k: usize| keep.iter().any(|r| in_rect(centre(k), r, 0.0));
+    let around = |k: usize| {
+        let (i, j) = (k % nx, k / nx);
+        [
+            (i > 0).then(|| k - 1),
+            (i + 1 < nx).then(|| k + 1),
+            (j > 0).then(|| k - nx),
+            (j + 1 < ny).then(|| k + nx),
+        ]
+        .into_iter()
+        .flatten()
+    };
+    let open = |k: usize| !inside[k] && present(k) && !tab(k);
     // Outward from the plan's edge, one cell a step, through foam only.
     let steps = (BAND_MM / map.cell[0].min(map.cell[1])).ceil() as usize;
     let mut reached = vec![false; nx * ny];
-    let mut front: Vec<usize> = vec![];
-    for k in 0..nx * ny {
-        if inside[k] || !present(k) || tab(k) {
-            continue;
-        }
-        let (i, j) = (k % nx, k / nx);
-        let touches = (i > 0 && inside[k - 1])
-            || (i + 1 < nx && inside[k + 1])
-            || (j > 0 && inside[k - nx])
-            || (j + 1 < ny && inside[k + nx]);
-        if touches {
-            reached[k] = true;
-            front.push(k);
-        }
+    let mut front: Vec<usize> = (0..nx * ny)
+        .filter(|&k| open(k) && around(k).any(|n| inside[n]))
+        .collect();
+    for &k in &front {
+        reached[k] = true;
     }
     let mut cells = front.clone();
     for _ in 1..steps {
         let mut next = vec![];
         for &k in &front {
-            let (i, j) = (k % nx, k / nx);
-            let around = [
-                (i > 0).then(|| k - 1),
-                (i + 1 < nx).then(|| k + 1),
-                (j > 0).then(|| k - nx),
-                (j + 1 < ny).then(|| k + nx),
-            ];
-            for n in around.into_iter().flatten() {
-                if !reached[n] && !inside[n] && present(n) && !tab(n) {
+            for n in around(k) {
+                if !reached[n] && open(n) {
                     reached[n] = true;
                     next.push(n);
                 }
@@ -114,6 +104,15 @@ pub(super) fn outside_plan(
             .collect()
     };
     (zone(false), zone(true))
+}
+
+/// Whether plan point `p` lies in rectangle `r` (min, max corners) grown
+/// by `grow` on every side.
+pub(super) fn in_rect(p: [f64; 2], r: &[[f64; 2]; 2], grow: f64) -> bool {
+    p[0] >= r[0][0] - grow
+        && p[0] <= r[1][0] + grow
+        && p[1] >= r[0][1] - grow
+        && p[1] <= r[1][1] + grow
 }
 
 /// A zone's figures from its cells' distances (mm) and places, each cell

@@ -410,9 +410,6 @@ pub(super) fn with_stock_above(
     pieces
 }
 
-/// The separation pass: round the outline at the parting surface, in a
-/// spiral that descends one outline stepdown a lap from above the deepest
-/// roughing stair, lifted over the tabs by the drop-cutter.
 /// How near the outline pass brings the tool's side to the design, mm.
 const SIDE_GAP: f64 = 0.1;
 
@@ -473,6 +470,9 @@ fn close_in(ctx: &Ctx, dc: &DropCutter, pts: &[[f64; 2]]) -> Vec<[f64; 2]> {
         .collect()
 }
 
+/// The separation pass: round the outline at the parting surface, in a
+/// spiral that descends one outline stepdown a lap from above the deepest
+/// roughing stair, lifted over the tabs by the drop-cutter.
 pub(super) fn outline(ctx: &Ctx) -> Toolpath {
     let job = ctx.job;
     let pass = job.outline.clone();
