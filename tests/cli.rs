@@ -683,7 +683,7 @@ const BAD_PROFILES: &[(&str, &str, &str)] = &[
     (
         "job/finishing-flat-tool.yaml",
         ":2:9: finishing.tool",
-        "needs a ball-end tool",
+        "needs a ball-end or bull-nose tool",
     ),
     (
         "job/pitch-word.yaml",

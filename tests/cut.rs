@@ -1036,3 +1036,40 @@ fn the_setup_sheet_adds_up_the_programs_times() {
     let want = format!("  in all: {} of cutting", program::duration(total));
     assert!(c.plan.sheet.contains(&want), "{want}\n{}", c.plan.sheet);
 }
+
+/// Finishing with a bull-nose (a 2 in cutter with a 1/4 in corner added to
+/// the shipped router, the rails still the 1/2 in ball): the demo plans,
+/// and the simulation of its programs (`verify`, its own height map, not
+/// the planner's drop-cutter) finds nothing: no gouge beyond the
+/// tolerance, 95 % of the stock left under the scallop plus the chord
+/// tolerance. The drop-cutter's bull-nose is checked against brute force
+/// and a closed form in `geom::dropcutter`, its stepover against closed
+/// forms in `toolpath::paths`.
+#[test]
+fn a_bull_nose_finishes_the_demo_clean() {
+    use blanksmith::model::machine::Cutter;
+    let mut m = profile::generic_machine();
+    let mut bull = m.tool(2).unwrap().clone();
+    bull.id = 5;
+    bull.cutter = Cutter::bull(50.8, 6.35);
+    bull.label = "bull-nose for the flats".into();
+    m.tools.push(bull.clone());
+    let mut j = job::default_job(&m).unwrap();
+    j.finishing.pass.tool = bull;
+    let c = case_with("shortboard.yaml", m, j);
+    let finishing = c.plan.setups[0]
+        .paths
+        .iter()
+        .find(|p| p.label == "finishing")
+        .unwrap();
+    assert_eq!(finishing.pass.tool.id, 5);
+    let v = commands::verify_plan(&c.plan, &c.machine, &c.job, &|_| {}).unwrap();
+    assert!(!v.has_findings(), "{}", v.text());
+    assert!(v.gouge_max_mm.unwrap() <= 0.05, "{}", v.text());
+    let target = c.job.finishing.scallop + c.job.finishing.tolerance;
+    assert!(
+        v.leftover_p95_mm.unwrap() <= target.min(0.25),
+        "{}",
+        v.text()
+    );
+}

@@ -168,3 +168,121 @@ pub(crate) fn flat_touch(t: &Tri, x: f64, y: f64, r: f64) -> f64 {
     }
     best
 }
+
+/// Highest tip height of a bull-nose of radius `r` (corner radius `c`,
+/// flat radius `a = r − c`) centred over (x, y) touching `t`, if above
+/// `floor` (else at most `floor`).
+///
+/// The tool is a flat disc of radius `a` swept by a ball of radius `c`,
+/// so against a face it touches where both are lowest along the face's
+/// normal n: the corner circle's centre `a` up the slope from the axis,
+/// the contact `c` along −n from there (geometry: a support point of a
+/// Minkowski sum is the sum of the parts' support points). Against an
+/// edge the tip it needs at each point of the edge is the point's height
+/// less the tool's rise `h(d)` at the point's distance `d` from the axis
+/// (flat to `a`, then the corner arc); `d` is convex along the edge and
+/// `h` convex and rising, so the need is concave and its highest point is
+/// found by golden-section search (Kiefer, "Sequential minimax search for
+/// a maximum", Proc. AMS 4, 1953). A vertex is an edge's end.
+#[inline]
+pub(crate) fn bull_touch(t: &Tri, x: f64, y: f64, r: f64, c: f64, floor: f64) -> f64 {
+    let a = r - c;
+    let mut best = floor;
+    if t.n[2] > MIN_NZ {
+        let g = (t.n[0] * t.n[0] + t.n[1] * t.n[1]).sqrt();
+        let (ux, uy) = if g > 1e-15 {
+            (t.n[0] / g, t.n[1] / g)
+        } else {
+            (0.0, 0.0)
+        };
+        let qx = x - a * ux - c * t.n[0];
+        let qy = y - a * uy - c * t.n[1];
+        if inside_plan(t, qx, qy) {
+            best = best.max(plane_z(t, qx, qy) - c + c * t.n[2]);
+        }
+    }
+    let rise = |d: f64| {
+        if d <= a {
+            0.0
+        } else {
+            let u = d - a;
+            c - (c * c - u * u).max(0.0).sqrt()
+        }
+    };
+    let r2 = r * r;
+    for k in 0..3 {
+        let p0 = t.p[k];
+        let p1 = t.p[(k + 1) % 3];
+        if p0[2].max(p1[2]) <= best {
+            continue;
+        }
+        // Where along the edge (0..1) the point is within r of the axis.
+        let (dx, dy) = (p1[0] - p0[0], p1[1] - p0[1]);
+        let (fx, fy) = (p0[0] - x, p0[1] - y);
+        let qa = dx * dx + dy * dy;
+        let qb = 2.0 * (fx * dx + fy * dy);
+        let qc = fx * fx + fy * fy - r2;
+        let (s0, s1) = if qa <= 1e-18 {
+            if qc > 0.0 {
+                continue;
+            }
+            (0.0, 0.0)
+        } else {
+            let disc = qb * qb - 4.0 * qa * qc;
+            if disc < 0.0 {
+                continue;
+            }
+            let sq = disc.sqrt();
+            let (lo, hi) = ((-qb - sq) / (2.0 * qa), (-qb + sq) / (2.0 * qa));
+            if hi < 0.0 || lo > 1.0 {
+                continue;
+            }
+            (lo.max(0.0), hi.min(1.0))
+        };
+        let need = |s: f64| {
+            let (ex, ey) = (fx + s * dx, fy + s * dy);
+            let d = (ex * ex + ey * ey).sqrt().min(r);
+            p0[2] + s * (p1[2] - p0[2]) - rise(d)
+        };
+        // No point of the edge needs more than its top less the rise at
+        // the edge's nearest approach to the axis.
+        let foot = if qa > 1e-18 {
+            (-(fx * dx + fy * dy) / qa).clamp(s0, s1)
+        } else {
+            0.0
+        };
+        let (ex, ey) = (fx + foot * dx, fy + foot * dy);
+        let nearest = (ex * ex + ey * ey).sqrt().min(r);
+        if p0[2].max(p1[2]) - rise(nearest) <= best {
+            continue;
+        }
+        let mut top = need(s0).max(need(s1));
+        if s1 > s0 {
+            const INV_PHI: f64 = 0.618_033_988_749_894_8;
+            let (mut lo, mut hi) = (s0, s1);
+            let mut m1 = hi - INV_PHI * (hi - lo);
+            let mut m2 = lo + INV_PHI * (hi - lo);
+            let (mut f1, mut f2) = (need(m1), need(m2));
+            // 0.618^32 of an edge: 0.02 µm of a 10 cm edge, and the need
+            // is flat at its highest point.
+            for _ in 0..32 {
+                if f1 < f2 {
+                    lo = m1;
+                    m1 = m2;
+                    f1 = f2;
+                    m2 = lo + INV_PHI * (hi - lo);
+                    f2 = need(m2);
+                } else {
+                    hi = m2;
+                    m2 = m1;
+                    f2 = f1;
+                    m1 = hi - INV_PHI * (hi - lo);
+                    f1 = need(m1);
+                }
+            }
+            top = top.max(f1).max(f2);
+        }
+        best = best.max(top);
+    }
+    best
+}

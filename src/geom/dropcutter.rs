@@ -15,7 +15,7 @@
 
 use rayon::prelude::*;
 
-use crate::geom::contact::{Tri, ball_touch, flat_touch};
+use crate::geom::contact::{Tri, ball_touch, bull_touch, flat_touch};
 use crate::model::machine::{Cutter, ToolKind};
 use crate::model::mesh::{Mesh, cross, norm, sub};
 
@@ -53,20 +53,9 @@ pub struct DropCutter {
     items: Vec<u32>,
 }
 
-/// How a cutter is shaped for the drop: a bull-nose drops as a flat of the
-/// same diameter, which contains it, so the tool is never placed lower than
-/// it may go (it may be placed a little higher near steep walls).
-fn drop_shape(c: Cutter) -> Cutter {
-    match c.kind {
-        ToolKind::Bull => Cutter::flat(2.0 * c.radius),
-        _ => c,
-    }
-}
-
 impl DropCutter {
     /// Indexes `meshes` (all together) for `cutter`.
     pub fn new(meshes: &[&Mesh], cutter: Cutter) -> DropCutter {
-        let cutter = drop_shape(cutter);
         let r = cutter.radius;
         let mut tris = Vec::new();
         for mesh in meshes {
@@ -233,21 +222,21 @@ impl DropCutter {
         }
         let b = j as usize * self.dims[0] + i as usize;
         let r = self.cutter.radius;
-        let ball = self.cutter.kind == ToolKind::Ball;
+        let kind = self.cutter.kind;
         let mut best = (f64::NEG_INFINITY, 0);
         for &ti in &self.items[self.starts[b] as usize..self.starts[b + 1] as usize] {
             let bound = &self.bounds[ti as usize];
             if bound.zmax as f64 <= best.0 {
                 break;
             }
-            if !may_lift(bound, x, y, r, ball, best.0) {
+            if !may_lift(bound, x, y, &self.cutter, best.0) {
                 continue;
             }
             let t = &self.tris[ti as usize];
-            let z = if ball {
-                ball_touch(t, x, y, r, best.0)
-            } else {
-                flat_touch(t, x, y, r)
+            let z = match kind {
+                ToolKind::Ball => ball_touch(t, x, y, r, best.0),
+                ToolKind::Bull => bull_touch(t, x, y, r, self.cutter.corner, best.0),
+                ToolKind::Flat => flat_touch(t, x, y, r),
             };
             if z > best.0 {
                 best = (z, ti as usize);
@@ -265,12 +254,13 @@ impl DropCutter {
     }
 }
 
-/// Whether triangle `t` can lift a cutter of radius `r` at (x, y) above
-/// `best`: its plan box within reach, and (for a ball) its top corner,
-/// lowered by how far the ball's surface rises at the box's distance, above
-/// `best`.
+/// Whether triangle `t` can lift `cutter` at (x, y) above `best`: its
+/// plan box within reach, and (for a ball or a bull-nose) its top corner,
+/// lowered by how far the tool's surface rises at the box's distance,
+/// above `best`.
 #[inline]
-fn may_lift(t: &Bound, x: f64, y: f64, r: f64, ball: bool, best: f64) -> bool {
+fn may_lift(t: &Bound, x: f64, y: f64, cutter: &Cutter, best: f64) -> bool {
+    let r = cutter.radius;
     let bb = t.bb.map(f64::from);
     let dx = (bb[0] - x).max(x - bb[2]).max(0.0);
     let dy = (bb[1] - y).max(y - bb[3]).max(0.0);
@@ -278,7 +268,11 @@ fn may_lift(t: &Bound, x: f64, y: f64, r: f64, ball: bool, best: f64) -> bool {
     if d2 > r * r {
         return false;
     }
-    !ball || t.zmax as f64 - (r - (r * r - d2).sqrt()) > best
+    match cutter.kind {
+        ToolKind::Ball => t.zmax as f64 - (r - (r * r - d2).sqrt()) > best,
+        ToolKind::Bull => t.zmax as f64 - cutter.height_at(d2.sqrt()).unwrap_or(0.0) > best,
+        ToolKind::Flat => true,
+    }
 }
 
 #[cfg(test)]
@@ -397,6 +391,93 @@ mod tests {
             let d = (x * x + y * y + c * c).sqrt();
             assert!(d <= r + s + 1e-9 && d >= r + s - 2.0 * sag, "{d}");
         }
+    }
+
+    #[test]
+    fn bull_on_a_tilted_plane_rests_on_its_corner_up_the_slope() {
+        // Geometry: on the plane z = x·tan φ the corner circle's centre
+        // stands a up the slope from the axis and c along the normal from
+        // the contact, so the tip under the axis is at
+        // (a + c·sin φ)·tan φ − c·(1 − cos φ).
+        let (d, c) = (50.8, 6.35);
+        let a = d / 2.0 - c;
+        for deg in [0.0f64, 0.5, 3.0, 20.0, 50.0] {
+            let (sn, cs) = (deg.to_radians().sin(), deg.to_radians().cos());
+            let z = |x: f64| x * sn / cs;
+            let m = Mesh {
+                vertices: vec![
+                    [-200.0, -200.0, z(-200.0)],
+                    [200.0, -200.0, z(200.0)],
+                    [200.0, 200.0, z(200.0)],
+                    [-200.0, 200.0, z(-200.0)],
+                ],
+                triangles: vec![[0, 1, 2], [0, 2, 3]],
+            };
+            let dc = DropCutter::new(&[&m], Cutter::bull(d, c));
+            let want = (a + c * sn) * sn / cs - c * (1.0 - cs);
+            for (x, y) in [(0.0, 0.0), (0.0, 37.0)] {
+                let got = dc.drop(x, y).unwrap() - z(x);
+                assert!((got - want).abs() < 1e-9, "{deg}°: {got} vs {want}");
+            }
+        }
+    }
+
+    #[test]
+    fn bull_is_the_highest_need_over_the_triangle() {
+        // Brute force: the tip each point of the triangle needs (its
+        // height less the tool's rise at its distance from the axis,
+        // `Cutter::height_at`), at 240 × 240 points of the triangle; the
+        // exact drop is never below any of them and within the sampling's
+        // reach of the highest.
+        let mut seed = 777u64;
+        let mut rnd = || {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            ((seed >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
+        };
+        let mut checked = 0;
+        for _ in 0..100 {
+            let t = [
+                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+            ];
+            let m = Mesh {
+                vertices: t.to_vec(),
+                triangles: vec![[0, 1, 2]],
+            };
+            let r = 6.0 + 6.0 * rnd().abs();
+            let cutter = Cutter::bull(2.0 * r, r * (0.2 + 0.5 * rnd().abs()));
+            let dc = DropCutter::new(&[&m], cutter);
+            for _ in 0..4 {
+                let (x, y) = (rnd() * 25.0, rnd() * 25.0);
+                let n = 240;
+                let mut want = f64::NEG_INFINITY;
+                for i in 0..=n {
+                    for j in 0..=(n - i) {
+                        let (u, v) = (i as f64 / n as f64, j as f64 / n as f64);
+                        let w = 1.0 - u - v;
+                        let p: Vec<f64> = (0..3)
+                            .map(|k| w * t[0][k] + u * t[1][k] + v * t[2][k])
+                            .collect();
+                        let d = (p[0] - x).hypot(p[1] - y);
+                        if let Some(h) = cutter.height_at(d) {
+                            want = want.max(p[2] - h);
+                        }
+                    }
+                }
+                match dc.drop(x, y) {
+                    Some(got) => {
+                        assert!(got >= want - 1e-6, "{got} below {want}");
+                        assert!(got - want < 0.05, "{got} vs {want}");
+                        checked += 1;
+                    }
+                    None => assert!(want == f64::NEG_INFINITY, "missed {want}"),
+                }
+            }
+        }
+        assert!(checked > 100, "{checked}");
     }
 
     fn uv_sphere(r: f64, nu: usize, nv: usize) -> Mesh {

@@ -327,7 +327,7 @@ fn within_limits(p: &Placement, job: &Job) -> Result<(), CamError> {
         )));
     }
     let fin = &job.finishing;
-    let s = paths::scallop_stepover(fin.pass.tool.cutter.radius, fin.scallop)
+    let s = paths::scallop_stepover(fin.pass.tool.cutter.corner, fin.scallop)
         * fin.steep_angle.to_radians().cos();
     let along = 0.5f64.min(s / 2.0);
     let r = fin.pass.tool.cutter.radius + 1.0;

@@ -87,16 +87,30 @@ impl JobReader<'_> {
             },
         };
         let at = |s: &Option<Spanned<u32>>| s.as_ref().map_or(self.top, |s| s.referenced);
-        if which.ball() && tool.cutter.kind != ToolKind::Ball {
+        // Finishing may name a bull-nose (wide steps on a flat bottom);
+        // the rails always take a ball, which reaches down the rail.
+        let fits = match which {
+            Strategy::Finishing => tool.cutter.kind != ToolKind::Flat,
+            Strategy::Rails => tool.cutter.kind == ToolKind::Ball,
+            _ => true,
+        };
+        if !fits {
+            let (needs, hint) = match which {
+                Strategy::Finishing => (
+                    "a ball-end or bull-nose tool",
+                    "name a ball-end or bull-nose tool",
+                ),
+                _ => ("a ball-end tool", "name a ball-end tool"),
+            };
             return self.r.fail(
                 &at(&spec.tool),
                 &f("tool"),
                 format!(
-                    "T{} is a {} tool; {name} needs a ball-end tool",
+                    "T{} is a {} tool; {name} needs {needs}",
                     tool.id,
                     tool.cutter.kind.name()
                 ),
-                "name a ball-end tool",
+                hint,
             );
         }
         if !which.ball() && tool.cutter.kind == ToolKind::Ball {

@@ -5,6 +5,7 @@
 
 use super::*;
 use crate::geom::dropcutter::DropCutter;
+use crate::model::machine::ToolKind;
 use crate::model::toolpath::{Step, Toolpath};
 
 /// The finishing paths of a setup: the parallel passes (and, with one
@@ -21,7 +22,11 @@ pub(super) fn finishing(ctx: &Ctx, dc: &DropCutter) -> (Vec<Toolpath>, usize) {
     // part (not the floor round it) holds it up.
     let gentle_only = fin.rails.is_some();
     let (passes, mut positions) = parallel(ctx, dc, gentle_only);
-    let stepover = scallop_stepover(cutter.radius, fin.scallop);
+    // Passes this near are joined along the surface.
+    let stepover = match cutter.kind {
+        ToolKind::Ball => scallop_stepover(cutter.radius, fin.scallop),
+        _ => slope_stepover(&cutter, fin.scallop, 1.0),
+    };
     let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
     let mut at: Option<[f64; 3]> = None;
     for runs in passes {

@@ -22,7 +22,7 @@ use finish::*;
 use levels::*;
 use raster::*;
 use refine::resample;
-pub use refine::{refine, scallop_stepover, simplify};
+pub use refine::{refine, scallop_stepover, simplify, slope_stepover};
 use rough::*;
 
 /// Everything a setup cuts, tool by tool.
@@ -329,6 +329,43 @@ mod tests {
         let s = scallop_stepover(r, h);
         let cusp = r - (r * r - (s / 2.0).powi(2)).sqrt();
         assert!((cusp - h).abs() < 1e-12);
+    }
+
+    #[test]
+    fn slope_stepover_matches_the_ball_and_the_bull_on_the_flat() {
+        use crate::model::machine::Cutter;
+        // A ball on a face tilted φ: the chord 2·√(2Rh − h²) along the face
+        // (circle geometry: the cusp is the same on any plane), cos φ of it
+        // in plan.
+        let (d, h) = (50.8, 0.25);
+        for deg in [0.0f64, 10.0, 30.0, 45.0, 70.0] {
+            let cos = deg.to_radians().cos();
+            let got = slope_stepover(&Cutter::ball(d), h, cos);
+            let want = scallop_stepover(d / 2.0, h) * cos;
+            assert!((got - want).abs() < 1e-6, "{deg}°: {got} vs {want}");
+        }
+        // A bull-nose on the flat: its flat's diameter plus its corner's
+        // chord (the flats overlap, the corners leave the cusp).
+        let c = 6.35;
+        let bull = Cutter::bull(d, c);
+        let got = slope_stepover(&bull, h, 1.0);
+        let want = d - 2.0 * c + scallop_stepover(c, h);
+        assert!((got - want).abs() < 1e-6, "{got} vs {want}");
+        // Tilted past the flat's reach it leaves what its corner leaves:
+        // on a face tilted φ the flat's far edge stands (d − 2c)·sin φ
+        // off it, so by a few degrees the corner's chord rules.
+        let cos = 20f64.to_radians().cos();
+        let got = slope_stepover(&bull, h, cos);
+        let want = scallop_stepover(c, h) * cos;
+        assert!((got - want).abs() < 1e-6, "{got} vs {want}");
+        // A flat end tilted 1°: each pass's tilted bottom leaves a step
+        // s·tan φ high at the last one's rim, s·sin φ square to the face
+        // (geometry), so s = h / sin φ.
+        let flat = Cutter::flat(d);
+        let s1 = 1f64.to_radians();
+        let got = slope_stepover(&flat, h, s1.cos());
+        let want = h / s1.sin();
+        assert!((got - want).abs() < 1e-6, "{got} vs {want}");
     }
 
     #[test]

@@ -3,6 +3,7 @@
 
 use super::*;
 use crate::geom::dropcutter::DropCutter;
+use crate::model::machine::{Cutter, ToolKind};
 use rayon::prelude::*;
 
 /// One pass of the raster: its Y at each sample along X and where the
@@ -45,7 +46,8 @@ pub(super) fn parallel(
 ) -> (Vec<Vec<Vec<[f64; 3]>>>, usize) {
     let fin = &ctx.job.finishing;
     let r = dc.cutter().radius;
-    let s = scallop_stepover(r, fin.scallop);
+    let spacing = Spacing::new(dc.cutter(), fin.scallop);
+    let s = spacing.step(1.0);
     // Samples 1 mm apart: the ball's height along a pass bends no tighter
     // than the ball (radius R over a sharp edge), so a chord sags at most
     // L²/8R = 0.02 mm below it there for R = 6.35 mm (geometry: the
@@ -66,8 +68,8 @@ pub(super) fn parallel(
         gentle_only,
         cos: fin.steep_angle.to_radians().cos(),
         reach,
-        s,
-        least: s * MAX_SLOPE.to_radians().cos(),
+        least: spacing.step(MAX_SLOPE.to_radians().cos()),
+        spacing,
         widen: (r / along).ceil() as usize,
         xs: (0..n_along)
             .map(|k| (x0 + k as f64 * along).min(x1))
@@ -150,8 +152,8 @@ struct Raster<'a> {
     cos: f64,
     /// How far outside the silhouette the ball is still sampled.
     reach: f64,
-    /// The scallop's stepover.
-    s: f64,
+    /// The scallop's stepover at each slope.
+    spacing: Spacing,
     /// The step at the steepest face spaced for ([`MAX_SLOPE`]).
     least: f64,
     /// Samples within a ball's radius along X.
@@ -187,14 +189,14 @@ impl Raster<'_> {
     /// last two passes (flat from the stringer's pass); where it grew, the
     /// balls stand too far apart and the samples move in.
     fn next(&mut self, prev: &Row, before: Option<&Row>, dir: f64) -> Row {
-        let s = self.s;
+        let s = self.spacing.step(1.0);
         let last = bridged(&prev.at, BRIDGE);
         let earlier = before.map(|b| bridged(&b.at, BRIDGE));
         let step: Vec<f64> = (0..self.xs.len())
             .map(|k| match (last[k], earlier.as_ref().and_then(|b| b[k])) {
                 (Some(a), Some(b)) => {
                     let cos = (a[1] - b[1]).abs() / (a[1] - b[1]).hypot(a[2] - b[2]);
-                    (s * cos).max(self.least)
+                    self.spacing.step(cos).max(self.least)
                 }
                 // From the stringer's pass, or where the last pass did
                 // not cut (off the part, or a sample it left out): the
@@ -220,17 +222,16 @@ impl Raster<'_> {
         mut step: Vec<f64>,
         dir: f64,
     ) {
-        let (s, n_along) = (self.s, self.xs.len());
+        let (edge, n_along) = (self.spacing.edge, self.xs.len());
         for _ in 0..2 {
             let mut redo = vec![false; n_along];
             let now = bridged(&row.at, BRIDGE);
             for k in 0..n_along {
                 match (last[k], now[k]) {
                     (Some(a), Some(b)) => {
-                        let d = (b[1] - a[1]).hypot(b[2] - a[2]);
-                        if d > s * 1.001 {
+                        if let Some((want, have)) = self.spacing.too_far(a, b) {
                             redo[k] = true;
-                            step[k] = (step[k] * s / d).max(self.least);
+                            step[k] = (step[k] * want / have).max(self.least);
                         }
                     }
                     // Where only one of the two cuts near the rail (the
@@ -240,13 +241,13 @@ impl Raster<'_> {
                     // concave, not an edge): half the stepover, so the
                     // last pass that cuts stands within s / 2 of the edge
                     // and the flat it leaves there holds the scallop,
-                    // r − √(r² − s²/4) = h.
+                    // r − √(r² − s²/4) = h (r the corner's radius).
                     (None, Some(_)) | (Some(_), None)
-                        if step[k] > 0.5 * s + 1e-9
+                        if step[k] > edge + 1e-9
                             && self.ctx.inside.at([self.xs[k], row.y[k]]) <= RAIL_BAND =>
                     {
                         redo[k] = true;
-                        step[k] = 0.5 * s;
+                        step[k] = edge;
                     }
                     _ => {}
                 }
@@ -270,6 +271,78 @@ impl Raster<'_> {
             for (k, y, at) in fresh {
                 row.y[k] = y;
                 row.at[k] = at;
+            }
+        }
+    }
+}
+
+/// The stepover between passes on a face as steep as the chord between
+/// two neighbouring cutter positions says: for a ball the scallop's
+/// stepover along the face (the cusp between two balls depends only on
+/// how far apart they stand: circle geometry); for a bull-nose or a flat
+/// end, [`slope_stepover`] tabulated every quarter degree (a flat bottom
+/// takes wide steps on the flat and its corner's on a slope).
+struct Spacing {
+    /// The stepover on the flat.
+    flat: f64,
+    /// For other tools than a ball, the stepover in plan at each quarter
+    /// degree of slope from 0 to [`MAX_SLOPE`].
+    table: Option<Vec<f64>>,
+    /// Half the corner's chord: how near the last pass that cuts stands to
+    /// the edge of what the tool takes.
+    edge: f64,
+}
+
+/// Slope steps of [`Spacing`]'s table, per degree.
+const TABLE_PER_DEGREE: f64 = 4.0;
+
+impl Spacing {
+    fn new(cutter: Cutter, h: f64) -> Spacing {
+        let edge = 0.5 * scallop_stepover(cutter.corner, h);
+        if cutter.kind == ToolKind::Ball {
+            return Spacing {
+                flat: scallop_stepover(cutter.radius, h),
+                table: None,
+                edge,
+            };
+        }
+        let n = (MAX_SLOPE * TABLE_PER_DEGREE).ceil() as usize;
+        let table: Vec<f64> = (0..=n)
+            .map(|k| slope_stepover(&cutter, h, (k as f64 / TABLE_PER_DEGREE).to_radians().cos()))
+            .collect();
+        Spacing {
+            flat: table[0],
+            table: Some(table),
+            edge,
+        }
+    }
+
+    /// The stepover in plan on a face whose slope across the passes has
+    /// cosine `cos`; from the table, the lesser of the two neighbouring
+    /// entries.
+    fn step(&self, cos: f64) -> f64 {
+        match &self.table {
+            None => self.flat * cos,
+            Some(t) => {
+                let at = cos.clamp(-1.0, 1.0).acos().to_degrees() * TABLE_PER_DEGREE;
+                let k = (at.floor() as usize).min(t.len() - 1);
+                t[k].min(t[(k + 1).min(t.len() - 1)])
+            }
+        }
+    }
+
+    /// Where the positions `a` (last pass) and `b` (this one) stand too
+    /// far apart for the scallop, the spacing wanted and the one they
+    /// have (for a ball along the face, else in plan): the step scales by
+    /// their ratio.
+    fn too_far(&self, a: [f64; 3], b: [f64; 3]) -> Option<(f64, f64)> {
+        let d = (b[1] - a[1]).hypot(b[2] - a[2]);
+        match &self.table {
+            None => (d > self.flat * 1.001).then_some((self.flat, d)),
+            Some(_) => {
+                let dy = (b[1] - a[1]).abs();
+                let want = self.step(dy / d);
+                (dy > want * 1.001).then_some((want, dy))
             }
         }
     }

@@ -2,6 +2,7 @@
 //! would dig in, simplified where it would not; the scallop stepover.
 
 use super::*;
+use crate::model::machine::Cutter;
 
 pub(super) fn resample(points: &[[f64; 2]], step: f64, closed: bool) -> Vec<[f64; 2]> {
     let mut out = vec![points[0]];
@@ -34,6 +35,63 @@ pub(super) fn resample(points: &[[f64; 2]], step: f64, closed: bool) -> Vec<[f64
 /// circle of radius r at depth h).
 pub fn scallop_stepover(r: f64, h: f64) -> f64 {
     2.0 * (2.0 * r * h - h * h).max(0.0).sqrt()
+}
+
+/// Stepover in plan across parallel passes on a face tilted φ across them
+/// (`cos` = cos φ) for any cutter to leave cusps `h` high, measured square
+/// to the face. Across the passes the cutter is its profile
+/// ([`Cutter::height_at`]); over the face z = y·tan φ it stands `g(y) =
+/// height(|y|) − y·tan φ` above it at offset y, least at the contact, y* =
+/// a + c·sin φ (flat radius a, corner c). The next pass, s farther, stands
+/// g(y − s) there, and the cusp is where the two meet, above the least by
+/// the cusp's height over the face (g rises beyond y*, so the meeting is
+/// found by bisection, and so is the largest s whose cusp is h; a flat
+/// end's rim is a step, where the cusp is the step). For a
+/// ball this is the chord of [`scallop_stepover`] times cos φ; for a
+/// bull-nose on the flat, the chord of its corner plus its flat's
+/// diameter (both checked in the tests).
+pub fn slope_stepover(cutter: &Cutter, h: f64, cos: f64) -> f64 {
+    let (r, c) = (cutter.radius, cutter.corner);
+    let a = r - c;
+    let cos = cos.clamp(1e-6, 1.0);
+    let sin = (1.0 - cos * cos).sqrt();
+    let tan = sin / cos;
+    let g = |y: f64| {
+        cutter
+            .height_at(y.abs())
+            .map_or(f64::INFINITY, |z| z - y * tan)
+    };
+    let y0 = a + c * sin;
+    let g0 = g(y0);
+    // The cusp's height square to the face with the next pass s away.
+    let cusp = |s: f64| {
+        let (mut lo, mut hi) = (y0, y0 + s);
+        for _ in 0..60 {
+            let m = 0.5 * (lo + hi);
+            if g(m) < g(m - s) {
+                lo = m;
+            } else {
+                hi = m;
+            }
+        }
+        // Both ends of the bracket: a flat end's rim is a step, where the
+        // two do not meet but one gives way to the other.
+        let top = g(lo).min(g(lo - s)).max(g(hi).min(g(hi - s)));
+        (top - g0) * cos
+    };
+    let (mut lo, mut hi) = (0.0, 2.0 * r * 0.999);
+    if cusp(hi) <= h {
+        return hi;
+    }
+    for _ in 0..60 {
+        let m = 0.5 * (lo + hi);
+        if cusp(m) <= h {
+            lo = m;
+        } else {
+            hi = m;
+        }
+    }
+    lo
 }
 
 /// Refines a run of dropped points so no straight move between neighbours
