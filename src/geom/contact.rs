@@ -1,7 +1,8 @@
 //! The exact contact of a tool lowered along a vertical line with one
 //! triangle: a ball against the face, its edges (a cylinder about each)
-//! and its corners; a flat end against the face, edges and corners.
-//! The drop-cutter takes the highest over its candidates.
+//! and its corners; a flat end against the face, edges and corners; a
+//! bull-nose against the face and along each edge (its corners are the
+//! edges' ends). The drop-cutter takes the highest over its candidates.
 
 /// A triangle made ready for the contact tests.
 #[derive(Debug, Clone, Copy)]
