@@ -13,6 +13,8 @@
 //! centroids cannot bound long triangles, and a board mesh is made of long
 //! strips along the stringer; the grid bounds them exactly.)
 
+use std::sync::Arc;
+
 use rayon::prelude::*;
 
 use crate::geom::contact::{Tri, ball_touch, bull_touch, flat_touch};
@@ -38,76 +40,41 @@ fn f32_toward(v: f64, down: bool) -> f32 {
     }
 }
 
-/// A mesh prepared for dropping one cutter.
-#[derive(Debug, Clone)]
-pub struct DropCutter {
-    cutter: Cutter,
-    /// In the mesh's order, which keeps neighbours near in memory.
+/// Meshes' triangles made ready for dropping any cutter: each one's
+/// plane, edges and bounds, and the order highest first. Built once for a
+/// mesh and shared by the drop-cutters of every tool on it.
+#[derive(Debug)]
+pub struct Prepared {
+    /// In the meshes' order, which keeps neighbours near in memory.
     tris: Vec<Tri>,
     bounds: Vec<Bound>,
-    origin: [f64; 2],
-    cell: f64,
-    dims: [usize; 2],
-    /// Start of each bucket in `items` (dims[0] * dims[1] + 1 entries).
-    starts: Vec<u32>,
-    items: Vec<u32>,
+    /// Triangle indices by highest corner, highest first (then in order).
+    order: Vec<u32>,
+    /// The plan box of every corner.
+    lo: [f64; 2],
+    hi: [f64; 2],
 }
 
-impl DropCutter {
-    /// Indexes `meshes` (all together) for `cutter`.
-    pub fn new(meshes: &[&Mesh], cutter: Cutter) -> DropCutter {
-        let r = cutter.radius;
-        let mut tris = Vec::new();
-        for mesh in meshes {
-            for t in &mesh.triangles {
-                let p = mesh.corners(t);
-                let e1 = sub(p[1], p[0]);
-                let e2 = sub(p[2], p[0]);
-                let mut n = cross(e1, e2);
-                let len = norm(n);
-                if len.is_nan() || len <= 0.0 {
-                    continue;
-                }
-                n = [n[0] / len, n[1] / len, n[2] / len];
-                if n[2] < 0.0 {
-                    n = [-n[0], -n[1], -n[2]];
-                }
-                let zmax = p[0][2].max(p[1][2]).max(p[2][2]);
-                let bb = [
-                    p[0][0].min(p[1][0]).min(p[2][0]),
-                    p[0][1].min(p[1][1]).min(p[2][1]),
-                    p[0][0].max(p[1][0]).max(p[2][0]),
-                    p[0][1].max(p[1][1]).max(p[2][1]),
-                ];
-                let edge = |k: usize| {
-                    let u = sub(p[(k + 1) % 3], p[k]);
-                    let len = norm(u);
-                    if len.is_nan() || len <= 0.0 {
-                        return ([0.0; 3], 0.0, 0.0);
-                    }
-                    let u = [u[0] / len, u[1] / len, u[2] / len];
-                    (u, len, 1.0 - u[2] * u[2])
-                };
-                let edges = [edge(0), edge(1), edge(2)];
-                tris.push(Tri {
-                    bb,
-                    p,
-                    edges,
-                    n,
-                    zmax,
-                });
-            }
-        }
-        // Buckets filled highest first (a total order: height, then input
-        // order, so the unstable sort is deterministic) come out sorted by
-        // height without a sort of their own.
-        let mut order: Vec<u32> = (0..tris.len() as u32).collect();
-        order.sort_unstable_by(|&a, &c| {
-            tris[c as usize]
-                .zmax
-                .total_cmp(&tris[a as usize].zmax)
-                .then(a.cmp(&c))
-        });
+impl Prepared {
+    /// Prepares `meshes` (all together).
+    pub fn new(meshes: &[&Mesh]) -> Prepared {
+        let all: Vec<(&Mesh, &[u32; 3])> = meshes
+            .iter()
+            .flat_map(|m| m.triangles.iter().map(move |t| (*m, t)))
+            .collect();
+        let tris: Vec<Tri> = all
+            .par_iter()
+            .filter_map(|(mesh, t)| prepare(mesh.corners(t)))
+            .collect();
+        // A total order (height, then input order), so the unstable sort
+        // is deterministic.
+        let mut keys: Vec<(f64, u32)> = tris
+            .iter()
+            .enumerate()
+            .map(|(i, t)| (t.zmax, i as u32))
+            .collect();
+        keys.par_sort_unstable_by(|a, c| c.0.total_cmp(&a.0).then(a.1.cmp(&c.1)));
+        let order = keys.into_iter().map(|(_, i)| i).collect();
         let bounds: Vec<Bound> = tris
             .iter()
             .map(|t| Bound {
@@ -123,15 +90,85 @@ impl DropCutter {
         let mut lo = [f64::INFINITY; 2];
         let mut hi = [f64::NEG_INFINITY; 2];
         for t in &tris {
-            for q in &t.p {
-                lo = [lo[0].min(q[0]), lo[1].min(q[1])];
-                hi = [hi[0].max(q[0]), hi[1].max(q[1])];
-            }
+            lo = [lo[0].min(t.bb[0]), lo[1].min(t.bb[1])];
+            hi = [hi[0].max(t.bb[2]), hi[1].max(t.bb[3])];
         }
         if tris.is_empty() {
             lo = [0.0, 0.0];
             hi = [1.0, 1.0];
         }
+        Prepared {
+            tris,
+            bounds,
+            order,
+            lo,
+            hi,
+        }
+    }
+}
+
+/// A triangle made ready for the contact tests (none when degenerate).
+fn prepare(p: [[f64; 3]; 3]) -> Option<Tri> {
+    let e1 = sub(p[1], p[0]);
+    let e2 = sub(p[2], p[0]);
+    let mut n = cross(e1, e2);
+    let len = norm(n);
+    if len.is_nan() || len <= 0.0 {
+        return None;
+    }
+    n = [n[0] / len, n[1] / len, n[2] / len];
+    if n[2] < 0.0 {
+        n = [-n[0], -n[1], -n[2]];
+    }
+    let zmax = p[0][2].max(p[1][2]).max(p[2][2]);
+    let bb = [
+        p[0][0].min(p[1][0]).min(p[2][0]),
+        p[0][1].min(p[1][1]).min(p[2][1]),
+        p[0][0].max(p[1][0]).max(p[2][0]),
+        p[0][1].max(p[1][1]).max(p[2][1]),
+    ];
+    let edge = |k: usize| {
+        let u = sub(p[(k + 1) % 3], p[k]);
+        let len = norm(u);
+        if len.is_nan() || len <= 0.0 {
+            return ([0.0; 3], 0.0, 0.0);
+        }
+        let u = [u[0] / len, u[1] / len, u[2] / len];
+        (u, len, 1.0 - u[2] * u[2])
+    };
+    let edges = [edge(0), edge(1), edge(2)];
+    Some(Tri {
+        bb,
+        p,
+        edges,
+        n,
+        zmax,
+    })
+}
+
+/// A mesh prepared for dropping one cutter.
+#[derive(Debug, Clone)]
+pub struct DropCutter {
+    cutter: Cutter,
+    prep: Arc<Prepared>,
+    origin: [f64; 2],
+    cell: f64,
+    dims: [usize; 2],
+    /// Start of each bucket in `items` (dims[0] * dims[1] + 1 entries).
+    starts: Vec<u32>,
+    items: Vec<u32>,
+}
+
+impl DropCutter {
+    /// Indexes `meshes` (all together) for `cutter`.
+    pub fn new(meshes: &[&Mesh], cutter: Cutter) -> DropCutter {
+        DropCutter::on(Arc::new(Prepared::new(meshes)), cutter)
+    }
+
+    /// Indexes meshes already prepared for `cutter`.
+    pub fn on(prep: Arc<Prepared>, cutter: Cutter) -> DropCutter {
+        let r = cutter.radius;
+        let (lo, hi) = (prep.lo, prep.hi);
         let origin = [lo[0] - r, lo[1] - r];
         let span = [hi[0] - lo[0] + 2.0 * r, hi[1] - lo[1] + 2.0 * r];
         // About 4 buckets per tool diameter, at most ~4 M buckets.
@@ -146,11 +183,7 @@ impl DropCutter {
             (span[1] / cell).ceil().max(1.0) as usize,
         ];
         let bucket_range = |t: &Tri| {
-            let (mut a, mut b) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
-            for q in &t.p {
-                a = [a[0].min(q[0]), a[1].min(q[1])];
-                b = [b[0].max(q[0]), b[1].max(q[1])];
-            }
+            let (a, b) = ([t.bb[0], t.bb[1]], [t.bb[2], t.bb[3]]);
             let i0 = (((a[0] - r - origin[0]) / cell).floor().max(0.0) as usize).min(dims[0] - 1);
             let i1 = (((b[0] + r - origin[0]) / cell).floor().max(0.0) as usize).min(dims[0] - 1);
             let j0 = (((a[1] - r - origin[1]) / cell).floor().max(0.0) as usize).min(dims[1] - 1);
@@ -159,7 +192,7 @@ impl DropCutter {
         };
         let nb = dims[0] * dims[1];
         let mut counts = vec![0u32; nb + 1];
-        for t in &tris {
+        for t in &prep.tris {
             let (i0, i1, j0, j1) = bucket_range(t);
             for j in j0..=j1 {
                 for i in i0..=i1 {
@@ -171,10 +204,12 @@ impl DropCutter {
             counts[k + 1] += counts[k];
         }
         let starts = counts.clone();
+        // Buckets filled highest first come out sorted by height without
+        // a sort of their own.
         let mut fill = counts;
         let mut items = vec![0u32; starts[nb] as usize];
-        for &ti in &order {
-            let (i0, i1, j0, j1) = bucket_range(&tris[ti as usize]);
+        for &ti in &prep.order {
+            let (i0, i1, j0, j1) = bucket_range(&prep.tris[ti as usize]);
             for j in j0..=j1 {
                 for i in i0..=i1 {
                     let b = j * dims[0] + i;
@@ -185,14 +220,18 @@ impl DropCutter {
         }
         DropCutter {
             cutter,
-            tris,
-            bounds,
+            prep,
             origin,
             cell,
             dims,
             starts,
             items,
         }
+    }
+
+    /// The prepared meshes, for another cutter's drop-cutter on them.
+    pub fn prepared(&self) -> Arc<Prepared> {
+        Arc::clone(&self.prep)
     }
 
     /// The cutter being dropped.
@@ -209,7 +248,7 @@ impl DropCutter {
     /// Like [`drop`](Self::drop), with the unit normal (up) of the
     /// triangle touched.
     pub fn drop_contact(&self, x: f64, y: f64) -> Option<(f64, [f64; 3])> {
-        self.touch(x, y).map(|(z, t)| (z, self.tris[t].n))
+        self.touch(x, y).map(|(z, t)| (z, self.prep.tris[t].n))
     }
 
     /// The highest touch at (x, y) and the triangle touched.
@@ -225,14 +264,14 @@ impl DropCutter {
         let kind = self.cutter.kind;
         let mut best = (f64::NEG_INFINITY, 0);
         for &ti in &self.items[self.starts[b] as usize..self.starts[b + 1] as usize] {
-            let bound = &self.bounds[ti as usize];
+            let bound = &self.prep.bounds[ti as usize];
             if bound.zmax as f64 <= best.0 {
                 break;
             }
             if !may_lift(bound, x, y, &self.cutter, best.0) {
                 continue;
             }
-            let t = &self.tris[ti as usize];
+            let t = &self.prep.tris[ti as usize];
             let z = match kind {
                 ToolKind::Ball => ball_touch(t, x, y, r, best.0),
                 ToolKind::Bull => bull_touch(t, x, y, r, self.cutter.corner, best.0),

@@ -36,7 +36,7 @@ pub(super) fn finishing(ctx: &Ctx, dc: &DropCutter) -> (Vec<Toolpath>, usize) {
     }
     // Z levels over the steep rail band.
     let (rail_pass, rail_scallop) = fin.rail_tool();
-    let rail_dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), rail_pass.tool.cutter);
+    let rail_dc = ctx.drop_cutter(rail_pass.tool.cutter);
     // With a ball of its own the rail band starts 10° below the steep
     // angle, overlapping the finishing ball's last passes.
     let start = if gentle_only {

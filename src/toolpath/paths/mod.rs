@@ -8,12 +8,12 @@ mod raster;
 mod refine;
 mod rough;
 
-use crate::geom::dropcutter::DropCutter;
+use crate::geom::dropcutter::{DropCutter, Prepared};
+use std::sync::Arc;
 use crate::geom::field::{self, Field};
 use crate::geom::zmap::{Sweep, ZMap};
 use crate::model::job::{Holding, Job};
 use crate::model::machine::Cutter;
-use crate::model::mesh::Mesh;
 use crate::model::toolpath::{Step, Toolpath};
 use crate::toolpath::setup::{Placement, Side};
 use rayon::prelude::*;
@@ -44,7 +44,8 @@ struct Ctx<'a> {
     place: &'a Placement,
     job: &'a Job,
     side: Side,
-    guard: Vec<Mesh>,
+    /// The part's and the tabs' triangles made ready once for every tool's drop-cutter.
+    prepared: Arc<Prepared>,
     clear: f64,
     /// Distance from the part's plan silhouette (0 inside), 1 mm grid.
     outside: Field,
@@ -63,6 +64,11 @@ fn lerp3(a: [f64; 3], b: [f64; 3], t: f64) -> [f64; 3] {
 }
 
 impl Ctx<'_> {
+    /// `cutter`'s drop-cutter on the part and the tabs.
+    fn drop_cutter(&self, cutter: Cutter) -> DropCutter {
+        DropCutter::on(Arc::clone(&self.prepared), cutter)
+    }
+
     fn floor(&self, x: f64) -> f64 {
         self.place.floor_at(self.side, x, self.job.overlap)
     }
@@ -193,11 +199,12 @@ pub fn setup_paths(
     let b = &place.block;
     let stock = ZMap::of_stock(b, side == Side::Deck, 1.0, b.allowance())
         .expect("a block within the machine fits a 1 mm map");
+    let prepared = Arc::new(Prepared::new(&guard.iter().collect::<Vec<_>>()));
     let ctx = Ctx {
         place,
         job,
         side,
-        guard,
+        prepared,
         clear: clearance,
         outside,
         inside,
@@ -210,10 +217,7 @@ pub fn setup_paths(
     }
     // The finishing ball's drop-cutter, built once: the roughing asks it
     // where the ball can take the foam itself, then the ball runs on it.
-    let ball = DropCutter::new(
-        &ctx.guard.iter().collect::<Vec<_>>(),
-        job.finishing.pass.tool.cutter,
-    );
+    let ball = ctx.drop_cutter(job.finishing.pass.tool.cutter);
     progress("roughing");
     let rough = roughing(&ctx, &ball);
     ctx.cut(&rough);

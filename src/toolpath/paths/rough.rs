@@ -105,10 +105,7 @@ pub(super) fn roughing(ctx: &Ctx, ball: &DropCutter) -> Toolpath {
     // the farthest a path point can be from a grid node, so every point of
     // every path is at least the stock to leave away from the part.
     let grow = pass.leave + std::f64::consts::FRAC_1_SQRT_2 * cell;
-    let dc = DropCutter::new(
-        &ctx.guard.iter().collect::<Vec<_>>(),
-        Cutter::flat(2.0 * (r + grow)),
-    );
+    let dc = ctx.drop_cutter(Cutter::flat(2.0 * (r + grow)));
     let nodes = grid.nodes();
     let floor: Vec<f64> = nodes.iter().map(|p| ctx.floor(p[0])).collect();
     let high: Vec<f64> = dc
@@ -480,7 +477,7 @@ pub(super) fn outline(ctx: &Ctx) -> Toolpath {
     // The distance field measures to the nearest grid node inside the
     // outline; the outline itself may lie up to a node spacing beyond it.
     let loops = field::contours(&ctx.outside, r + 0.6 + ctx.outside.cell);
-    let dc = DropCutter::new(&ctx.guard.iter().collect::<Vec<_>>(), pass.tool.cutter);
+    let dc = ctx.drop_cutter(pass.tool.cutter);
     let mut steps = vec![Step::Rapid([0.0, 0.0, ctx.clear])];
     for l in loops.into_iter().filter(|l| l.closed && l.points.len() > 8) {
         let l = orient(l, pass.climb);
