@@ -9,7 +9,6 @@ mod refine;
 mod rough;
 
 use crate::geom::dropcutter::{DropCutter, Prepared};
-use std::sync::Arc;
 use crate::geom::field::{self, Field};
 use crate::geom::zmap::{Sweep, ZMap};
 use crate::model::job::{Holding, Job};
@@ -17,6 +16,7 @@ use crate::model::machine::Cutter;
 use crate::model::toolpath::{Step, Toolpath};
 use crate::toolpath::setup::{Placement, Side};
 use rayon::prelude::*;
+use std::sync::Arc;
 
 use finish::*;
 use levels::*;
