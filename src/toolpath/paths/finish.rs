@@ -143,8 +143,11 @@ pub(super) fn link(
         let travel = ctx.link_z(from, s, r).max(from[2]);
         steps.push(Step::Rapid([from[0], from[1], travel]));
         steps.push(Step::Rapid([s[0], s[1], travel]));
-        // Stop 2 mm above the stock the roughing left under the tool.
-        let top = ctx.stock_top(s[0], s[1], r + 1.0);
+        // Down at rapid to 2 mm above where the tool would first meet the
+        // stock left under it (its own shape: a ball beside a wall meets
+        // the wall with its rim, high up), then into the foam at the
+        // plunge feed.
+        let top = ctx.first_touch(s[0], s[1], &dc.cutter());
         steps.push(Step::Rapid([s[0], s[1], top.max(s[2]) + 2.0]));
         steps.push(Step::Plunge(s));
     }

@@ -113,6 +113,39 @@ impl Ctx<'_> {
         top
     }
 
+    /// The tip height at which `cutter`, lowered at (x, y), first meets
+    /// the stock the paths so far have left: over every cell within its
+    /// radius, the cell's top less the tool's rise at the cell's nearest
+    /// point (its profile, [`Cutter::height_at`]: a ball's rim meets foam
+    /// beside it higher than its tip meets foam under it); −∞ over none.
+    /// The cell's top stands anywhere in the cell, so this is never below
+    /// the true first touch on the map.
+    fn first_touch(&self, x: f64, y: f64, cutter: &Cutter) -> f64 {
+        let r = cutter.radius;
+        let map = self.stock.read().expect("not poisoned");
+        let (c, o, [nx, ny]) = (map.cell, map.origin, map.dims);
+        let i0 = (((x - r - o[0]) / c[0]).floor().max(0.0) as usize).min(nx - 1);
+        let i1 = (((x + r - o[0]) / c[0]).ceil().max(0.0) as usize).min(nx - 1);
+        let j0 = (((y - r - o[1]) / c[1]).floor().max(0.0) as usize).min(ny - 1);
+        let j1 = (((y + r - o[1]) / c[1]).ceil().max(0.0) as usize).min(ny - 1);
+        let mut top = f64::NEG_INFINITY;
+        for j in j0..=j1 {
+            for i in i0..=i1 {
+                let k = j * nx + i;
+                if map.top[k] <= map.bottom[k] {
+                    continue;
+                }
+                let m = map.centre(i, j);
+                let dx = ((x - m[0]).abs() - c[0] / 2.0).max(0.0);
+                let dy = ((y - m[1]).abs() - c[1] / 2.0).max(0.0);
+                if let Some(rise) = cutter.height_at((dx * dx + dy * dy).sqrt()) {
+                    top = top.max(map.top[k] as f64 - rise);
+                }
+            }
+        }
+        top
+    }
+
     /// Top of the uncut stock at X in this setup, raised by the blank's
     /// allowance (0 all along for a flat block).
     fn stock_top_at(&self, x: f64) -> f64 {
