@@ -62,8 +62,12 @@ pub(super) fn finishing(ctx: &Ctx, dc: &DropCutter) -> (Vec<Toolpath>, usize) {
     }
     let from = at.unwrap_or([0.0, 0.0, ctx.clear]);
     at = None;
+    // A piece that starts within three stepovers of where the last ended
+    // (most often the next level down the rail, from the same place) is
+    // reached along the surface, as the parallel passes are; only a
+    // longer way lifts.
     for run in nearest_first(wl, from) {
-        link(&mut steps, ctx, &rail_dc, &mut at, &run, 0.0);
+        link(&mut steps, ctx, &rail_dc, &mut at, &run, 3.0 * rail_s);
     }
     steps.push(Step::Rapid(last_xy(&steps, ctx.clear)));
     paths.push(Toolpath {
