@@ -376,26 +376,38 @@ mod tests {
         Some(a - r)
     }
 
-    #[test]
-    fn ball_matches_brute_force_on_random_triangles() {
-        let mut seed = 12345u64;
-        let mut rnd = || {
+    /// Numbers in [−1, 1) from a 64-bit linear congruential generator
+    /// (Knuth's MMIX constants): the same every run.
+    fn lcg(mut seed: u64) -> impl FnMut() -> f64 {
+        move || {
             seed = seed
                 .wrapping_mul(6364136223846793005)
                 .wrapping_add(1442695040888963407);
             ((seed >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
+        }
+    }
+
+    /// A triangle within 20 mm of the origin in plan and 10 mm in height,
+    /// and a mesh of it alone.
+    fn random_triangle(rnd: &mut impl FnMut() -> f64) -> ([[f64; 3]; 3], Mesh) {
+        let t = [
+            [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+            [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+            [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+        ];
+        let m = Mesh {
+            vertices: t.to_vec(),
+            triangles: vec![[0, 1, 2]],
         };
+        (t, m)
+    }
+
+    #[test]
+    fn ball_matches_brute_force_on_random_triangles() {
+        let mut rnd = lcg(12345);
         let mut checked = 0;
         for _ in 0..300 {
-            let t = [
-                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
-                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
-                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
-            ];
-            let m = Mesh {
-                vertices: t.to_vec(),
-                triangles: vec![[0, 1, 2]],
-            };
+            let (t, m) = random_triangle(&mut rnd);
             let r = 3.0 + 3.0 * rnd().abs();
             let dc = DropCutter::new(&[&m], Cutter::ball(2.0 * r));
             for _ in 0..10 {
@@ -468,24 +480,10 @@ mod tests {
         // `Cutter::height_at`), at 240 × 240 points of the triangle; the
         // exact drop is never below any of them and within the sampling's
         // reach of the highest.
-        let mut seed = 777u64;
-        let mut rnd = || {
-            seed = seed
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            ((seed >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
-        };
+        let mut rnd = lcg(777);
         let mut checked = 0;
         for _ in 0..100 {
-            let t = [
-                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
-                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
-                [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
-            ];
-            let m = Mesh {
-                vertices: t.to_vec(),
-                triangles: vec![[0, 1, 2]],
-            };
+            let (t, m) = random_triangle(&mut rnd);
             let r = 6.0 + 6.0 * rnd().abs();
             let cutter = Cutter::bull(2.0 * r, r * (0.2 + 0.5 * rnd().abs()));
             let dc = DropCutter::new(&[&m], cutter);

@@ -93,24 +93,10 @@ impl Ctx<'_> {
         self.stock.write().expect("not poisoned").cut(&sweeps);
     }
 
-    /// Highest stock left under a tool of radius `r` at (x, y).
+    /// Highest stock left under a tool of radius `r` at (x, y) (every
+    /// cell of the square round it).
     fn stock_top(&self, x: f64, y: f64, r: f64) -> f64 {
-        let map = self.stock.read().expect("not poisoned");
-        let (c, o, [nx, ny]) = (map.cell, map.origin, map.dims);
-        let i0 = (((x - r - o[0]) / c[0]).floor().max(0.0) as usize).min(nx - 1);
-        let i1 = (((x + r - o[0]) / c[0]).ceil().max(0.0) as usize).min(nx - 1);
-        let j0 = (((y - r - o[1]) / c[1]).floor().max(0.0) as usize).min(ny - 1);
-        let j1 = (((y + r - o[1]) / c[1]).ceil().max(0.0) as usize).min(ny - 1);
-        let mut top = f64::NEG_INFINITY;
-        for j in j0..=j1 {
-            for i in i0..=i1 {
-                let k = j * nx + i;
-                if map.top[k] > map.bottom[k] {
-                    top = top.max(map.top[k] as f64);
-                }
-            }
-        }
-        top
+        self.highest_less(x, y, r, |_| Some(0.0))
     }
 
     /// The tip height at which `cutter`, lowered at (x, y), first meets
@@ -121,7 +107,14 @@ impl Ctx<'_> {
     /// The cell's top stands anywhere in the cell, so this is never below
     /// the true first touch on the map.
     fn first_touch(&self, x: f64, y: f64, cutter: &Cutter) -> f64 {
-        let r = cutter.radius;
+        self.highest_less(x, y, cutter.radius, |d| cutter.height_at(d))
+    }
+
+    /// Over the stock map's cells with foam in the square of half side `r`
+    /// round (x, y), the highest top less `rise` at the cell's nearest
+    /// point's distance from (x, y) (cells where `rise` gives none left
+    /// out).
+    fn highest_less(&self, x: f64, y: f64, r: f64, rise: impl Fn(f64) -> Option<f64>) -> f64 {
         let map = self.stock.read().expect("not poisoned");
         let (c, o, [nx, ny]) = (map.cell, map.origin, map.dims);
         let i0 = (((x - r - o[0]) / c[0]).floor().max(0.0) as usize).min(nx - 1);
@@ -138,8 +131,8 @@ impl Ctx<'_> {
                 let m = map.centre(i, j);
                 let dx = ((x - m[0]).abs() - c[0] / 2.0).max(0.0);
                 let dy = ((y - m[1]).abs() - c[1] / 2.0).max(0.0);
-                if let Some(rise) = cutter.height_at((dx * dx + dy * dy).sqrt()) {
-                    top = top.max(map.top[k] as f64 - rise);
+                if let Some(h) = rise((dx * dx + dy * dy).sqrt()) {
+                    top = top.max(map.top[k] as f64 - h);
                 }
             }
         }
