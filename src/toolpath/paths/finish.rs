@@ -1,7 +1,7 @@
-//! Ball-end finishing: the parallel passes (`raster`) over the deck and
-//! bottom, the Z levels (`levels`) on the steep rail band (with a smaller
-//! ball when the machine has one), their order and the links between
-//! passes.
+//! Finishing: the parallel passes (`raster`) over the deck and bottom
+//! with a ball or a bull-nose, the Z levels (`levels`) on the steep rail
+//! band (with a smaller ball when the machine has one), their order and
+//! the links between passes.
 
 use super::*;
 use crate::geom::dropcutter::DropCutter;
