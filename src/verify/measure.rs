@@ -220,12 +220,17 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
 ) -> DeviationMap {
     use rayon::prelude::*;
     let ray = DropCutter::new(&[design], Cutter::flat(0.0));
+    // The side's ball, on the design's triangles prepared for the ray.
+    let ball_dc = ball
+        .as_ref()
+        .map(|reach| DropCutter::on(ray.prepared(), Cutter::ball(2.0 * reach.r)));
     let [nx, ny] = map.dims;
-    let rows: Vec<(Vec<f32>, Vec<bool>)> = (0..ny)
+    let rows: Vec<(Vec<f32>, Vec<bool>, Vec<bool>)> = (0..ny)
         .into_par_iter()
         .map(|j| {
             let mut dev = Vec::with_capacity(nx);
             let mut stock = Vec::with_capacity(nx);
+            let mut unreachable = Vec::with_capacity(nx);
             for i in 0..nx {
                 let c = map.centre(i, j);
                 let k = j * nx + i;
@@ -234,7 +239,8 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
                 // A column cut away where the design has foam is a gouge
                 // down to the column's bottom.
                 let surface = if present { map.top[k] } else { map.bottom[k] } as f64;
-                dev.push(match ray.drop_contact(c[0], c[1]) {
+                let touch = ray.drop_contact(c[0], c[1]);
+                let d = match touch {
                     Some((z, n)) if n[2] < STEEP_NZ => near
                         .closest(to_design([c[0], c[1], surface]))
                         .map_or(f32::NAN, |h| {
@@ -242,23 +248,30 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
                         }),
                     Some((z, n)) => ((surface - z) * n[2]) as f32,
                     None => f32::NAN,
+                };
+                dev.push(d);
+                unreachable.push(match (&ball, &ball_dc, touch) {
+                    (Some(reach), Some(dc), Some(contact)) if d as f64 > REACH_CHECKED_MM => {
+                        out_of_reach(dc, reach, c, contact)
+                    }
+                    _ => false,
                 });
             }
-            (dev, stock)
+            (dev, stock, unreachable)
         })
         .collect();
     let mut deviation = Vec::with_capacity(nx * ny);
     let mut stock = Vec::with_capacity(nx * ny);
-    for (d, s) in rows {
+    let mut unreachable = Vec::with_capacity(nx * ny);
+    for (d, s, u) in rows {
         deviation.extend(d);
         stock.extend(s);
+        unreachable.extend(u);
     }
-    let unreachable = match ball {
-        Some(reach) if deviation.iter().any(|&d| d as f64 > REACH_CHECKED_MM) => {
-            out_of_reach(map, design, &ray, &deviation, &reach)
-        }
-        _ => vec![],
-    };
+    // Kept only where a ball finished the side and some cell was checked.
+    if ball.is_none() || !deviation.iter().any(|&d| d as f64 > REACH_CHECKED_MM) {
+        unreachable = vec![];
+    }
     DeviationMap {
         side,
         origin: map.origin,
@@ -275,88 +288,26 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
 /// rounding of the drop).
 const REACH_SLACK_MM: f64 = 0.02;
 
-/// Which cells with more than [`REACH_CHECKED_MM`] left a ball of radius
-/// `r` cannot touch: the ball resting on the design at the cell's point,
-/// its centre `r` out along the face's normal, is held higher by the rest
-/// of the design (a drop-cutter at that centre), or would need its tip
-/// below the floor. A convex surface is reachable everywhere above the
-/// floor; a notch or a corner tighter than the ball is not.
+/// Whether a cell with more than [`REACH_CHECKED_MM`] left is out of
+/// the reach of a ball of radius `r` (`dc`, its drop-cutter on the
+/// design): the ball resting on the design at the cell's point `c` (the
+/// design's `contact` under it: height and normal), its centre `r` out
+/// along the face's normal, is held higher by the rest of the design, or
+/// would need its tip below the floor. A convex surface is reachable
+/// everywhere above the floor; a notch or a corner tighter than the ball
+/// is not.
 fn out_of_reach<F: Fn(f64) -> f64 + Sync>(
-    map: &ZMap,
-    design: &Mesh,
-    ray: &DropCutter,
-    dev: &[f32],
+    dc: &DropCutter,
     reach: &Reach<F>,
-) -> Vec<bool> {
-    use rayon::prelude::*;
+    c: [f64; 2],
+    (z, n): (f64, [f64; 3]),
+) -> bool {
     let r = reach.r;
-    let nx = map.dims[0];
-    // Only the triangles within 2R of a cell to test can hold the ball up
-    // there: mark squares of side 2R round those cells, keep the triangles
-    // whose plan box meets a marked square.
-    let g = 2.0 * r;
-    let (ox, oy) = (map.origin[0] - g, map.origin[1] - g);
-    let gw = ((map.dims[0] as f64 * map.cell[0] + 2.0 * g) / g).ceil() as usize + 1;
-    let gh = ((map.dims[1] as f64 * map.cell[1] + 2.0 * g) / g).ceil() as usize + 1;
-    let mut marked = vec![false; gw * gh];
-    for (k, &d) in dev.iter().enumerate() {
-        if (d as f64) <= REACH_CHECKED_MM {
-            continue;
-        }
-        let c = map.centre(k % nx, k / nx);
-        let (i, j) = (((c[0] - ox) / g) as usize, ((c[1] - oy) / g) as usize);
-        for b in j.saturating_sub(1)..(j + 2).min(gh) {
-            for a in i.saturating_sub(1)..(i + 2).min(gw) {
-                marked[b * gw + a] = true;
-            }
-        }
-    }
-    let near = Mesh {
-        vertices: design.vertices.clone(),
-        triangles: design
-            .triangles
-            .iter()
-            .filter(|t| {
-                let p = t.map(|v| design.vertices[v as usize]);
-                let cell = |x: f64, y: f64| {
-                    (
-                        (((x - ox) / g).max(0.0) as usize).min(gw - 1),
-                        (((y - oy) / g).max(0.0) as usize).min(gh - 1),
-                    )
-                };
-                let lo = cell(
-                    p[0][0].min(p[1][0]).min(p[2][0]),
-                    p[0][1].min(p[1][1]).min(p[2][1]),
-                );
-                let hi = cell(
-                    p[0][0].max(p[1][0]).max(p[2][0]),
-                    p[0][1].max(p[1][1]).max(p[2][1]),
-                );
-                (lo.1..=hi.1).any(|b| (lo.0..=hi.0).any(|a| marked[b * gw + a]))
-            })
-            .copied()
-            .collect(),
-    };
-    let ball = DropCutter::new(&[&near], Cutter::ball(2.0 * r));
-    (0..dev.len())
-        .into_par_iter()
-        .map(|k| {
-            if (dev[k] as f64) <= REACH_CHECKED_MM {
-                return false;
-            }
-            let c = map.centre(k % nx, k / nx);
-            let Some((z, n)) = ray.drop_contact(c[0], c[1]) else {
-                return false;
-            };
-            let centre = [c[0] + r * n[0], c[1] + r * n[1], z + r * n[2]];
-            let tip = centre[2] - r;
-            reach
-                .floor
-                .as_ref()
-                .is_some_and(|f| tip < f(centre[0]) - REACH_SLACK_MM)
-                || ball
-                    .drop(centre[0], centre[1])
-                    .is_some_and(|t| t > tip + REACH_SLACK_MM)
-        })
-        .collect()
+    let centre = [c[0] + r * n[0], c[1] + r * n[1], z + r * n[2]];
+    let tip = centre[2] - r;
+    reach
+        .floor
+        .as_ref()
+        .is_some_and(|f| tip < f(centre[0]) - REACH_SLACK_MM)
+        || dc.above(centre[0], centre[1], tip + REACH_SLACK_MM)
 }

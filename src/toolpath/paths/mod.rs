@@ -149,8 +149,7 @@ impl Ctx<'_> {
     /// The tip height of `dc`'s tool resting on the part at (x, y), never
     /// below the floor.
     fn tip(&self, dc: &DropCutter, x: f64, y: f64) -> f64 {
-        let f = self.floor(x);
-        dc.drop(x, y).map_or(f, |d| d.max(f))
+        dc.drop_above(x, y, self.floor(x))
     }
 
     /// Height for a rapid across between X `a` and X `b` with a tool of

@@ -84,11 +84,20 @@ pub(super) fn orient(mut l: Line, clockwise: bool) -> Line {
 fn left_to_ball(ctx: &Ctx, ball: &DropCutter, nodes: &[[f64; 2]], floor: &[f64]) -> Vec<bool> {
     let tool = &ctx.job.finishing.pass.tool;
     let reach = tool.cutter.radius.min(tool.max_stepdown);
-    ball.drop_many(nodes)
-        .into_iter()
-        .zip(nodes)
+    nodes
+        .par_iter()
         .zip(floor)
-        .map(|((tip, p), &f)| tip.is_some_and(|z| ctx.stock_top_at(p[0]) - z.max(f) <= reach))
+        .map(|(p, &f)| {
+            let top = ctx.stock_top_at(p[0]);
+            let takes = |z: f64| top - z.max(f) <= reach;
+            // Where the floor is within reach, any touch will do.
+            let level = if takes(f) {
+                f64::NEG_INFINITY
+            } else {
+                top - reach
+            };
+            ball.drop_reaches(p[0], p[1], level, takes)
+        })
         .collect()
 }
 
@@ -502,7 +511,7 @@ pub(super) fn outline(ctx: &Ctx) -> Toolpath {
             let descent = rise * (1.0 - ((lap * n + k) as f64 / (laps as f64 * lap_len)).min(1.0));
             let top = ctx.stock_top(p[0], p[1], r + 1.0) + 1.0;
             let z = (floor + descent).min(top.max(floor));
-            dc.drop(p[0], p[1]).map_or(z, |d| z.max(d))
+            dc.drop_above(p[0], p[1], z)
         };
         let s = pts[0];
         steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
@@ -513,14 +522,14 @@ pub(super) fn outline(ctx: &Ctx) -> Toolpath {
         for lap in 0..=laps {
             for (k, p) in pts.iter().enumerate() {
                 let z = if lap == laps {
-                    ctx.floor(p[0]).max(dc.drop(p[0], p[1]).unwrap_or(f64::MIN))
+                    dc.drop_above(p[0], p[1], ctx.floor(p[0]))
                 } else {
                     z_of(k, lap)
                 };
                 spiral.push([p[0], p[1], z]);
             }
         }
-        let z = ctx.floor(s[0]).max(dc.drop(s[0], s[1]).unwrap_or(f64::MIN));
+        let z = dc.drop_above(s[0], s[1], ctx.floor(s[0]));
         spiral.push([s[0], s[1], z]);
         // Where the path climbs over a tab, keep the straight moves clear of it.
         let h = |x: f64, y: f64| dc.drop(x, y).unwrap_or(f64::MIN);

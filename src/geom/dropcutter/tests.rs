@@ -1,0 +1,337 @@
+//! The drop-cutter against brute force, closed forms and geometry.
+
+use super::*;
+use crate::geom::nearest::closest_on_triangle;
+
+fn plate(z: f64) -> Mesh {
+    Mesh {
+        vertices: vec![
+            [-50.0, -50.0, z],
+            [50.0, -50.0, z],
+            [50.0, 50.0, z],
+            [-50.0, 50.0, z],
+        ],
+        triangles: vec![[0, 1, 2], [0, 2, 3]],
+    }
+}
+
+#[test]
+fn ball_over_a_flat_plate_sits_r_above() {
+    // Geometry: a sphere resting on a plane has its centre r above it.
+    let m = plate(3.0);
+    let dc = DropCutter::new(&[&m], Cutter::ball(12.7));
+    for (x, y) in [(0.0, 0.0), (10.3, -7.1), (-40.0, 40.0)] {
+        let tip = dc.drop(x, y).unwrap();
+        assert!((tip - 3.0).abs() < 1e-12, "{tip}");
+    }
+    let dc = DropCutter::new(&[&m], Cutter::flat(10.0));
+    assert!((dc.drop(1.0, 2.0).unwrap() - 3.0).abs() < 1e-12);
+}
+
+/// Brute force: the highest centre height where the ball touches the
+/// triangle, from Ericson's closest-point routine (Real-Time Collision
+/// Detection, 5.1.5) and bisection on the distance, which is convex
+/// along the vertical line.
+fn brute(t: [[f64; 3]; 3], x: f64, y: f64, r: f64) -> Option<f64> {
+    let dist = |z: f64| {
+        let p = [x, y, z];
+        let q = closest_on_triangle(p, t[0], t[1], t[2]);
+        ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt()
+    };
+    let (mut lo, mut hi) = (-200.0, 200.0);
+    for _ in 0..200 {
+        let m1 = lo + (hi - lo) / 3.0;
+        let m2 = hi - (hi - lo) / 3.0;
+        if dist(m1) < dist(m2) {
+            hi = m2
+        } else {
+            lo = m1
+        }
+    }
+    let zmin = 0.5 * (lo + hi);
+    if dist(zmin) > r {
+        return None;
+    }
+    let (mut a, mut b) = (zmin, 400.0);
+    for _ in 0..200 {
+        let m = 0.5 * (a + b);
+        if dist(m) <= r { a = m } else { b = m }
+    }
+    Some(a - r)
+}
+
+/// Numbers in [−1, 1) from a 64-bit linear congruential generator
+/// (Knuth's MMIX constants): the same every run.
+fn lcg(mut seed: u64) -> impl FnMut() -> f64 {
+    move || {
+        seed = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        ((seed >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
+    }
+}
+
+/// A triangle within 20 mm of the origin in plan and 10 mm in height,
+/// and a mesh of it alone.
+fn random_triangle(rnd: &mut impl FnMut() -> f64) -> ([[f64; 3]; 3], Mesh) {
+    let t = [
+        [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+        [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+        [rnd() * 20.0, rnd() * 20.0, rnd() * 10.0],
+    ];
+    let m = Mesh {
+        vertices: t.to_vec(),
+        triangles: vec![[0, 1, 2]],
+    };
+    (t, m)
+}
+
+#[test]
+fn ball_matches_brute_force_on_random_triangles() {
+    let mut rnd = lcg(12345);
+    let mut checked = 0;
+    for _ in 0..300 {
+        let (t, m) = random_triangle(&mut rnd);
+        let r = 3.0 + 3.0 * rnd().abs();
+        let dc = DropCutter::new(&[&m], Cutter::ball(2.0 * r));
+        for _ in 0..10 {
+            let (x, y) = (rnd() * 25.0, rnd() * 25.0);
+            let got = dc.drop(x, y);
+            let want = brute(t, x, y, r);
+            match (got, want) {
+                (Some(g), Some(w)) => {
+                    assert!((g - w).abs() < 1e-6, "{g} vs {w}");
+                    checked += 1;
+                }
+                (None, None) => {}
+                // Grazing contacts within the bisection tolerance.
+                (g, w) => panic!("{g:?} vs {w:?} at {x},{y} for {t:?} r {r}"),
+            }
+        }
+    }
+    assert!(checked > 500, "{checked}");
+}
+
+#[test]
+fn a_soup_drops_to_the_highest_of_its_triangles_alone() {
+    // Brute force as above, triangle by triangle: over a soup of long
+    // and short triangles spread over many cells, the drop is the
+    // highest of the single triangles' touches, and `above` agrees
+    // with it on either side of that height.
+    let mut rnd = lcg(4242);
+    let mut tris = vec![];
+    for _ in 0..150 {
+        let c = [rnd() * 60.0, rnd() * 60.0];
+        let long = if rnd() > 0.5 { 30.0 } else { 4.0 };
+        tris.push([0, 1, 2].map(|_| [c[0] + rnd() * long, c[1] + rnd() * 4.0, rnd() * 10.0]));
+    }
+    let m = Mesh {
+        vertices: tris.iter().flatten().copied().collect(),
+        triangles: (0..tris.len() as u32)
+            .map(|k| [3 * k, 3 * k + 1, 3 * k + 2])
+            .collect(),
+    };
+    let r = 5.0;
+    let dc = DropCutter::new(&[&m], Cutter::ball(2.0 * r));
+    let mut checked = 0;
+    for _ in 0..400 {
+        let (x, y) = (rnd() * 80.0, rnd() * 80.0);
+        let want = tris
+            .iter()
+            .filter_map(|t| brute(*t, x, y, r))
+            .fold(None, |a: Option<f64>, z| Some(a.map_or(z, |a| a.max(z))));
+        let got = dc.drop(x, y);
+        match (got, want) {
+            (Some(g), Some(w)) => {
+                assert!((g - w).abs() < 1e-6, "{g} vs {w} at {x},{y}");
+                assert!(dc.above(x, y, g - 1e-5) && !dc.above(x, y, g + 1e-5));
+                checked += 1;
+            }
+            (None, None) => assert!(!dc.above(x, y, f64::NEG_INFINITY)),
+            (g, w) => panic!("{g:?} vs {w:?} at {x},{y}"),
+        }
+    }
+    assert!(checked > 200, "{checked}");
+}
+
+#[test]
+fn equal_touches_report_the_first_triangle_wherever_the_tool_is() {
+    // Four steep faces meeting at an apex; a ball whose axis is off
+    // the apex rests on the apex itself, touching all four at one
+    // height (to the last bits), while the points of the faces' plan
+    // boxes nearest its axis fall in different cells. Of equal touches
+    // the one reported is the face first by highest corner, then in
+    // the mesh (each face's touch found alone), not the one the search
+    // meets first.
+    let r = 3.0;
+    for offset in [[-1.5, -1.5], [1.5, -1.2], [-0.4, 1.7], [1.1, 1.3]] {
+        let base = [[-9.0, -9.0], [9.0, -9.0], [9.0, 9.0], [-9.0, 9.0]];
+        let mut vertices = vec![[0.0, 0.0, 20.0]];
+        vertices.extend(base.iter().map(|b| [b[0], b[1], 0.0]));
+        let m = Mesh {
+            vertices,
+            triangles: vec![[0, 2, 3], [0, 3, 4], [0, 4, 1], [0, 1, 2]],
+        };
+        let alone: Vec<(f64, f64, [f64; 3])> = m
+            .triangles
+            .iter()
+            .map(|t| {
+                let one = Mesh {
+                    vertices: m.vertices.clone(),
+                    triangles: vec![*t],
+                };
+                let (z, n) = DropCutter::new(&[&one], Cutter::ball(2.0 * r))
+                    .drop_contact(offset[0], offset[1])
+                    .unwrap();
+                let zmax = t
+                    .map(|v| m.vertices[v as usize][2])
+                    .into_iter()
+                    .fold(f64::MIN, f64::max);
+                (z, zmax, n)
+            })
+            .collect();
+        let top = alone.iter().map(|a| a.0).fold(f64::MIN, f64::max);
+        let equal: Vec<_> = alone.iter().filter(|a| a.0 >= top - EQUAL).collect();
+        assert!(
+            equal.len() >= 2,
+            "{offset:?}: {} faces at the top",
+            equal.len()
+        );
+        // The first of the highest corner among them.
+        let want = equal
+            .iter()
+            .copied()
+            .reduce(|a, b| if b.1 > a.1 { b } else { a })
+            .unwrap();
+        let (z, n) = DropCutter::new(&[&m], Cutter::ball(2.0 * r))
+            .drop_contact(offset[0], offset[1])
+            .unwrap();
+        assert_eq!(z, want.0);
+        let want = want.2;
+        assert_eq!(n, want, "offset {offset:?}");
+    }
+}
+
+#[test]
+fn ball_on_a_sphere_sits_r_plus_s_from_its_centre() {
+    // Geometry: two touching spheres' centres are R + S apart. The mesh
+    // sphere is inscribed, so the ball sits up to the sagitta lower.
+    let s = 100.0;
+    let sphere = uv_sphere(s, 720, 360);
+    let r = 6.35;
+    let dc = DropCutter::new(&[&sphere], Cutter::ball(2.0 * r));
+    let sag = s * (1.0 - (std::f64::consts::PI / 360.0).cos());
+    for (x, y) in [(0.0, 0.0), (30.0, 20.0), (-50.0, 60.0), (90.0, 0.0)] {
+        let c = dc.drop(x, y).unwrap() + r;
+        let d = (x * x + y * y + c * c).sqrt();
+        assert!(d <= r + s + 1e-9 && d >= r + s - 2.0 * sag, "{d}");
+    }
+}
+
+#[test]
+fn bull_on_a_tilted_plane_rests_on_its_corner_up_the_slope() {
+    // Geometry: on the plane z = x·tan φ the corner circle's centre
+    // stands a up the slope from the axis and c along the normal from
+    // the contact, so the tip under the axis is at
+    // (a + c·sin φ)·tan φ − c·(1 − cos φ).
+    let (d, c) = (50.8, 6.35);
+    let a = d / 2.0 - c;
+    for deg in [0.0f64, 0.5, 3.0, 20.0, 50.0] {
+        let (sn, cs) = (deg.to_radians().sin(), deg.to_radians().cos());
+        let z = |x: f64| x * sn / cs;
+        let m = Mesh {
+            vertices: vec![
+                [-200.0, -200.0, z(-200.0)],
+                [200.0, -200.0, z(200.0)],
+                [200.0, 200.0, z(200.0)],
+                [-200.0, 200.0, z(-200.0)],
+            ],
+            triangles: vec![[0, 1, 2], [0, 2, 3]],
+        };
+        let dc = DropCutter::new(&[&m], Cutter::bull(d, c));
+        let want = (a + c * sn) * sn / cs - c * (1.0 - cs);
+        for (x, y) in [(0.0, 0.0), (0.0, 37.0)] {
+            let got = dc.drop(x, y).unwrap() - z(x);
+            assert!((got - want).abs() < 1e-9, "{deg}°: {got} vs {want}");
+        }
+    }
+}
+
+#[test]
+fn bull_is_the_highest_need_over_the_triangle() {
+    // Brute force: the tip each point of the triangle needs (its
+    // height less the tool's rise at its distance from the axis,
+    // `Cutter::height_at`), at 240 × 240 points of the triangle; the
+    // exact drop is never below any of them and within the sampling's
+    // reach of the highest.
+    let mut rnd = lcg(777);
+    let mut checked = 0;
+    for _ in 0..100 {
+        let (t, m) = random_triangle(&mut rnd);
+        let r = 6.0 + 6.0 * rnd().abs();
+        let cutter = Cutter::bull(2.0 * r, r * (0.2 + 0.5 * rnd().abs()));
+        let dc = DropCutter::new(&[&m], cutter);
+        for _ in 0..4 {
+            let (x, y) = (rnd() * 25.0, rnd() * 25.0);
+            let n = 240;
+            let mut want = f64::NEG_INFINITY;
+            for i in 0..=n {
+                for j in 0..=(n - i) {
+                    let (u, v) = (i as f64 / n as f64, j as f64 / n as f64);
+                    let w = 1.0 - u - v;
+                    let p: Vec<f64> = (0..3)
+                        .map(|k| w * t[0][k] + u * t[1][k] + v * t[2][k])
+                        .collect();
+                    let d = (p[0] - x).hypot(p[1] - y);
+                    if let Some(h) = cutter.height_at(d) {
+                        want = want.max(p[2] - h);
+                    }
+                }
+            }
+            match dc.drop(x, y) {
+                Some(got) => {
+                    assert!(got >= want - 1e-6, "{got} below {want}");
+                    assert!(got - want < 0.05, "{got} vs {want}");
+                    checked += 1;
+                }
+                None => assert!(want == f64::NEG_INFINITY, "missed {want}"),
+            }
+        }
+    }
+    assert!(checked > 100, "{checked}");
+}
+
+fn uv_sphere(r: f64, nu: usize, nv: usize) -> Mesh {
+    let mut vertices = vec![[0.0, 0.0, r]];
+    for j in 1..nv {
+        let th = std::f64::consts::PI * j as f64 / nv as f64;
+        for i in 0..nu {
+            let ph = 2.0 * std::f64::consts::PI * i as f64 / nu as f64;
+            vertices.push([
+                r * th.sin() * ph.cos(),
+                r * th.sin() * ph.sin(),
+                r * th.cos(),
+            ]);
+        }
+    }
+    vertices.push([0.0, 0.0, -r]);
+    let idx = |j: usize, i: usize| (1 + (j - 1) * nu + i % nu) as u32;
+    let mut triangles = vec![];
+    for i in 0..nu {
+        triangles.push([0, idx(1, i), idx(1, i + 1)]);
+    }
+    for j in 1..nv - 1 {
+        for i in 0..nu {
+            triangles.push([idx(j, i), idx(j + 1, i), idx(j + 1, i + 1)]);
+            triangles.push([idx(j, i), idx(j + 1, i + 1), idx(j, i + 1)]);
+        }
+    }
+    let last = vertices.len() as u32 - 1;
+    for i in 0..nu {
+        triangles.push([idx(nv - 1, i + 1), idx(nv - 1, i), last]);
+    }
+    Mesh {
+        vertices,
+        triangles,
+    }
+}
