@@ -142,10 +142,7 @@ impl DropCutter {
     pub fn on(prep: Arc<Prepared>, cutter: Cutter) -> DropCutter {
         let r2 = cutter.radius * cutter.radius;
         let rises = (0..RISES)
-            .map(|k| {
-                let d = (r2 * k as f64 / RISES as f64).sqrt();
-                rise(&cutter, d * d).unwrap_or(0.0)
-            })
+            .map(|k| rise(&cutter, r2 * k as f64 / RISES as f64).unwrap_or(0.0))
             .collect();
         let per_d2 = if r2 > 0.0 { RISES as f64 / r2 } else { 0.0 };
         DropCutter {
