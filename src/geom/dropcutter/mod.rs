@@ -262,11 +262,8 @@ impl DropCutter {
             if top == f32::NEG_INFINITY {
                 return None;
             }
-            let cx = o[0] + c * i as f64;
-            let cy = o[1] + c * j as f64;
-            let dx = (cx - x).max(x - (cx + c)).max(0.0);
-            let dy = (cy - y).max(y - (cy + c)).max(0.0);
-            self.rise_below(dx * dx + dy * dy).map(|h| top as f64 - h)
+            self.rise_below(prep.distance2(i, j, x, y))
+                .map(|h| top as f64 - h)
         };
         let (fi, fj) = prep.cell_of(x, y);
         if self.search_cell(fi, fj, x, y, best, stop) {
@@ -290,12 +287,7 @@ impl DropCutter {
     #[inline]
     fn search_cell(&self, i: usize, j: usize, x: f64, y: f64, best: &mut Best, stop: f64) -> bool {
         let prep = &*self.prep;
-        let (c, o) = (prep.cell, prep.origin);
-        let cx = o[0] + c * i as f64;
-        let cy = o[1] + c * j as f64;
-        let dx = (cx - x).max(x - (cx + c)).max(0.0);
-        let dy = (cy - y).max(y - (cy + c)).max(0.0);
-        let Some(cell_rise) = self.rise_below(dx * dx + dy * dy) else {
+        let Some(cell_rise) = self.rise_below(prep.distance2(i, j, x, y)) else {
             return false;
         };
         let b = j * prep.dims[0] + i;

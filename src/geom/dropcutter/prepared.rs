@@ -208,6 +208,17 @@ impl Prepared {
         }
     }
 
+    /// The squared plan distance from (x, y) to cell (i, j) (0 inside it).
+    #[inline]
+    pub(super) fn distance2(&self, i: usize, j: usize, x: f64, y: f64) -> f64 {
+        let (c, o) = (self.cell, self.origin);
+        let cx = o[0] + c * i as f64;
+        let cy = o[1] + c * j as f64;
+        let dx = (cx - x).max(x - (cx + c)).max(0.0);
+        let dy = (cy - y).max(y - (cy + c)).max(0.0);
+        dx * dx + dy * dy
+    }
+
     /// Whether coordinate `v` along axis `k` falls in cell index `i`, as
     /// [`index`](Self::index) places it.
     #[inline]
