@@ -6,7 +6,7 @@
 use super::outside::in_rect;
 use super::report::{DeviationMap, PocketReport, REACH_CHECKED_MM, Verification};
 use super::setting::{Setting, VerifyOptions};
-use crate::geom::dropcutter::DropCutter;
+use crate::geom::dropcutter::{DropCutter, Lattice};
 use crate::geom::nearest::Nearest;
 use crate::geom::zmap::ZMap;
 use crate::model::machine::Cutter;
@@ -225,6 +225,16 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
         .as_ref()
         .map(|reach| DropCutter::on(ray.prepared(), Cutter::ball(2.0 * reach.r)));
     let [nx, ny] = map.dims;
+    let prepared = ray.prepared();
+    let contacts = prepared.rays(
+        &Lattice {
+            origin: map.origin,
+            step: map.cell,
+            offset: 0.5,
+            dims: map.dims,
+        },
+        1,
+    );
     let rows: Vec<(Vec<f32>, Vec<bool>, Vec<bool>)> = (0..ny)
         .into_par_iter()
         .map(|j| {
@@ -239,7 +249,7 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
                 // A column cut away where the design has foam is a gouge
                 // down to the column's bottom.
                 let surface = if present { map.top[k] } else { map.bottom[k] } as f64;
-                let touch = ray.drop_contact(c[0], c[1]);
+                let touch = contacts.contact(i, j);
                 let d = match touch {
                     Some((z, n)) if n[2] < STEEP_NZ => near
                         .closest(to_design([c[0], c[1], surface]))

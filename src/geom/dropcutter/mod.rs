@@ -16,6 +16,7 @@
 //! the grid bounds them exactly.)
 
 mod prepared;
+mod rays;
 #[cfg(test)]
 mod tests;
 
@@ -27,6 +28,7 @@ use crate::geom::contact::{ball_touch, bull_touch, flat_touch};
 use crate::model::machine::{Cutter, ToolKind};
 use crate::model::mesh::Mesh;
 pub use prepared::Prepared;
+pub use rays::{Hits, Lattice};
 
 /// One cutter dropped on prepared meshes.
 #[derive(Debug, Clone)]

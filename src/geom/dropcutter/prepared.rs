@@ -48,6 +48,8 @@ const CELL: f64 = 4.0;
 pub struct Prepared {
     /// In the meshes' order, which keeps neighbours near in memory.
     pub(super) tris: Vec<Tri>,
+    /// Where each mesh's triangles end in `tris`.
+    pub(super) ends: Vec<usize>,
     /// Each triangle's place in the order by highest corner, highest
     /// first (then in the meshes' order): of two triangles a tool touches
     /// at the same height, the one first in it is the one reported.
@@ -65,14 +67,16 @@ pub struct Prepared {
 impl Prepared {
     /// Prepares `meshes` (all together).
     pub fn new(meshes: &[&Mesh]) -> Prepared {
-        let all: Vec<(&Mesh, &[u32; 3])> = meshes
-            .iter()
-            .flat_map(|m| m.triangles.iter().map(move |t| (*m, t)))
-            .collect();
-        let tris: Vec<Tri> = all
-            .par_iter()
-            .filter_map(|(mesh, t)| prepare(mesh.corners(t)))
-            .collect();
+        let mut tris: Vec<Tri> = Vec::new();
+        let mut ends = Vec::with_capacity(meshes.len());
+        for m in meshes {
+            tris.par_extend(
+                m.triangles
+                    .par_iter()
+                    .filter_map(|t| prepare(m.corners(t))),
+            );
+            ends.push(tris.len());
+        }
         // A total order (height, then input order), so the unstable sort
         // is deterministic.
         let mut keys: Vec<(f64, u32)> = tris
@@ -130,6 +134,7 @@ impl Prepared {
         ];
         let mut grid = Prepared {
             tris: Vec::new(),
+            ends,
             rank,
             origin: lo,
             cell,

@@ -335,3 +335,60 @@ fn uv_sphere(r: f64, nu: usize, nv: usize) -> Mesh {
         triangles,
     }
 }
+
+#[test]
+fn rays_at_a_lattice_are_the_point_drops_to_the_bit() {
+    // The lattice's answers against the one-point drop of a point cutter
+    // (itself checked against brute force above): a sphere (points on
+    // its poles, edges and corners, where several faces touch at once)
+    // and a soup of long and short triangles over it, lattices of nodes
+    // and of cell centres reaching beyond both, all meshes and the
+    // first alone.
+    let sphere = uv_sphere(10.0, 24, 12);
+    let mut rnd = lcg(77);
+    let mut tris = vec![];
+    for _ in 0..120 {
+        let c = [rnd() * 15.0, rnd() * 15.0];
+        let long = if rnd() > 0.5 { 20.0 } else { 3.0 };
+        tris.push([0, 1, 2].map(|_| [c[0] + rnd() * long, c[1] + rnd() * 3.0, rnd() * 12.0]));
+    }
+    let soup = Mesh {
+        vertices: tris.iter().flatten().copied().collect(),
+        triangles: (0..tris.len() as u32)
+            .map(|k| [3 * k, 3 * k + 1, 3 * k + 2])
+            .collect(),
+    };
+    let lattices = [
+        Lattice {
+            origin: [-12.0, -12.0],
+            step: [0.5, 0.5],
+            offset: 0.0,
+            dims: [70, 66],
+        },
+        Lattice {
+            origin: [-31.0, -13.3],
+            step: [0.7, 0.45],
+            offset: 0.5,
+            dims: [90, 75],
+        },
+    ];
+    let mut hits = 0;
+    for meshes in [vec![&sphere, &soup], vec![&sphere]] {
+        let all = [&sphere, &soup];
+        let prepared = Arc::new(Prepared::new(&all));
+        let point = DropCutter::new(&meshes, Cutter::flat(0.0));
+        for lattice in &lattices {
+            let got = prepared.rays(lattice, meshes.len());
+            for j in 0..lattice.dims[1] {
+                for i in 0..lattice.dims[0] {
+                    let p = lattice.point(i, j);
+                    let want = point.drop_contact(p[0], p[1]);
+                    assert_eq!(got.contact(i, j), want, "{p:?}");
+                    assert_eq!(got.hit(i, j), want.is_some());
+                    hits += want.is_some() as usize;
+                }
+            }
+        }
+    }
+    assert!(hits > 5000, "{hits}");
+}

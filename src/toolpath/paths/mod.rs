@@ -8,7 +8,7 @@ mod raster;
 mod refine;
 mod rough;
 
-use crate::geom::dropcutter::{DropCutter, Prepared};
+use crate::geom::dropcutter::{DropCutter, Lattice, Prepared};
 use crate::geom::field::{self, Field};
 use crate::geom::zmap::{Sweep, ZMap};
 use crate::model::job::{Holding, Job};
@@ -210,11 +210,20 @@ pub fn setup_paths(
     let guard = place.guard(side);
     let (lo, hi) = ([0.0, 0.0], [place.block.length, place.block.width]);
     let grid = Field::new(lo, hi, 1.0, 0.0);
-    let ray = DropCutter::new(&guard[..1].iter().collect::<Vec<_>>(), Cutter::flat(0.0));
-    let inside: Vec<bool> = grid
-        .nodes()
-        .par_iter()
-        .map(|p| ray.drop(p[0], p[1]).is_some())
+    // Part and tabs prepared together, for every tool of the setup.
+    let prepared = Arc::new(Prepared::new(&guard.iter().collect::<Vec<_>>()));
+    // The part's plan: where a vertical ray meets it (the tabs, the
+    // second mesh, left out).
+    let lattice = Lattice {
+        origin: grid.origin,
+        step: [grid.cell; 2],
+        offset: 0.0,
+        dims: grid.dims,
+    };
+    let hits = prepared.rays(&lattice, 1);
+    let inside: Vec<bool> = (0..grid.dims[1])
+        .flat_map(|j| (0..grid.dims[0]).map(move |i| (i, j)))
+        .map(|(i, j)| hits.hit(i, j))
         .collect();
     let outside = field::distance_to(&grid, &inside);
     let beyond: Vec<bool> = inside.iter().map(|b| !b).collect();
@@ -224,7 +233,6 @@ pub fn setup_paths(
     let b = &place.block;
     let stock = ZMap::of_stock(b, side == Side::Deck, 1.0, b.allowance())
         .expect("a block within the machine fits a 1 mm map");
-    let prepared = Arc::new(Prepared::new(&guard.iter().collect::<Vec<_>>()));
     let ctx = Ctx {
         place,
         job,
