@@ -70,11 +70,7 @@ impl Prepared {
         let mut tris: Vec<Tri> = Vec::new();
         let mut ends = Vec::with_capacity(meshes.len());
         for m in meshes {
-            tris.par_extend(
-                m.triangles
-                    .par_iter()
-                    .filter_map(|t| prepare(m.corners(t))),
-            );
+            tris.par_extend(m.triangles.par_iter().filter_map(|t| prepare(m.corners(t))));
             ends.push(tris.len());
         }
         // A total order (height, then input order), so the unstable sort

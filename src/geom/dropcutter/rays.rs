@@ -156,7 +156,9 @@ impl Prepared {
         each(&mut |k, z, _| top[k] = top[k].max(z));
         each(&mut |k, z, t| {
             let c = out[k];
-            if z >= top[k] - EQUAL && (c == u32::MAX || self.rank[t as usize] < self.rank[c as usize]) {
+            if z >= top[k] - EQUAL
+                && (c == u32::MAX || self.rank[t as usize] < self.rank[c as usize])
+            {
                 out[k] = t;
             }
         });
