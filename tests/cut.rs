@@ -921,8 +921,9 @@ fn rockered_blank_programs_verify_clean_and_rough_only_where_there_is_foam() {
             }
         }
         // Enough moves to mean something (the bottom's roughing is small
-        // where the ball takes the foam itself: 241 moves along a level).
-        assert!(level_moves > 200, "{level_moves}");
+        // where the ball takes the foam itself: 90 moves along a level
+        // with the tool's full stepdown, 241 with 40 mm levels).
+        assert!(level_moves > 50, "{level_moves}");
         assert_eq!(
             in_air,
             0,

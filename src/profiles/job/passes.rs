@@ -130,14 +130,10 @@ impl JobReader<'_> {
         let m = self.machine;
         let tool = self.tool(spec, which)?;
         let d = 2.0 * tool.cutter.radius;
-        let default_stepdown = match which {
-            // Deep levels in foam, within the tool's max_stepdown (common
-            // practice, no source).
-            Strategy::Roughing => 40.0_f64,
-            Strategy::Outline => 25.0,
-            Strategy::Finishing | Strategy::Rails => tool.max_stepdown,
-        }
-        .min(tool.max_stepdown);
+        // Foam cuts as deep as the tool allows: each level and each lap of
+        // the outline's spiral takes the tool's max_stepdown (by default
+        // its flute length; common practice, no source).
+        let default_stepdown = tool.max_stepdown;
         let stepdown = match &spec.stepdown {
             Some(v) => {
                 let x = v.value.0.to_mm(self.r.unit);
