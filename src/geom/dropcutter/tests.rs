@@ -112,6 +112,33 @@ fn ball_matches_brute_force_on_random_triangles() {
     assert!(checked > 500, "{checked}");
 }
 
+/// `count` triangles, half long and half short (`sizes[0]`, `sizes[1]`
+/// along X, the short size across), placed within `spread` of the
+/// origin in plan and `height` in Z; and a mesh of them.
+fn soup(
+    rnd: &mut impl FnMut() -> f64,
+    count: usize,
+    spread: f64,
+    sizes: [f64; 2],
+    height: f64,
+) -> (Vec<[[f64; 3]; 3]>, Mesh) {
+    let mut tris = vec![];
+    for _ in 0..count {
+        let c = [rnd() * spread, rnd() * spread];
+        let long = if rnd() > 0.5 { sizes[0] } else { sizes[1] };
+        tris.push(
+            [0, 1, 2].map(|_| [c[0] + rnd() * long, c[1] + rnd() * sizes[1], rnd() * height]),
+        );
+    }
+    let mesh = Mesh {
+        vertices: tris.iter().flatten().copied().collect(),
+        triangles: (0..tris.len() as u32)
+            .map(|k| [3 * k, 3 * k + 1, 3 * k + 2])
+            .collect(),
+    };
+    (tris, mesh)
+}
+
 #[test]
 fn a_soup_drops_to_the_highest_of_its_triangles_alone() {
     // Brute force as above, triangle by triangle: over a soup of long
@@ -119,18 +146,7 @@ fn a_soup_drops_to_the_highest_of_its_triangles_alone() {
     // highest of the single triangles' touches, and `above` agrees
     // with it on either side of that height.
     let mut rnd = lcg(4242);
-    let mut tris = vec![];
-    for _ in 0..150 {
-        let c = [rnd() * 60.0, rnd() * 60.0];
-        let long = if rnd() > 0.5 { 30.0 } else { 4.0 };
-        tris.push([0, 1, 2].map(|_| [c[0] + rnd() * long, c[1] + rnd() * 4.0, rnd() * 10.0]));
-    }
-    let m = Mesh {
-        vertices: tris.iter().flatten().copied().collect(),
-        triangles: (0..tris.len() as u32)
-            .map(|k| [3 * k, 3 * k + 1, 3 * k + 2])
-            .collect(),
-    };
+    let (tris, m) = soup(&mut rnd, 150, 60.0, [30.0, 4.0], 10.0);
     let r = 5.0;
     let dc = DropCutter::new(&[&m], Cutter::ball(2.0 * r));
     let mut checked = 0;
@@ -345,19 +361,7 @@ fn rays_at_a_lattice_are_the_point_drops_to_the_bit() {
     // and of cell centres reaching beyond both, all meshes and the
     // first alone.
     let sphere = uv_sphere(10.0, 24, 12);
-    let mut rnd = lcg(77);
-    let mut tris = vec![];
-    for _ in 0..120 {
-        let c = [rnd() * 15.0, rnd() * 15.0];
-        let long = if rnd() > 0.5 { 20.0 } else { 3.0 };
-        tris.push([0, 1, 2].map(|_| [c[0] + rnd() * long, c[1] + rnd() * 3.0, rnd() * 12.0]));
-    }
-    let soup = Mesh {
-        vertices: tris.iter().flatten().copied().collect(),
-        triangles: (0..tris.len() as u32)
-            .map(|k| [3 * k, 3 * k + 1, 3 * k + 2])
-            .collect(),
-    };
+    let (_, soup) = soup(&mut lcg(77), 120, 15.0, [20.0, 3.0], 12.0);
     let lattices = [
         Lattice {
             origin: [-12.0, -12.0],
