@@ -6,12 +6,13 @@
 use super::outside::in_rect;
 use super::report::{DeviationMap, PocketReport, REACH_CHECKED_MM, Verification};
 use super::setting::{Setting, VerifyOptions};
-use crate::geom::dropcutter::{DropCutter, Lattice};
+use crate::geom::dropcutter::{DropCutter, Lattice, Prepared};
 use crate::geom::nearest::Nearest;
 use crate::geom::zmap::ZMap;
 use crate::model::machine::Cutter;
 use crate::model::mesh::Mesh;
 use crate::toolpath::setup::{Side, flip, flip_mesh};
+use std::sync::Arc;
 
 /// The figures against the design, from the stock's top after setup 1
 /// (`top1`) and the stock after setup 2 (`top2`, when there was one);
@@ -219,13 +220,13 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
     (near, to_design): (&Nearest, impl Fn([f64; 3]) -> [f64; 3] + Sync),
 ) -> DeviationMap {
     use rayon::prelude::*;
-    let ray = DropCutter::new(&[design], Cutter::flat(0.0));
-    // The side's ball, on the design's triangles prepared for the ray.
+    // The design's triangles prepared once: the rays at every cell's
+    // centre, and the side's ball on them.
+    let prepared = Arc::new(Prepared::new(&[design]));
     let ball_dc = ball
         .as_ref()
-        .map(|reach| DropCutter::on(ray.prepared(), Cutter::ball(2.0 * reach.r)));
+        .map(|reach| DropCutter::on(Arc::clone(&prepared), Cutter::ball(2.0 * reach.r)));
     let [nx, ny] = map.dims;
-    let prepared = ray.prepared();
     let contacts = prepared.rays(
         &Lattice {
             origin: map.origin,

