@@ -870,7 +870,12 @@ fn finishing_links_clear_the_design_and_stay_low() {
                     at = to;
                 }
             }
-            assert!(links > 20, "{links}");
+            // Enough to mean something: passes up to 80 mm apart are
+            // joined along the surface (`no_finishing_move_digs_in` checks
+            // those ways), so a setup lifts a dozen times or so (13 on the
+            // demo's deck, 19 on its bottom; over a hundred a side when
+            // only passes three stepovers apart were).
+            assert!(links > 5, "{links}");
             assert!(low * 2 > links, "setup {}: {low} of {links} low", k + 1);
         }
     }

@@ -186,11 +186,12 @@ impl JobReader<'_> {
         )?;
         let feed_default = match which {
             // Feeds for EPS foam (common practice, no source), within the
-            // machine's limit.
+            // machine's limit. The rail ball takes a few tenths of a
+            // millimetre of foam at the finishing feed, long reach or not;
+            // slow it in the job for a denser foam or a slender tool.
             Strategy::Roughing => 12000.0_f64,
             Strategy::Outline => 8000.0,
-            Strategy::Finishing => 15000.0,
-            Strategy::Rails => 10000.0,
+            Strategy::Finishing | Strategy::Rails => 15000.0,
         }
         .min(m.max_feed_xy);
         let feed = match &spec.feed {
