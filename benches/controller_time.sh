@@ -7,6 +7,15 @@
 # with the program's own header and ending, asks `blanksmith verify` for
 # its estimate of each excerpt and times the excerpt in the simulation.
 #
+# Measured 2026-12-05, after the finishing passes were joined along the
+# surface up to 80 mm apart and the rail ball went to 15 m/min (and the
+# roughing and outline took 50 mm steps), same set-up as below:
+#   excerpt     estimate  LinuxCNC  ratio
+#   roughing      82.3 s    83.3 s  0.988
+#   outline       33.8 s    34.6 s  0.979
+#   finishing    102.2 s   103.6 s  0.986  (the 2 in ball)
+#   rails         48.0 s    49.0 s  0.980  (the 1/2 in ball)
+#
 # Measured 2026-12-03 (third run), each excerpt from program zero, where
 # the estimate starts it (1,500 lines an excerpt, the shipped router's
 # 2000/2000/1000 mm/s²; one run each, the machine otherwise idle; the
