@@ -13,11 +13,11 @@ struct Row {
     at: Vec<Option<[f64; 3]>>,
 }
 
-/// The longest run of samples a pass may leave out and still count as
-/// cutting there when the next pass is spaced (the gentle test flickers
-/// for a sample or two where the contact sits on a triangle's edge or the
-/// floor's estimate wavers; a longer gap is an edge).
-const BRIDGE: usize = 5;
+/// The longest gap along a pass, mm, that may be left out and still
+/// count as cutting there when the next pass is spaced (the gentle test
+/// flickers for a sample or two where the contact sits on a triangle's
+/// edge or the floor's estimate wavers; a longer gap is an edge).
+const BRIDGE_MM: f64 = 5.0;
 
 /// The steepest face a pass's spacing is narrowed for, degrees: beyond
 /// it the rail band's Z levels take over in any case.
@@ -48,12 +48,13 @@ pub(super) fn parallel(
     let r = dc.cutter().radius;
     let spacing = Spacing::new(dc.cutter(), fin.scallop);
     let s = spacing.step(1.0);
-    // Samples 1 mm apart: the ball's height along a pass bends no tighter
-    // than the ball (radius R over a sharp edge), so a chord sags at most
-    // L²/8R = 0.02 mm below it there for R = 6.35 mm (geometry: the
-    // sagitta), and `refine` probes every chord and splits it where the
-    // sag is more than half the tolerance.
-    let along = (1.0f64).min(s / 2.0);
+    // Samples √(8·R·tol) apart: the ball's height along a pass bends no
+    // tighter than the ball (radius R over a sharp edge), so a chord L
+    // long sags at most L²/8R below it (geometry: the sagitta), the
+    // tolerance (1 mm for R = 6.35 mm, 2 mm for the 2 in ball at 0.02 mm);
+    // and `refine` probes every chord and splits it where the sag is more
+    // than half the tolerance.
+    let along = (8.0 * r * fin.tolerance).sqrt().min(s / 2.0);
     let reach = r + 1.0;
     let p = ctx.place;
     let (y0, y1) = (
@@ -71,6 +72,7 @@ pub(super) fn parallel(
         least: spacing.step(MAX_SLOPE.to_radians().cos()),
         spacing,
         widen: (r / along).ceil() as usize,
+        bridge: (BRIDGE_MM / along).ceil() as usize,
         xs: (0..n_along)
             .map(|k| (x0 + k as f64 * along).min(x1))
             .collect(),
@@ -158,6 +160,8 @@ struct Raster<'a> {
     least: f64,
     /// Samples within a ball's radius along X.
     widen: usize,
+    /// Samples within [`BRIDGE_MM`].
+    bridge: usize,
     xs: Vec<f64>,
     positions: usize,
 }
@@ -190,8 +194,8 @@ impl Raster<'_> {
     /// balls stand too far apart and the samples move in.
     fn next(&mut self, prev: &Row, before: Option<&Row>, dir: f64) -> Row {
         let s = self.spacing.step(1.0);
-        let last = bridged(&prev.at, BRIDGE);
-        let earlier = before.map(|b| bridged(&b.at, BRIDGE));
+        let last = bridged(&prev.at, self.bridge);
+        let earlier = before.map(|b| bridged(&b.at, self.bridge));
         let step: Vec<f64> = (0..self.xs.len())
             .map(|k| match (last[k], earlier.as_ref().and_then(|b| b[k])) {
                 (Some(a), Some(b)) => {
@@ -225,7 +229,7 @@ impl Raster<'_> {
         let (edge, n_along) = (self.spacing.edge, self.xs.len());
         for _ in 0..2 {
             let mut redo = vec![false; n_along];
-            let now = bridged(&row.at, BRIDGE);
+            let now = bridged(&row.at, self.bridge);
             for k in 0..n_along {
                 match (last[k], now[k]) {
                     (Some(a), Some(b)) => {
