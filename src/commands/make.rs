@@ -72,39 +72,48 @@ pub fn make(
     output::ready(out)?;
     let dir = out.join(&board.name);
     let certified = certificate::certify(&board, tolerance)?;
-    let (report, mut files) = mesh_files(&board, &certified, &dir, StlKind::Binary, true);
     let design = Design::Board(Box::new(board.clone()));
-    let (_, _, template_files) = template_files(
-        &design,
-        &certified.mesh,
-        Some(&report),
-        paper,
-        &[],
-        &[],
-        &dir,
-    )?;
-    files.extend(template_files);
     let source = match input {
         Input::File(p) => p.clone(),
         Input::Demo => PathBuf::from(demo::DEMO_NAME),
     };
-    let cutting = match (cut, &profiles) {
-        (Some(args), Some((machine, job))) => {
-            let litres = certified.certificate.mesh_litres;
-            cut_files(
+    // The shape's files (STL, report, templates) and the cut need only the
+    // certified mesh: made side by side, so the cores the one leaves idle
+    // work on the other.
+    let (shape, cutting) = rayon::join(
+        || -> Result<_, JobError> {
+            let (report, mut files) = mesh_files(&board, &certified, &dir, StlKind::Binary, true);
+            let (_, _, template_files) = template_files(
                 &design,
                 &certified.mesh,
-                litres,
-                machine,
-                job,
-                blanks.as_deref(),
+                Some(&report),
+                paper,
+                &[],
+                &[],
                 &dir,
-                progress,
-            )
-            .map_err(|e| Some(with_profiles(e, &source, args)))
-        }
-        _ => Err(None),
-    };
+            )?;
+            files.extend(template_files);
+            Ok((report, files))
+        },
+        || match (cut, &profiles) {
+            (Some(args), Some((machine, job))) => {
+                let litres = certified.certificate.mesh_litres;
+                cut_files(
+                    &design,
+                    &certified.mesh,
+                    litres,
+                    machine,
+                    job,
+                    blanks.as_deref(),
+                    &dir,
+                    progress,
+                )
+                .map_err(|e| Some(with_profiles(e, &source, args)))
+            }
+            _ => Err(None),
+        },
+    );
+    let (report, mut files) = shape?;
     // The weight and cloth, for the page and the order sheet.
     let weight = crate::volume::weight::estimate(
         &board,
