@@ -48,13 +48,18 @@ pub(super) fn parallel(
     let r = dc.cutter().radius;
     let spacing = Spacing::new(dc.cutter(), fin.scallop);
     let s = spacing.step(1.0);
-    // Samples √(8·R·tol) apart: the ball's height along a pass bends no
-    // tighter than the ball (radius R over a sharp edge), so a chord L
+    // Samples √(8·R·tol) apart, R the radius of the tool's rounded tip
+    // (a ball's own, a bull-nose's corner): its height along a pass bends
+    // no tighter than that (radius R over a sharp edge), so a chord L
     // long sags at most L²/8R below it (geometry: the sagitta), the
-    // tolerance (1 mm for R = 6.35 mm, 2 mm for the 2 in ball at 0.02 mm);
-    // and `refine` probes every chord and splits it where the sag is more
-    // than half the tolerance.
-    let along = (8.0 * r * fin.tolerance).sqrt().min(s / 2.0);
+    // tolerance (2 mm for the 2 in ball at 0.02 mm; never under 1 mm, as
+    // for a 1/2 in ball or a bull-nose's 1/4 in corner); and `refine`
+    // probes every chord and splits it where the sag is more than half
+    // the tolerance.
+    let along = (8.0 * dc.cutter().corner * fin.tolerance)
+        .sqrt()
+        .max(1.0)
+        .min(s / 2.0);
     let reach = r + 1.0;
     let p = ctx.place;
     let (y0, y1) = (
