@@ -143,21 +143,28 @@ impl ZMap {
     /// order, so the result does not depend on the number of threads.
     pub fn cut(&mut self, moves: &[Sweep]) -> Vec<Touch> {
         let nx = self.dims[0];
-        let rows_per = 16usize;
         let (origin, cell) = (self.origin, self.cell);
         let per_band: Vec<Vec<Touch>> = self
             .top
-            .par_chunks_mut(nx * rows_per)
-            .zip(self.bottom.par_chunks(nx * rows_per))
+            .par_chunks_mut(nx * BAND_ROWS)
+            .zip(self.bottom.par_chunks(nx * BAND_ROWS))
             .enumerate()
             .map(|(band, (top, bottom))| {
-                let j0 = band * rows_per;
-                let rows = top.len() / nx;
-                let mut touches = vec![Touch::default(); moves.len()];
-                for (k, m) in moves.iter().enumerate() {
-                    touches[k] = apply(m, top, bottom, origin, cell, nx, j0, rows);
-                }
-                touches
+                let mut band = Band {
+                    j0: band * BAND_ROWS,
+                    rows: top.len() / nx,
+                    nx,
+                    highest: Vec::new(),
+                    top,
+                    bottom,
+                };
+                band.highest = (0..nx.div_ceil(BLOCK_COLUMNS))
+                    .map(|b| band.highest_in(b))
+                    .collect();
+                moves
+                    .iter()
+                    .map(|m| apply(m, &mut band, origin, cell))
+                    .collect()
             })
             .collect();
         let mut out = vec![Touch::default(); moves.len()];
@@ -172,17 +179,39 @@ impl ZMap {
     }
 }
 
-#[allow(clippy::too_many_arguments)]
-fn apply(
-    m: &Sweep,
-    top: &mut [f32],
-    bottom: &[f32],
-    origin: [f64; 2],
-    cell: [f64; 2],
-    nx: usize,
+/// Rows of the map one thread cuts: every move is applied to them in
+/// order, so the result does not depend on how many threads share them.
+const BAND_ROWS: usize = 16;
+
+/// Columns of a band's block: a move passes over a whole block without
+/// looking at its cells when the block's highest top is already below
+/// the tool everywhere in it.
+const BLOCK_COLUMNS: usize = 16;
+
+/// One thread's rows of the map, and the highest top of each block of
+/// [`BLOCK_COLUMNS`] columns in them (tops only go down, so a block's
+/// figure stays an upper bound until it is read again after a cut).
+struct Band<'a> {
     j0: usize,
     rows: usize,
-) -> Touch {
+    nx: usize,
+    highest: Vec<f32>,
+    top: &'a mut [f32],
+    bottom: &'a [f32],
+}
+
+impl Band<'_> {
+    /// The highest top in block `b`.
+    fn highest_in(&self, b: usize) -> f32 {
+        let (c0, c1) = (b * BLOCK_COLUMNS, ((b + 1) * BLOCK_COLUMNS).min(self.nx));
+        (0..self.rows)
+            .flat_map(|j| &self.top[j * self.nx + c0..j * self.nx + c1])
+            .fold(f32::NEG_INFINITY, |m, &h| m.max(h))
+    }
+}
+
+fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch {
+    let (nx, j0, rows) = (band.nx, band.j0, band.rows);
     let r = m.cutter.radius;
     let (a, b) = (m.from, m.to);
     let lo = [a[0].min(b[0]) - r, a[1].min(b[1]) - r];
@@ -201,7 +230,6 @@ fn apply(
     if i0 > i1 || jj0 > jj1 {
         return touch;
     }
-    let sweep = SweptShape::new(m);
     // A ball is no lower over a cell than its tip's lowest height plus its
     // rise at the cell's plan distance from the move's box (the distance to
     // the axis is no less): cells already below that are passed over
@@ -211,38 +239,108 @@ fn apply(
         [a[0].min(b[0]), a[0].max(b[0])],
         [a[1].min(b[1]), a[1].max(b[1])],
     );
+    let centre = |i: usize, k: usize| origin[k] + (i as f64 + 0.5) * cell[k];
+    // Whether a cell of top `h` at plan distance² `d2` from the move's box
+    // is clear of the tool (the cell test below, read the same way).
+    let clear = |h: f32, d2: f64| {
+        h <= zlow
+            || (ball
+                && (d2 > r * r || (h as f64) <= zlow as f64 + (r - (r * r - d2).sqrt()) - 1e-4))
+    };
+    // Blocks whose highest top is clear at their nearest cell centre are
+    // clear at every cell: the rise only grows with the distance.
+    let (b0, b1) = (i0 / BLOCK_COLUMNS, i1 / BLOCK_COLUMNS);
+    let (y0, y1) = (centre(jj0, 1), centre(jj1, 1));
+    let dy = (by[0] - y1).max(y0 - by[1]).max(0.0);
+    let open: Vec<bool> = (b0..=b1)
+        .map(|bk| {
+            let (c0, c1) = (
+                (bk * BLOCK_COLUMNS).max(i0),
+                ((bk + 1) * BLOCK_COLUMNS - 1).min(i1),
+            );
+            let dx = (bx[0] - centre(c1, 0)).max(centre(c0, 0) - bx[1]).max(0.0);
+            !clear(band.highest[bk], dx * dx + dy * dy)
+        })
+        .collect();
+    if !open.contains(&true) {
+        return touch;
+    }
+    // A ball reaches no cell farther from the move's box than where its
+    // rise clears the highest top of the open blocks (the margin keeps
+    // every cell the cell test would look at): each row's cells are
+    // looked at only between those distances.
+    let reach2 = if ball {
+        let highest = (b0..=b1)
+            .zip(&open)
+            .filter(|&(_, &o)| o)
+            .map(|(bk, _)| band.highest[bk])
+            .fold(f32::NEG_INFINITY, f32::max);
+        let lift = highest as f64 + 2e-4 - zlow as f64;
+        (lift < r).then(|| r * r - (r - lift) * (r - lift))
+    } else {
+        None
+    };
+    let mut cut = vec![false; open.len()];
+    let sweep = SweptShape::new(m);
+    let (top, bottom) = (&mut *band.top, band.bottom);
     for j in jj0..=jj1 {
-        let y = origin[1] + (j as f64 + 0.5) * cell[1];
+        let y = centre(j, 1);
         let row = (j - j0) * nx;
         let dy = (by[0] - y).max(y - by[1]).max(0.0);
-        for i in i0..=i1 {
-            let k = row + i;
-            let h = top[k];
-            if h <= zlow || h <= bottom[k] {
+        let (ri0, ri1) = match reach2 {
+            Some(d2) if d2 < dy * dy => continue,
+            Some(d2) => {
+                let dx = (d2 - dy * dy).sqrt();
+                let first = ((bx[0] - dx - origin[0]) / cell[0] - 0.5).ceil() - 1.0;
+                let last = ((bx[1] + dx - origin[0]) / cell[0] - 0.5).floor() + 1.0;
+                if last < i0 as f64 {
+                    continue;
+                }
+                ((first.max(0.0) as usize).max(i0), (last as usize).min(i1))
+            }
+            None => (i0, i1),
+        };
+        if ri0 > ri1 {
+            continue;
+        }
+        for (o, bk) in (b0..=b1).enumerate() {
+            if !open[o] {
                 continue;
             }
-            let x = origin[0] + (i as f64 + 0.5) * cell[0];
-            if ball {
-                let dx = (bx[0] - x).max(x - bx[1]).max(0.0);
-                let d2 = dx * dx + dy * dy;
-                if d2 > r * r {
+            let (c0, c1) = (
+                (bk * BLOCK_COLUMNS).max(ri0),
+                ((bk + 1) * BLOCK_COLUMNS - 1).min(ri1),
+            );
+            for i in c0..=c1 {
+                let k = row + i;
+                let h = top[k];
+                if h <= zlow || h <= bottom[k] {
                     continue;
                 }
-                let rise = r - (r * r - d2).sqrt();
-                if (h as f64) <= zlow as f64 + rise - 1e-4 {
-                    continue;
-                }
-            }
-            if let Some(z) = sweep.lowest(x, y) {
-                let z = z as f32;
-                if z < h {
-                    let depth = (h - z.max(bottom[k])) as f64;
-                    if depth > touch.depth {
-                        touch = Touch { depth, at: [x, y] };
+                let x = centre(i, 0);
+                if ball {
+                    let dx = (bx[0] - x).max(x - bx[1]).max(0.0);
+                    if clear(h, dx * dx + dy * dy) {
+                        continue;
                     }
-                    top[k] = z;
+                }
+                if let Some(z) = sweep.lowest(x, y) {
+                    let z = z as f32;
+                    if z < h {
+                        let depth = (h - z.max(bottom[k])) as f64;
+                        if depth > touch.depth {
+                            touch = Touch { depth, at: [x, y] };
+                        }
+                        top[k] = z;
+                        cut[o] = true;
+                    }
                 }
             }
+        }
+    }
+    for (o, bk) in (b0..=b1).enumerate() {
+        if cut[o] {
+            band.highest[bk] = band.highest_in(bk);
         }
     }
     touch
