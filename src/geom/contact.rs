@@ -79,11 +79,18 @@ const MIN_NZ: f64 = 1e-9;
 pub(crate) fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
     let mut best = floor;
     // Face: the centre sits r along the normal from the contact point.
+    // The ball rests on the triangle's whole plane there, and no part of
+    // the plane holds it higher: a plane that cannot lift it above
+    // `floor` leaves nothing to find on its edges or corners.
     if t.n[2] > MIN_NZ {
         let qx = x - r * t.n[0];
         let qy = y - r * t.n[1];
+        let on_plane = plane_z(t, qx, qy) + r * t.n[2] - r;
+        if on_plane < floor {
+            return floor;
+        }
         if inside_plan(t, qx, qy) {
-            best = best.max(plane_z(t, qx, qy) + r * t.n[2] - r);
+            best = best.max(on_plane);
         }
     }
     let r2 = r * r;
