@@ -30,9 +30,12 @@ pub(super) fn against(
     let mut m1 = base.clone();
     m1.top = top1;
     let reach = |side: Side| {
-        let floor = setting
-            .floor
-            .map(|(p, overlap)| move |x: f64| p.floor_at(side, x, overlap));
+        let floor = setting.floor.map(|(p, overlap)| {
+            (
+                move |x: f64| p.floor_at(side, x, overlap),
+                p.floor_highest(side, overlap),
+            )
+        });
         balls[side.number() as usize - 1].map(|r| Reach { r, floor })
     };
     let near = Nearest::new(design);
@@ -193,10 +196,11 @@ fn pocket_boxes(setting: &Setting, margin: f64) -> Vec<[[f64; 2]; 2]> {
         .collect()
 }
 
-/// The ball that finished a side, and the floor its tip stayed above.
+/// The ball that finished a side, and the floor its tip stayed above
+/// (along X, and the highest it gets).
 struct Reach<F: Fn(f64) -> f64 + Sync> {
     r: f64,
-    floor: Option<F>,
+    floor: Option<(F, f64)>,
 }
 
 /// Below this normal Z component (steeper than about 25°, the rails) a
@@ -316,9 +320,7 @@ fn out_of_reach<F: Fn(f64) -> f64 + Sync>(
     let r = reach.r;
     let centre = [c[0] + r * n[0], c[1] + r * n[1], z + r * n[2]];
     let tip = centre[2] - r;
-    reach
-        .floor
-        .as_ref()
-        .is_some_and(|f| tip < f(centre[0]) - REACH_SLACK_MM)
-        || dc.above(centre[0], centre[1], tip + REACH_SLACK_MM)
+    reach.floor.as_ref().is_some_and(|(f, highest)| {
+        tip < highest - REACH_SLACK_MM && tip < f(centre[0]) - REACH_SLACK_MM
+    }) || dc.above(centre[0], centre[1], tip + REACH_SLACK_MM)
 }

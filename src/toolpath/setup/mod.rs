@@ -376,6 +376,21 @@ impl Placement {
             }
         }
     }
+    /// No less than [`floor_at`](Self::floor_at) anywhere along X: the
+    /// floor follows the parting line between its points, and a concave
+    /// only lowers it on the bottom.
+    pub fn floor_highest(&self, side: Side, overlap: f64) -> f64 {
+        let heights = self.parting.iter().map(|p| p[1]);
+        // Interpolating between two points can round past both by a bit.
+        let slack = 1e-9;
+        match side {
+            Side::Deck => heights.fold(f64::NEG_INFINITY, f64::max) - overlap + slack,
+            Side::Bottom => {
+                -self.block.thickness - heights.fold(f64::INFINITY, f64::min) - overlap + slack
+            }
+        }
+    }
+
     /// The part and tabs as the tool sees them in a setup.
     pub fn guard(&self, side: Side) -> Vec<Mesh> {
         let mut all = vec![self.part.clone()];
