@@ -132,16 +132,17 @@ pub fn ramp(t: f64) -> String {
 
 /// A diverging colour for `t` in [−1, 1]: blue, white at 0, red.
 pub fn diverging(t: f64) -> String {
+    let [r, g, b] = diverging_rgb(t);
+    format!("#{r:02x}{g:02x}{b:02x}")
+}
+
+/// [`diverging`]'s colour as its three bytes.
+pub fn diverging_rgb(t: f64) -> [u8; 3] {
     let t = t.clamp(-1.0, 1.0);
     let (r, g, b) = if t < 0.0 {
         (1.0 + t, 1.0 + t, 1.0)
     } else {
         (1.0, 1.0 - t, 1.0 - t)
     };
-    format!(
-        "#{:02x}{:02x}{:02x}",
-        (r * 255.0).round() as u8,
-        (g * 255.0).round() as u8,
-        (b * 255.0).round() as u8
-    )
+    [r, g, b].map(|c| (c * 255.0).round() as u8)
 }

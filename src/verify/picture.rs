@@ -1,7 +1,7 @@
 //! Plan-view pictures of a verification: one SVG per setup, the deviation
 //! map drawn as an embedded PNG (one pixel a cell), with a legend in mm.
 
-use crate::svg::diverging;
+use crate::svg::{diverging, diverging_rgb};
 use crate::verify::report::DeviationMap;
 
 /// PNG bytes of a deviation map: blue for stock left, red for gouges,
@@ -45,7 +45,7 @@ pub fn png(map: &DeviationMap, scale: f64) -> Vec<u8> {
                 continue;
             }
             let t = (worst as f64 / scale).clamp(-1.0, 1.0);
-            px.copy_from_slice(&hex(&diverging(-t)));
+            px.copy_from_slice(&diverging_rgb(-t));
         }
     }
     let mut out = Vec::new();
@@ -57,12 +57,6 @@ pub fn png(map: &DeviationMap, scale: f64) -> Vec<u8> {
         w.write_image_data(&rgb).expect("writing to memory");
     }
     out
-}
-
-fn hex(colour: &str) -> [u8; 3] {
-    let h = colour.trim_start_matches('#');
-    let v = |i: usize| u8::from_str_radix(h.get(i..i + 2).unwrap_or("ff"), 16).unwrap_or(255);
-    [v(0), v(2), v(4)]
 }
 
 /// Standard base64 (RFC 4648, section 4), for embedding the PNG.
@@ -153,6 +147,13 @@ fn xml(t: &str) -> String {
 mod tests {
     use super::*;
     use crate::toolpath::setup::Side;
+
+    /// The bytes of an SVG colour `#rrggbb`, as the legend writes it.
+    fn hex(colour: &str) -> [u8; 3] {
+        let h = colour.trim_start_matches('#');
+        let v = |i: usize| u8::from_str_radix(h.get(i..i + 2).unwrap_or("ff"), 16).unwrap_or(255);
+        [v(0), v(2), v(4)]
+    }
 
     /// A map wider than the picture is drawn a pixel per square of cells,
     /// and a single gouging cell still colours its pixel (decoded with the
