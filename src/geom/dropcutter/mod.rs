@@ -28,6 +28,7 @@ use crate::geom::contact::{ball_touch, bull_touch, flat_touch};
 use crate::model::machine::{Cutter, ToolKind};
 use crate::model::mesh::Mesh;
 pub use prepared::Prepared;
+use prepared::BLOCK;
 pub use rays::{Hits, Lattice};
 
 /// One cutter dropped on prepared meshes.
@@ -271,13 +272,27 @@ impl DropCutter {
         if self.search_cell(fi, fj, x, y, best, stop) {
             return true;
         }
-        for j in j0..=j1 {
-            for i in i0..=i1 {
-                if (i, j) != (fi, fj)
-                    && cell_bound(i, j).is_some_and(|b| b >= best.floor())
-                    && self.search_cell(i, j, x, y, best, stop)
-                {
-                    return true;
+        // Block by block; a block is read only if its highest corner,
+        // less the rise at its nearest point, reaches the floor so far.
+        for bj in j0 / BLOCK..=j1 / BLOCK {
+            for bi in i0 / BLOCK..=i1 / BLOCK {
+                let top = prep.block_tops[bj * prep.block_dims[0] + bi];
+                let reaches = top != f32::NEG_INFINITY
+                    && self
+                        .rise_below(prep.block_distance2(bi, bj, x, y))
+                        .is_some_and(|h| top as f64 - h >= best.floor());
+                if !reaches {
+                    continue;
+                }
+                for j in (bj * BLOCK).max(j0)..=(bj * BLOCK + BLOCK - 1).min(j1) {
+                    for i in (bi * BLOCK).max(i0)..=(bi * BLOCK + BLOCK - 1).min(i1) {
+                        if (i, j) != (fi, fj)
+                            && cell_bound(i, j).is_some_and(|b| b >= best.floor())
+                            && self.search_cell(i, j, x, y, best, stop)
+                        {
+                            return true;
+                        }
+                    }
                 }
             }
         }

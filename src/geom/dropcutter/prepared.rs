@@ -62,7 +62,16 @@ pub struct Prepared {
     pub(super) entries: Vec<Entry>,
     /// Each cell's highest corner (−∞ when empty).
     pub(super) tops: Vec<f32>,
+    /// The highest of `tops` over each square of [`BLOCK`] × [`BLOCK`]
+    /// cells, row by row: a tool that cannot reach a block's highest
+    /// corner skips its cells without reading them.
+    pub(super) block_tops: Vec<f32>,
+    /// Blocks along X and Y.
+    pub(super) block_dims: [usize; 2],
 }
+
+/// Cells along each side of a block of [`Prepared::block_tops`].
+pub(super) const BLOCK: usize = 4;
 
 impl Prepared {
     /// Prepares `meshes` (all together).
@@ -138,6 +147,8 @@ impl Prepared {
             starts: Vec::new(),
             entries: Vec::new(),
             tops: Vec::new(),
+            block_tops: Vec::new(),
+            block_dims: [dims[0].div_ceil(BLOCK), dims[1].div_ceil(BLOCK)],
         };
         // Each triangle in every cell its (rounded) plan box meets.
         let cells = |e: &Entry| {
@@ -181,6 +192,15 @@ impl Prepared {
                 }
             }
         }
+        let [bx, by] = grid.block_dims;
+        let mut block_tops = vec![f32::NEG_INFINITY; bx * by];
+        for j in 0..dims[1] {
+            for i in 0..dims[0] {
+                let b = (j / BLOCK) * bx + i / BLOCK;
+                block_tops[b] = block_tops[b].max(tops[j * dims[0] + i]);
+            }
+        }
+        grid.block_tops = block_tops;
         grid.tris = tris;
         grid.starts = starts;
         grid.entries = entries;
@@ -215,6 +235,17 @@ impl Prepared {
         let (c, o) = (self.cell, self.origin);
         let cx = o[0] + c * i as f64;
         let cy = o[1] + c * j as f64;
+        let dx = (cx - x).max(x - (cx + c)).max(0.0);
+        let dy = (cy - y).max(y - (cy + c)).max(0.0);
+        dx * dx + dy * dy
+    }
+
+    /// The squared plan distance from (x, y) to block (bi, bj) (0 inside it).
+    #[inline]
+    pub(super) fn block_distance2(&self, bi: usize, bj: usize, x: f64, y: f64) -> f64 {
+        let (c, o) = (self.cell * BLOCK as f64, self.origin);
+        let cx = o[0] + c * bi as f64;
+        let cy = o[1] + c * bj as f64;
         let dx = (cx - x).max(x - (cx + c)).max(0.0);
         let dy = (cy - y).max(y - (cy + c)).max(0.0);
         dx * dx + dy * dy
