@@ -121,6 +121,15 @@ pub(crate) fn ball_touch(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
 /// Highest tip height of a flat end of radius `r` centred over (x, y) touching `t`.
 #[inline]
 pub(crate) fn flat_touch(t: &Tri, x: f64, y: f64, r: f64) -> f64 {
+    flat_touch_above(t, x, y, r, f64::NEG_INFINITY)
+}
+
+/// [`flat_touch`] where it reaches `floor`; −∞ sooner where the
+/// triangle's plane, highest over the disc at its rim up the slope, does
+/// not (the triangle's edges and corners lie in that plane, within the
+/// disc, so none rises above it).
+#[inline]
+pub(crate) fn flat_touch_above(t: &Tri, x: f64, y: f64, r: f64, floor: f64) -> f64 {
     if r == 0.0 {
         // A vertical ray: only a face can be hit (edges and corners are
         // hit only where a face is too).
@@ -139,8 +148,12 @@ pub(crate) fn flat_touch(t: &Tri, x: f64, y: f64, r: f64) -> f64 {
         } else {
             (x, y)
         };
+        let on_plane = plane_z(t, qx, qy);
+        if on_plane < floor {
+            return f64::NEG_INFINITY;
+        }
         if inside_plan(t, qx, qy) {
-            best = plane_z(t, qx, qy);
+            best = on_plane;
         }
     }
     let r2 = r * r;

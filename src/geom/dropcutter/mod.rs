@@ -24,7 +24,7 @@ use std::sync::Arc;
 
 use rayon::prelude::*;
 
-use crate::geom::contact::{ball_touch, bull_touch, flat_touch};
+use crate::geom::contact::{ball_touch, bull_touch, flat_touch_above};
 use crate::model::machine::{Cutter, ToolKind};
 use crate::model::mesh::Mesh;
 pub use prepared::Prepared;
@@ -331,7 +331,7 @@ impl DropCutter {
             let z = match self.cutter.kind {
                 ToolKind::Ball => ball_touch(t, x, y, r, floor),
                 ToolKind::Bull => bull_touch(t, x, y, r, self.cutter.corner, floor),
-                ToolKind::Flat => flat_touch(t, x, y, r),
+                ToolKind::Flat => flat_touch_above(t, x, y, r, floor),
             };
             if z > stop {
                 return true;
