@@ -457,6 +457,7 @@ fn a_block_thicker_than_declared_still_gives_the_design_thickness() {
             keep: blanksmith::toolpath::setup::tab_rectangles(&plan.placement, &j),
             floor: None,
             pockets: vec![],
+            prepared: [None, None],
         };
         simulate::verify(sources, &setting, VerifyOptions::default(), &|_| {}).unwrap()
     };

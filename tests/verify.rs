@@ -43,6 +43,7 @@ fn run(
         keep: vec![],
         floor: None,
         pockets: vec![],
+        prepared: [None, None],
     };
     verify::verify(
         sources,

@@ -11,12 +11,13 @@ use crate::profiles::job;
 use crate::profiles::machine as profile;
 use crate::profiles::stock::StockEntry;
 use crate::toolpath::pick;
-use crate::toolpath::setup::CamError;
+use crate::toolpath::setup::{CamError, Side};
 use crate::verify::picture;
 use crate::verify::report::Verification;
 use crate::verify::setting::{ProgramSource, Setting, VerifyOptions};
 use crate::verify::simulate;
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
 
 /// A board's cutting outputs (programs for any tool, setup sheet,
 /// simulation report and pictures), so an earlier run's program for a tool
@@ -376,6 +377,12 @@ pub fn verify_plan_with(
         keep: crate::toolpath::setup::tab_rectangles(&plan.placement, job),
         floor: Some((&plan.placement, job.overlap)),
         pockets: plan.pockets.clone(),
+        prepared: [Side::Deck, Side::Bottom].map(|side| {
+            plan.setups
+                .iter()
+                .find(|s| s.side == side)
+                .map(|s| Arc::clone(&s.prepared))
+        }),
     };
     simulate::verify(sources, &setting, options, progress).map_err(JobError::Gcode)
 }

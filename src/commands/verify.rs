@@ -144,6 +144,7 @@ pub fn verify_programs(
             }
             _ => vec![],
         },
+        prepared: [None, None],
     };
     let options = VerifyOptions {
         cell: args.cell,

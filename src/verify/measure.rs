@@ -45,7 +45,7 @@ pub(super) fn against(
     let mut on_tabs = vec![];
     let mut maps = vec![deviation(
         &m1,
-        design,
+        (design, setting.prepared[0].clone()),
         Side::Deck,
         reach(Side::Deck),
         (&near, |p| p),
@@ -54,7 +54,7 @@ pub(super) fn against(
         let to_design = |p| flip(p, b);
         maps.push(deviation(
             m2,
-            &flip_mesh(design, b),
+            (&flip_mesh(design, b), setting.prepared[1].clone()),
             Side::Bottom,
             reach(Side::Bottom),
             (&near, to_design),
@@ -218,18 +218,19 @@ const STEEP_NZ: f64 = 0.9;
 /// [`STEEP_NZ`]; with `ball`, which cells that ball could not reach.
 fn deviation<F: Fn(f64) -> f64 + Sync>(
     map: &ZMap,
-    design: &Mesh,
+    (design, prepared): (&Mesh, Option<Arc<Prepared>>),
     side: Side,
     ball: Option<Reach<F>>,
     (near, to_design): (&Nearest, impl Fn([f64; 3]) -> [f64; 3] + Sync),
 ) -> DeviationMap {
     use rayon::prelude::*;
-    // The design's triangles prepared once: the rays at every cell's
-    // centre, and the side's ball on them.
-    let prepared = Arc::new(Prepared::new(&[design]));
+    // The design's triangles prepared once (by the planner, with the
+    // tabs after them, for programs planned here): the rays at every
+    // cell's centre, and the side's ball on them.
+    let prepared = prepared.unwrap_or_else(|| Arc::new(Prepared::new(&[design])));
     let ball_dc = ball
         .as_ref()
-        .map(|reach| DropCutter::on(Arc::clone(&prepared), Cutter::ball(2.0 * reach.r)));
+        .map(|reach| DropCutter::on_first(Arc::clone(&prepared), Cutter::ball(2.0 * reach.r), 1));
     let [nx, ny] = map.dims;
     let contacts = prepared.rays(
         &Lattice {

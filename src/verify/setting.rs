@@ -3,7 +3,9 @@
 //! purpose (tabs, pockets), and the options.
 
 use std::io::BufRead;
+use std::sync::Arc;
 
+use crate::geom::dropcutter::Prepared;
 use crate::model::job::Block;
 use crate::model::machine::{Cutter, Machine};
 use crate::model::mesh::Mesh;
@@ -51,6 +53,11 @@ pub struct Setting<'a> {
     /// Pockets cut into the design on purpose (fin boxes, the plug): not
     /// counted as gouges; each measured instead.
     pub pockets: Vec<PocketZone>,
+    /// For programs planned here: each setup's (deck, bottom) triangles
+    /// as the planner prepared them, the design as that side sees it
+    /// first (then the tabs, which the measure leaves out), so the design
+    /// is not prepared again. Without it the measure prepares the design.
+    pub prepared: [Option<Arc<Prepared>>; 2],
 }
 
 /// Verification options.

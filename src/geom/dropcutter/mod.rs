@@ -27,8 +27,8 @@ use rayon::prelude::*;
 use crate::geom::contact::{ball_touch, bull_touch, flat_touch_above};
 use crate::model::machine::{Cutter, ToolKind};
 use crate::model::mesh::Mesh;
-pub use prepared::Prepared;
 use prepared::BLOCK;
+pub use prepared::Prepared;
 pub use rays::{Hits, Lattice};
 
 /// One cutter dropped on prepared meshes.
@@ -42,6 +42,8 @@ pub struct DropCutter {
     rises: Vec<f64>,
     /// `RISES` / r² (0 for a point).
     per_d2: f64,
+    /// Triangles past this index (the later meshes') are not looked at.
+    limit: usize,
 }
 
 /// Steps of the rise table.
@@ -143,6 +145,17 @@ impl DropCutter {
 
     /// `cutter` dropped on meshes already prepared.
     pub fn on(prep: Arc<Prepared>, cutter: Cutter) -> DropCutter {
+        let meshes = prep.ends.len();
+        DropCutter::on_first(prep, cutter, meshes)
+    }
+
+    /// `cutter` dropped on the first `meshes` of meshes already prepared
+    /// (the others are not touched, as if never prepared).
+    pub fn on_first(prep: Arc<Prepared>, cutter: Cutter, meshes: usize) -> DropCutter {
+        let limit = meshes
+            .checked_sub(1)
+            .and_then(|k| prep.ends.get(k).copied())
+            .unwrap_or(if meshes == 0 { 0 } else { prep.tris.len() });
         let r2 = cutter.radius * cutter.radius;
         let rises = (0..RISES)
             .map(|k| rise(&cutter, r2 * k as f64 / RISES as f64).unwrap_or(0.0))
@@ -153,6 +166,7 @@ impl DropCutter {
             prep,
             rises,
             per_d2,
+            limit,
         }
     }
 
@@ -321,7 +335,11 @@ impl DropCutter {
             let Some(h) = self.rise_below(ddx * ddx + ddy * ddy) else {
                 continue;
             };
-            if (e.zmax as f64) - h < floor || !prep.holds(qx, 0, i) || !prep.holds(qy, 1, j) {
+            if (e.zmax as f64) - h < floor
+                || e.tri as usize >= self.limit
+                || !prep.holds(qx, 0, i)
+                || !prep.holds(qy, 1, j)
+            {
                 continue;
             }
             let t = &prep.tris[e.tri as usize];

@@ -34,6 +34,10 @@ pub struct SetupPaths {
     pub paths: Vec<Toolpath>,
     /// Finishing cutter positions computed (for speed reports).
     pub positions: usize,
+    /// The part (the first mesh) and the tabs as this setup sees them,
+    /// prepared for the drop-cutter: the simulation measures the setup's
+    /// side against the part without preparing it again.
+    pub prepared: Arc<Prepared>,
 }
 
 /// How far above the stock under it a link by rapid travels, mm (common
@@ -266,6 +270,7 @@ pub fn setup_paths(
         side,
         paths,
         positions,
+        prepared: Arc::clone(&ctx.prepared),
     }
 }
 
