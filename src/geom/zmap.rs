@@ -276,7 +276,7 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
             .map(|(bk, _)| band.highest[bk])
             .fold(f32::NEG_INFINITY, f32::max);
         let lift = highest as f64 + 2e-4 - zlow as f64;
-        (lift < r).then(|| r * r - (r - lift) * (r - lift))
+        (lift < r).then_some(r * r - (r - lift) * (r - lift))
     } else {
         None
     };
