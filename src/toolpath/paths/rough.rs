@@ -439,8 +439,10 @@ fn close_in(ctx: &Ctx, dc: &DropCutter, pts: &[[f64; 2]]) -> Vec<[f64; 2]> {
         ]
         .iter()
         .all(|d| {
-            dc.drop(q[0] + d[0], q[1] + d[1])
-                .is_none_or(|z| z <= floor + 1e-6)
+            // Not above the floor: the search stops at the first triangle
+            // that lifts the tool past it and skips those that cannot.
+            let level = floor + 1e-6;
+            !dc.drop_reaches(q[0] + d[0], q[1] + d[1], level, |z| z > level)
         })
     };
     (0..n)
