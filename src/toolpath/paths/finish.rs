@@ -141,7 +141,10 @@ pub(super) fn link(
         across.push(s);
         // Each step across refined like a pass, so none digs in between.
         let tol = ctx.job.finishing.tolerance;
-        for p in refine(&across, &h, tol / 2.0).into_iter().skip(1) {
+        for p in refine(&across, &Tip { ctx, dc }, tol / 2.0)
+            .into_iter()
+            .skip(1)
+        {
             steps.push(Step::Cut(p));
         }
     } else {

@@ -37,7 +37,7 @@ pub(super) fn waterlines(
         .map(|&level| band.runs_at(level))
         .collect();
     let tol = ctx.job.finishing.tolerance;
-    let tip = |x: f64, y: f64| ctx.tip(dc, x, y);
+    let tip = Tip { ctx, dc };
     // Simplified, then refined again: a level's points all stand at its
     // height, so the simplification keeps only the plan's bends, and on a
     // steep wall a chord within `tol` of them in plan can still stand

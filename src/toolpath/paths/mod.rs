@@ -22,7 +22,8 @@ use finish::*;
 use levels::*;
 use raster::*;
 use refine::resample;
-pub use refine::{refine, scallop_stepover, simplify, slope_stepover};
+use refine::{Dropped, Tip, refine};
+pub use refine::{scallop_stepover, simplify, slope_stepover};
 use rough::*;
 
 /// Everything a setup cuts, tool by tool.

@@ -141,9 +141,9 @@ fn runs(ctx: &Ctx, dc: &DropCutter, rows: Vec<Row>) -> Vec<Vec<Vec<[f64; 3]>>> {
                     r.reverse();
                 }
             }
-            let h = |x: f64, y: f64| ctx.tip(dc, x, y);
+            let tip = Tip { ctx, dc };
             runs.into_iter()
-                .map(|r| simplify(&refine(&r, &h, tol / 2.0), tol))
+                .map(|r| simplify(&refine(&r, &tip, tol / 2.0), tol))
                 .collect()
         })
         .collect()

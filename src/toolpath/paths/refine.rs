@@ -94,6 +94,50 @@ pub fn slope_stepover(cutter: &Cutter, h: f64, cos: f64) -> f64 {
     lo
 }
 
+/// The surface a pass follows, as [`refine`] asks it: the tool's tip
+/// height at a point, and whether that height is above a level (which a
+/// drop-cutter answers sooner than the height itself).
+pub(super) trait Heights {
+    /// The tip height at (x, y).
+    fn at(&self, x: f64, y: f64) -> f64;
+
+    /// Whether [`at`](Self::at)`(x, y)` is above `level`.
+    fn above(&self, x: f64, y: f64, level: f64) -> bool {
+        self.at(x, y) > level
+    }
+}
+
+/// The tool of `dc` resting on the part, never below the floor
+/// ([`Ctx::tip`]).
+pub(super) struct Tip<'a> {
+    pub ctx: &'a Ctx<'a>,
+    pub dc: &'a DropCutter,
+}
+
+impl Heights for Tip<'_> {
+    fn at(&self, x: f64, y: f64) -> f64 {
+        self.ctx.tip(self.dc, x, y)
+    }
+
+    fn above(&self, x: f64, y: f64, level: f64) -> bool {
+        self.ctx.floor(x) > level || self.dc.drop_reaches(x, y, level, |z| z > level)
+    }
+}
+
+/// The tool of `dc` resting on the meshes, [`f64::MIN`] where it touches
+/// none.
+pub(super) struct Dropped<'a>(pub &'a DropCutter);
+
+impl Heights for Dropped<'_> {
+    fn at(&self, x: f64, y: f64) -> f64 {
+        self.0.drop(x, y).unwrap_or(f64::MIN)
+    }
+
+    fn above(&self, x: f64, y: f64, level: f64) -> bool {
+        self.0.drop_reaches(x, y, level, |z| z > level)
+    }
+}
+
 /// Refines a run of dropped points so no straight move between neighbours
 /// digs in. A ball running off an edge otherwise cuts the corner between
 /// two exact positions: the drop height jumps at the edge, and a straight
@@ -105,7 +149,8 @@ pub fn slope_stepover(cutter: &Cutter, h: f64, cos: f64) -> f64 {
 /// or straight down to one cannot dig in. Other moves are split at the
 /// quarter points where the drop-cutter stands more than `tol` above the
 /// straight line, down to steps of 0.005 mm.
-pub fn refine(run: &[[f64; 3]], height: &dyn Fn(f64, f64) -> f64, tol: f64) -> Vec<[f64; 3]> {
+pub(super) fn refine(run: &[[f64; 3]], surface: &impl Heights, tol: f64) -> Vec<[f64; 3]> {
+    let height = |x: f64, y: f64| surface.at(x, y);
     let mut out = Vec::with_capacity(run.len());
     if run.is_empty() {
         return out;
@@ -141,17 +186,24 @@ pub fn refine(run: &[[f64; 3]], height: &dyn Fn(f64, f64) -> f64, tol: f64) -> V
             } else {
                 &[0.25, 0.5, 0.75]
             };
+            // Only a probe more than `tol` above the line can be the
+            // worst that splits the move: the others are asked only
+            // whether they are (a nanometre short of it, clear of the
+            // rounding of the sum), not how high they stand.
+            let splits = run_xy > 0.005 && depth < 16;
             let worst = probes
                 .iter()
-                .map(|&t| {
+                .filter_map(|&t| {
                     let p = at(t);
-                    (height(p[0], p[1]) - (a[2] + t * rise), t)
+                    let line = a[2] + t * rise;
+                    (splits && surface.above(p[0], p[1], line + tol - 1e-9))
+                        .then(|| (height(p[0], p[1]) - line, t))
                 })
                 .fold(
                     (f64::NEG_INFINITY, 0.5),
                     |m, v| if v.0 > m.0 { v } else { m },
                 );
-            if worst.0 > tol && run_xy > 0.005 && depth < 16 {
+            if worst.0 > tol && splits {
                 let p = at(worst.1);
                 let m = [p[0], p[1], height(p[0], p[1])];
                 // Second half first: the stack pops the first half next.

@@ -534,8 +534,7 @@ pub(super) fn outline(ctx: &Ctx) -> Toolpath {
         let z = dc.drop_above(s[0], s[1], ctx.floor(s[0]));
         spiral.push([s[0], s[1], z]);
         // Where the path climbs over a tab, keep the straight moves clear of it.
-        let h = |x: f64, y: f64| dc.drop(x, y).unwrap_or(f64::MIN);
-        for p in refine(&spiral, &h, 0.01).into_iter().skip(1) {
+        for p in refine(&spiral, &Dropped(&dc), 0.01).into_iter().skip(1) {
             steps.push(Step::Cut(p));
         }
         steps.push(Step::Rapid([s[0], s[1], ctx.clear]));
