@@ -26,8 +26,7 @@ pub(super) fn against(
     balls: [Option<f64>; 2],
 ) {
     let b = &setting.block;
-    let base = ZMap::of_stock(b, true, options.cell, 0.0).expect("sized above");
-    let mut m1 = base.clone();
+    let mut m1 = ZMap::of_stock(b, true, options.cell, 0.0).expect("sized above");
     m1.top = top1;
     let reach = |side: Side| {
         let floor = setting.floor.map(|(p, overlap)| {

@@ -55,8 +55,8 @@ pub fn verify(
     for src in programs {
         if src.side == Side::Bottom && side == Side::Deck {
             side = Side::Bottom;
-            top1 = Some(map.top.clone());
-            map = flipped(&map, b.thickness);
+            let turned = flipped(&map, b.thickness);
+            top1 = Some(std::mem::replace(&mut map, turned).top);
             if setting.table_zero_after_flip {
                 bed.zero_height = 0.0;
             }
@@ -80,13 +80,10 @@ pub fn verify(
         v.path_length_mm += report.path_length_mm;
         v.programs.push(report);
     }
+    let final_volume = map.volume();
     let (top1, top2) = match top1 {
-        Some(t1) => (t1, Some(map.clone())),
-        None => (map.top.clone(), None),
-    };
-    let final_volume = match &top2 {
-        Some(m2) => m2.volume(),
-        None => map.volume(),
+        Some(t1) => (t1, Some(map)),
+        None => (map.top, None),
     };
     v.removed_volume_litres = (start_volume - final_volume) / 1e6;
     if let Some(design) = setting.design {
