@@ -16,6 +16,7 @@ use crate::verify::picture;
 use crate::verify::report::Verification;
 use crate::verify::setting::{ProgramSource, Setting, VerifyOptions};
 use crate::verify::simulate;
+use rayon::prelude::*;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
 
@@ -400,20 +401,22 @@ pub(crate) fn verification_files(v: &Verification, name: &str, dir: &Path) -> Fi
         ),
     ];
     let scale = picture::colour_scale(v);
-    for m in &v.maps {
+    // One picture a side, drawn side by side (each compresses its PNG
+    // alone, at the end of the run when little else is left to do).
+    files.par_extend(v.maps.par_iter().map(|m| {
         let title = format!(
             "{name}: setup {} ({} up), stock left (blue) and gouges (red), plan view from above",
             m.side.number(),
             m.side.name()
         );
-        files.push((
+        (
             dir.join(format!(
                 "{name}-{}-{}.deviation.svg",
                 m.side.number(),
                 m.side.name()
             )),
             picture::svg(m, scale, &title).into_bytes(),
-        ));
-    }
+        )
+    }));
     files
 }
