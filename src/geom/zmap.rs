@@ -242,10 +242,10 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
     let centre = |i: usize, k: usize| origin[k] + (i as f64 + 0.5) * cell[k];
     // Whether a cell of top `h` at plan distance² `d2` from the move's box
     // is clear of the tool (the cell test below, read the same way).
+    // (h ≤ zlow + r − √(r² − d²) − 1e-4, squared: no root taken.)
     let clear = |h: f32, d2: f64| {
-        h <= zlow
-            || (ball
-                && (d2 > r * r || (h as f64) <= zlow as f64 + (r - (r * r - d2).sqrt()) - 1e-4))
+        let t = zlow as f64 + r - 1e-4 - h as f64;
+        h <= zlow || (ball && (d2 > r * r || (t >= 0.0 && r * r - d2 <= t * t)))
     };
     // Blocks whose highest top is clear at their nearest cell centre are
     // clear at every cell: the rise only grows with the distance.
