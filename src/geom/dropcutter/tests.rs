@@ -171,6 +171,41 @@ fn a_soup_drops_to_the_highest_of_its_triangles_alone() {
 }
 
 #[test]
+fn a_tool_on_the_first_mesh_ignores_the_later_ones() {
+    // Brute force as above: two soups prepared together (a board and its
+    // tabs), a ball dropped on the first alone finds the highest of the
+    // first soup's triangles and nothing of the second, however high
+    // the second stands.
+    let mut rnd = lcg(77);
+    let (tris, first) = soup(&mut rnd, 120, 60.0, [30.0, 4.0], 10.0);
+    let (_, mut second) = soup(&mut rnd, 120, 60.0, [30.0, 4.0], 10.0);
+    for v in &mut second.vertices {
+        v[2] += 20.0;
+    }
+    let r = 5.0;
+    let prep = Arc::new(Prepared::new(&[&first, &second]));
+    let dc = DropCutter::on_first(prep, Cutter::ball(2.0 * r), 1);
+    let mut checked = 0;
+    for _ in 0..300 {
+        let (x, y) = (rnd() * 80.0, rnd() * 80.0);
+        let want = tris
+            .iter()
+            .filter_map(|t| brute(*t, x, y, r))
+            .fold(None, |a: Option<f64>, z| Some(a.map_or(z, |a| a.max(z))));
+        match (dc.drop(x, y), want) {
+            (Some(g), Some(w)) => {
+                assert!((g - w).abs() < 1e-6, "{g} vs {w} at {x},{y}");
+                assert!(dc.above(x, y, g - 1e-5) && !dc.above(x, y, g + 1e-5));
+                checked += 1;
+            }
+            (None, None) => assert!(!dc.above(x, y, f64::NEG_INFINITY)),
+            (g, w) => panic!("{g:?} vs {w:?} at {x},{y}"),
+        }
+    }
+    assert!(checked > 150, "{checked}");
+}
+
+#[test]
 fn equal_touches_report_the_first_triangle_wherever_the_tool_is() {
     // Four steep faces meeting at an apex; a ball whose axis is off
     // the apex rests on the apex itself, touching all four at one
