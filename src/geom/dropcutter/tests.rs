@@ -139,6 +139,36 @@ fn soup(
     (tris, mesh)
 }
 
+/// Drops `dc` (a ball of radius `r`) at `count` points over 80 × 80 mm
+/// and checks each against the highest brute-force touch of `tris`, and
+/// `above` on either side of it; returns how many points touched.
+fn against_brute(
+    dc: &DropCutter,
+    tris: &[[[f64; 3]; 3]],
+    r: f64,
+    rnd: &mut impl FnMut() -> f64,
+    count: usize,
+) -> usize {
+    let mut checked = 0;
+    for _ in 0..count {
+        let (x, y) = (rnd() * 80.0, rnd() * 80.0);
+        let want = tris
+            .iter()
+            .filter_map(|t| brute(*t, x, y, r))
+            .fold(None, |a: Option<f64>, z| Some(a.map_or(z, |a| a.max(z))));
+        match (dc.drop(x, y), want) {
+            (Some(g), Some(w)) => {
+                assert!((g - w).abs() < 1e-6, "{g} vs {w} at {x},{y}");
+                assert!(dc.above(x, y, g - 1e-5) && !dc.above(x, y, g + 1e-5));
+                checked += 1;
+            }
+            (None, None) => assert!(!dc.above(x, y, f64::NEG_INFINITY)),
+            (g, w) => panic!("{g:?} vs {w:?} at {x},{y}"),
+        }
+    }
+    checked
+}
+
 #[test]
 fn a_soup_drops_to_the_highest_of_its_triangles_alone() {
     // Brute force as above, triangle by triangle: over a soup of long
@@ -149,24 +179,7 @@ fn a_soup_drops_to_the_highest_of_its_triangles_alone() {
     let (tris, m) = soup(&mut rnd, 150, 60.0, [30.0, 4.0], 10.0);
     let r = 5.0;
     let dc = DropCutter::new(&[&m], Cutter::ball(2.0 * r));
-    let mut checked = 0;
-    for _ in 0..400 {
-        let (x, y) = (rnd() * 80.0, rnd() * 80.0);
-        let want = tris
-            .iter()
-            .filter_map(|t| brute(*t, x, y, r))
-            .fold(None, |a: Option<f64>, z| Some(a.map_or(z, |a| a.max(z))));
-        let got = dc.drop(x, y);
-        match (got, want) {
-            (Some(g), Some(w)) => {
-                assert!((g - w).abs() < 1e-6, "{g} vs {w} at {x},{y}");
-                assert!(dc.above(x, y, g - 1e-5) && !dc.above(x, y, g + 1e-5));
-                checked += 1;
-            }
-            (None, None) => assert!(!dc.above(x, y, f64::NEG_INFINITY)),
-            (g, w) => panic!("{g:?} vs {w:?} at {x},{y}"),
-        }
-    }
+    let checked = against_brute(&dc, &tris, r, &mut rnd, 400);
     assert!(checked > 200, "{checked}");
 }
 
@@ -185,23 +198,7 @@ fn a_tool_on_the_first_mesh_ignores_the_later_ones() {
     let r = 5.0;
     let prep = Arc::new(Prepared::new(&[&first, &second]));
     let dc = DropCutter::on_first(prep, Cutter::ball(2.0 * r), 1);
-    let mut checked = 0;
-    for _ in 0..300 {
-        let (x, y) = (rnd() * 80.0, rnd() * 80.0);
-        let want = tris
-            .iter()
-            .filter_map(|t| brute(*t, x, y, r))
-            .fold(None, |a: Option<f64>, z| Some(a.map_or(z, |a| a.max(z))));
-        match (dc.drop(x, y), want) {
-            (Some(g), Some(w)) => {
-                assert!((g - w).abs() < 1e-6, "{g} vs {w} at {x},{y}");
-                assert!(dc.above(x, y, g - 1e-5) && !dc.above(x, y, g + 1e-5));
-                checked += 1;
-            }
-            (None, None) => assert!(!dc.above(x, y, f64::NEG_INFINITY)),
-            (g, w) => panic!("{g:?} vs {w:?} at {x},{y}"),
-        }
-    }
+    let checked = against_brute(&dc, &tris, r, &mut rnd, 300);
     assert!(checked > 150, "{checked}");
 }
 
