@@ -22,6 +22,7 @@ fuzz_target!(|data: &[u8]| {
         keep: vec![],
         floor: None,
         pockets: vec![],
+        prepared: [None, None],
     };
     let sources = vec![ProgramSource { name: "fuzz.nc".into(), side: Side::Deck, reader: Box::new(data), loaded: None }];
     let _ = verify::verify(sources, &setting, VerifyOptions { cell: 1.0, ..Default::default() }, &|_| {});
