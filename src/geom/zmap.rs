@@ -155,6 +155,8 @@ impl ZMap {
                     rows: top.len() / nx,
                     nx,
                     highest: Vec::new(),
+                    open: Vec::new(),
+                    cut: Vec::new(),
                     top,
                     bottom,
                 };
@@ -196,6 +198,10 @@ struct Band<'a> {
     rows: usize,
     nx: usize,
     highest: Vec<f32>,
+    /// For the move being applied, whether each block it spans is open
+    /// and whether it cut there (kept between moves, not allocated anew).
+    open: Vec<bool>,
+    cut: Vec<bool>,
     top: &'a mut [f32],
     bottom: &'a [f32],
 }
@@ -252,17 +258,18 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
     let (b0, b1) = (i0 / BLOCK_COLUMNS, i1 / BLOCK_COLUMNS);
     let (y0, y1) = (centre(jj0, 1), centre(jj1, 1));
     let dy = (by[0] - y1).max(y0 - by[1]).max(0.0);
-    let open: Vec<bool> = (b0..=b1)
-        .map(|bk| {
-            let (c0, c1) = (
-                (bk * BLOCK_COLUMNS).max(i0),
-                ((bk + 1) * BLOCK_COLUMNS - 1).min(i1),
-            );
-            let dx = (bx[0] - centre(c1, 0)).max(centre(c0, 0) - bx[1]).max(0.0);
-            !clear(band.highest[bk], dx * dx + dy * dy)
-        })
-        .collect();
+    let mut open = std::mem::take(&mut band.open);
+    open.clear();
+    open.extend((b0..=b1).map(|bk| {
+        let (c0, c1) = (
+            (bk * BLOCK_COLUMNS).max(i0),
+            ((bk + 1) * BLOCK_COLUMNS - 1).min(i1),
+        );
+        let dx = (bx[0] - centre(c1, 0)).max(centre(c0, 0) - bx[1]).max(0.0);
+        !clear(band.highest[bk], dx * dx + dy * dy)
+    }));
     if !open.contains(&true) {
+        band.open = open;
         return touch;
     }
     // A ball reaches no cell farther from the move's box than where its
@@ -280,7 +287,9 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
     } else {
         None
     };
-    let mut cut = vec![false; open.len()];
+    let mut cut = std::mem::take(&mut band.cut);
+    cut.clear();
+    cut.resize(open.len(), false);
     let sweep = SweptShape::new(m);
     let (top, bottom) = (&mut *band.top, band.bottom);
     for j in jj0..=jj1 {
@@ -343,6 +352,8 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
             band.highest[bk] = band.highest_in(bk);
         }
     }
+    band.open = open;
+    band.cut = cut;
     touch
 }
 
