@@ -376,6 +376,7 @@ impl Placement {
             }
         }
     }
+
     /// No less than [`floor_at`](Self::floor_at) anywhere along X: the
     /// floor follows the parting line between its points, and a concave
     /// only lowers it on the bottom.
