@@ -35,21 +35,42 @@ pub fn cylinder_crossing(
     r2: f64,
     upper: bool,
 ) -> Option<f64> {
-    let k0 = wx * u[0] + wy * u[1];
-    let bq = -2.0 * k0 * u[2];
-    let cq = wx * wx + wy * wy - k0 * k0 - r2;
-    let disc = bq * bq - 4.0 * a * cq;
+    let (k0, bq, disc) = cylinder_quadratic(wx, wy, u, a, r2);
     if disc < 0.0 {
         return None;
     }
+    let (s, along) = cylinder_root((k0, bq, disc), u, a, upper);
+    (0.0..=len).contains(&along).then_some(s)
+}
+
+/// The quadratic in the height s whose roots are the crossings of
+/// [`cylinder_crossing`]: the distance along the segment of the point
+/// level with its start (k0), the linear coefficient and the
+/// discriminant (negative: no crossing).
+#[inline(always)]
+pub fn cylinder_quadratic(wx: f64, wy: f64, u: [f64; 3], a: f64, r2: f64) -> (f64, f64, f64) {
+    let k0 = wx * u[0] + wy * u[1];
+    let bq = -2.0 * k0 * u[2];
+    let cq = wx * wx + wy * wy - k0 * k0 - r2;
+    (k0, bq, bq * bq - 4.0 * a * cq)
+}
+
+/// The upper or lower root of [`cylinder_quadratic`] (a discriminant not
+/// below zero) and how far along the segment it lies.
+#[inline(always)]
+pub fn cylinder_root(
+    (k0, bq, disc): (f64, f64, f64),
+    u: [f64; 3],
+    a: f64,
+    upper: bool,
+) -> (f64, f64) {
     let root = disc.sqrt();
     let s = if upper {
         (-bq + root) / (2.0 * a)
     } else {
         (-bq - root) / (2.0 * a)
     };
-    let along = k0 + s * u[2];
-    (0.0..=len).contains(&along).then_some(s)
+    (s, k0 + s * u[2])
 }
 
 /// Whether (x, y) lies in the triangle's plan projection (edges included).

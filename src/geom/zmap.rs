@@ -11,7 +11,7 @@
 
 use rayon::prelude::*;
 
-use crate::geom::contact::cylinder_crossing;
+use crate::geom::contact::{cylinder_crossing, cylinder_quadratic, cylinder_root};
 use crate::model::job::Block;
 use crate::model::machine::{Cutter, ToolKind};
 
@@ -291,6 +291,7 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
     cut.clear();
     cut.resize(open.len(), false);
     let sweep = SweptShape::new(m);
+    let capsule = ball && sweep.d[2] != 0.0;
     let (top, bottom) = (&mut *band.top, band.bottom);
     for j in jj0..=jj1 {
         let y = centre(j, 1);
@@ -320,6 +321,29 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
                 (bk * BLOCK_COLUMNS).max(ri0),
                 ((bk + 1) * BLOCK_COLUMNS - 1).min(ri1),
             );
+            if capsule {
+                // A sloped ball's lowest points over the block's cells in
+                // this row, all at once. (The cells `clear` would pass over
+                // are left by the test against the top: it has 1e-4 mm to
+                // spare.)
+                let lows = sweep.capsule_lows(c0, y, (origin[0], cell[0]));
+                for (i, &z) in (c0..=c1).zip(&lows) {
+                    let k = row + i;
+                    let (h, z) = (top[k], z as f32);
+                    if z < h && h > zlow && h > bottom[k] {
+                        let depth = (h - z.max(bottom[k])) as f64;
+                        if depth > touch.depth {
+                            touch = Touch {
+                                depth,
+                                at: [centre(i, 0), y],
+                            };
+                        }
+                        top[k] = z;
+                        cut[o] = true;
+                    }
+                }
+                continue;
+            }
             for i in c0..=c1 {
                 let k = row + i;
                 let h = top[k];
@@ -472,6 +496,57 @@ impl SweptShape {
                 Some(f(t0).min(f(t1)).min(fc).min(fe))
             }
         }
+    }
+
+    /// [`lowest`](Self::lowest) of a sloped ball's move over the cells
+    /// `first..first + BLOCK_COLUMNS` of the row at `y` (cell `i` centred
+    /// at `x0 + (i + 0.5) · step`), +∞ where the ball does not pass over
+    /// a cell: the same arithmetic in the same order, with no branches, so
+    /// the compiler computes the cells side by side in vector registers.
+    fn capsule_lows(&self, first: usize, y: f64, (x0, step): (f64, f64)) -> [f64; BLOCK_COLUMNS] {
+        let r = self.cutter.radius;
+        let r2 = r * r;
+        let py = y - self.a[1];
+        let c0 = [self.a[0], self.a[1], self.a[2] + r];
+        let ends = [
+            (c0[0], c0[1], c0[2]),
+            (c0[0] + self.d[0], c0[1] + self.d[1], c0[2] + self.d[2]),
+        ];
+        let u = self.u;
+        let a = 1.0 - u[2] * u[2];
+        let beside = self.len > 0.0 && a > 1e-12;
+        let mut lows = [f64::INFINITY; BLOCK_COLUMNS];
+        for (l, low) in lows.iter_mut().enumerate() {
+            let x = x0 + ((first + l) as f64 + 0.5) * step;
+            let px = x - self.a[0];
+            let t = if self.dxy2 > 0.0 {
+                ((px * self.d[0] + py * self.d[1]) / self.dxy2).clamp(0.0, 1.0)
+            } else {
+                0.0
+            };
+            let (ex, ey) = (px - t * self.d[0], py - t * self.d[1]);
+            let mut best = f64::INFINITY;
+            for (cx, cy, cz) in ends {
+                let d2 = (x - cx).powi(2) + (y - cy).powi(2);
+                best = best.min(if d2 <= r2 {
+                    cz - (r2 - d2).sqrt()
+                } else {
+                    f64::INFINITY
+                });
+            }
+            if beside {
+                let q = cylinder_quadratic(x - c0[0], y - c0[1], u, a, r2);
+                let (s, along) = cylinder_root(q, u, a, false);
+                let crosses = q.2 >= 0.0 && (0.0..=self.len).contains(&along);
+                best = best.min(if crosses { c0[2] + s } else { f64::INFINITY });
+            }
+            *low = if ex * ex + ey * ey > r * r {
+                f64::INFINITY
+            } else {
+                best
+            };
+        }
+        lows
     }
 
     /// Lowest point of the capsule of radius r about the centre path: the
