@@ -93,7 +93,11 @@ pub fn make(
                 &dir,
             )?;
             files.extend(template_files);
-            Ok((report, files))
+            // The board meshed coarser for the page's 3D view.
+            let screen =
+                crate::meshing::mesher::mesh_board(&board, crate::page::scene::SCREEN_TOLERANCE)
+                    .ok();
+            Ok((report, files, screen))
         },
         || match (cut, &profiles) {
             (Some(args), Some((machine, job))) => {
@@ -113,42 +117,46 @@ pub fn make(
             _ => Err(None),
         },
     );
-    let (report, mut files) = shape?;
+    let (report, mut files, screen) = shape?;
     // The weight and cloth, for the page and the order sheet.
     let weight = crate::volume::weight::estimate(
         &board,
         &certified.mesh,
         certified.certificate.mesh_litres * 1e6,
     );
-    let page = {
-        let section = match &cutting {
-            Ok((plan, verification, cut_files)) => {
-                files.extend(cut_files.iter().cloned());
-                crate::page::CutSection::Done { plan, verification }
-            }
-            Err(None) => crate::page::CutSection::Skipped,
-            Err(Some(e)) => crate::page::CutSection::Failed(e.to_string()),
-        };
-        board_page(
-            &report,
-            section,
-            &files,
-            &dir,
-            fitting_lines(&board, &weight),
-            screen_scene(&board, &cutting),
-            &board,
-        )
+    let section = match &cutting {
+        Ok((plan, verification, cut_files)) => {
+            files.extend(cut_files.iter().cloned());
+            crate::page::CutSection::Done { plan, verification }
+        }
+        Err(None) => crate::page::CutSection::Skipped,
+        Err(Some(e)) => crate::page::CutSection::Failed(e.to_string()),
     };
-    files.push((dir.join("index.html"), page.into_bytes()));
     let summary = match &cutting {
         Ok((plan, verification, _)) => cut_summary(plan, verification),
         _ => vec![],
     };
-    let sheet = crate::template::order::order_page(&board, &report, &weight, &summary, paper);
-    files.push((
-        dir.join(format!("{}.order.pdf", board.name)),
-        crate::template::print::to_pdf(&[sheet]),
-    ));
+    // The page and the order sheet, side by side.
+    let (page, sheet) = rayon::join(
+        || {
+            board_page(
+                &report,
+                section,
+                &files,
+                &dir,
+                fitting_lines(&board, &weight),
+                screen.map(|mesh| screen_scene(&mesh, &cutting)),
+                &board,
+            )
+        },
+        || {
+            let sheet =
+                crate::template::order::order_page(&board, &report, &weight, &summary, paper);
+            crate::template::print::to_pdf(&[sheet])
+        },
+    );
+    files.push((dir.join("index.html"), page.into_bytes()));
+    files.push((dir.join(format!("{}.order.pdf", board.name)), sheet));
     let named: Vec<(String, Vec<u8>)> = files
         .into_iter()
         .map(|(p, b)| {
@@ -298,14 +306,12 @@ pub(crate) fn fitting_lines(
 /// and painted by the simulation when it was cut. None when the coarse
 /// mesh cannot be made (the page then goes without the view).
 fn screen_scene<E>(
-    board: &Board,
+    mesh: &crate::model::mesh::Mesh,
     cutting: &Result<(CutPlan, crate::verify::report::Verification, Files), E>,
-) -> Option<crate::page::scene::Scene> {
-    use crate::page::scene;
-    let mesh = crate::meshing::mesher::mesh_board(board, scene::SCREEN_TOLERANCE).ok()?;
+) -> crate::page::scene::Scene {
     let cut = cutting.as_ref().ok().map(|(plan, v, _)| (plan, v));
     let scale = cut.map_or(1.0, |(_, v)| crate::verify::picture::colour_scale(v));
-    Some(scene::scene(&mesh, cut, scale))
+    crate::page::scene::scene(mesh, cut, scale)
 }
 
 /// The board's report page from the files about to be written.

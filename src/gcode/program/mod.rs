@@ -13,6 +13,7 @@ use crate::toolpath::paths::{self, SetupPaths};
 use crate::toolpath::pockets;
 use crate::toolpath::setup::{self, CamError, Placement, Side};
 use crate::units::{self, Unit};
+use rayon::prelude::*;
 
 mod gates;
 mod header;
@@ -134,17 +135,10 @@ pub fn plan(
             }
         }
     }
-    let mut programs = Vec::new();
-    for sp in &setups {
-        // Group the paths by tool, in cutting order.
-        let mut groups: Vec<Vec<&Toolpath>> = Vec::new();
-        for p in &sp.paths {
-            match groups.last_mut() {
-                Some(g) if machine.tool_changer || g[0].pass.tool.id == p.pass.tool.id => g.push(p),
-                _ => groups.push(vec![p]),
-            }
-        }
-        for g in groups {
+    // One program for each setup's paths of a tool, written side by side.
+    let programs: Vec<Program> = tool_groups(&setups, machine)
+        .into_par_iter()
+        .map(|(sp, g)| {
             let tool = g[0].pass.tool.clone();
             let (time_s, path_mm) = estimate(&g, machine, stringer_feed(&placement.block, job));
             let tools: Vec<String> = {
@@ -205,7 +199,7 @@ pub fn plan(
                     used.push(p.pass.tool.clone());
                 }
             }
-            programs.push(Program {
+            Program {
                 file_name,
                 side: sp.side,
                 tool,
@@ -214,18 +208,19 @@ pub fn plan(
                 text,
                 time_s,
                 path_mm,
-            });
-        }
-    }
-    for p in &programs {
-        let problems = check_text(p, machine, &placement, job);
-        if !problems.is_empty() {
-            return Err(CamError::Refused(format!(
-                "{}: {}",
-                p.file_name,
-                problems.join("; ")
-            )));
-        }
+            }
+        })
+        .collect();
+    let problems: Vec<Vec<String>> = programs
+        .par_iter()
+        .map(|p| check_text(p, machine, &placement, job))
+        .collect();
+    if let Some((p, problems)) = programs.iter().zip(problems).find(|(_, e)| !e.is_empty()) {
+        return Err(CamError::Refused(format!(
+            "{}: {}",
+            p.file_name,
+            problems.join("; ")
+        )));
     }
     let mut sheet = setup_sheet(name, litres, &placement, &programs, machine, job);
     if let Some(note) = pocket_note {
@@ -238,6 +233,26 @@ pub fn plan(
         sheet,
         pockets: pocket_zones,
     })
+}
+
+/// Each setup's paths grouped by tool in cutting order (one group a setup
+/// with a tool changer), with their setup: a program each.
+fn tool_groups<'a>(
+    setups: &'a [SetupPaths],
+    machine: &Machine,
+) -> Vec<(&'a SetupPaths, Vec<&'a Toolpath>)> {
+    let mut groups = Vec::new();
+    for sp in setups {
+        let mut own: Vec<Vec<&Toolpath>> = Vec::new();
+        for p in &sp.paths {
+            match own.last_mut() {
+                Some(g) if machine.tool_changer || g[0].pass.tool.id == p.pass.tool.id => g.push(p),
+                _ => own.push(vec![p]),
+            }
+        }
+        groups.extend(own.into_iter().map(|g| (sp, g)));
+    }
+    groups
 }
 
 /// How far a setup's program Z stand above the planner's own: 0 in setup

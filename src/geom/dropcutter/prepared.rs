@@ -79,7 +79,13 @@ impl Prepared {
         let mut tris: Vec<Tri> = Vec::new();
         let mut ends = Vec::with_capacity(meshes.len());
         for m in meshes {
-            tris.par_extend(m.triangles.par_iter().filter_map(|t| prepare(m.corners(t))));
+            let ready: Vec<Option<Tri>> = m
+                .triangles
+                .par_iter()
+                .map(|t| prepare(m.corners(t)))
+                .collect();
+            tris.reserve(ready.len());
+            tris.extend(ready.into_iter().flatten());
             ends.push(tris.len());
         }
         // A total order (height, then input order), so the unstable sort
@@ -105,12 +111,16 @@ impl Prepared {
             zmax: f32_toward(t.zmax, false),
             tri,
         };
+        let bounds: Vec<Entry> = tris
+            .par_iter()
+            .enumerate()
+            .map(|(i, t)| bound(t, i as u32))
+            .collect();
         // The plan box of every (rounded) corner, so every triangle's
         // rounded box lies within the grid's cells.
         let mut lo = [f64::INFINITY; 2];
         let mut hi = [f64::NEG_INFINITY; 2];
-        for (i, t) in tris.iter().enumerate() {
-            let e = bound(t, i as u32);
+        for e in &bounds {
             lo = [lo[0].min(e.bb[0] as f64), lo[1].min(e.bb[1] as f64)];
             hi = [hi[0].max(e.bb[2] as f64), hi[1].max(e.bb[3] as f64)];
         }
@@ -158,8 +168,8 @@ impl Prepared {
         };
         let nb = dims[0] * dims[1];
         let mut counts = vec![0u32; nb + 1];
-        for (i, t) in tris.iter().enumerate() {
-            let (i0, i1, j0, j1) = cells(&bound(t, i as u32));
+        for e in &bounds {
+            let (i0, i1, j0, j1) = cells(e);
             for j in j0..=j1 {
                 for i in i0..=i1 {
                     counts[j * dims[0] + i + 1] += 1;
@@ -181,7 +191,7 @@ impl Prepared {
         let mut entries = vec![empty; starts[nb] as usize];
         let mut tops = vec![f32::NEG_INFINITY; nb];
         for &ti in &order {
-            let e = bound(&tris[ti as usize], ti);
+            let e = bounds[ti as usize];
             let (i0, i1, j0, j1) = cells(&e);
             for j in j0..=j1 {
                 for i in i0..=i1 {
