@@ -12,6 +12,7 @@ use crate::geom::zmap::ZMap;
 use crate::model::machine::Cutter;
 use crate::model::mesh::Mesh;
 use crate::toolpath::setup::{Side, flip, flip_mesh};
+use rayon::prelude::*;
 use std::sync::Arc;
 
 /// The figures against the design, from the stock's top after setup 1
@@ -41,7 +42,6 @@ pub(super) fn against(
     // Foam left on the board by the tabs: inside their rectangles on the
     // design's plan, and outside the plan within a ball's radius of them.
     let mut beside_tabs = vec![];
-    let mut on_tabs = vec![];
     let mut maps = vec![deviation(
         &m1,
         (design, setting.prepared[0].clone()),
@@ -70,68 +70,30 @@ pub(super) fn against(
         beside_tabs = tabs;
         v.parting_line = super::outside::summary(fin, options.cell * options.cell);
     }
-    let mut all: Vec<f32> = Vec::new();
-    let (mut gouge, mut left) = ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
-    let (mut reach_left, mut out_of_reach) =
-        ((f64::NEG_INFINITY, [0.0; 3]), (f64::NEG_INFINITY, [0.0; 3]));
-    let mut out_of_reach_cells = 0usize;
-    let mut pocket_cells: Vec<Vec<f64>> = vec![vec![]; setting.pockets.len()];
     let near_pocket = pocket_boxes(setting, 1.5 * options.cell);
+    // Each row's figures side by side, then taken in the maps' order, so
+    // the first of equal extremes is the one reported, as in a scan.
+    let mut sum = Figures::new();
+    sum.pockets = vec![vec![]; setting.pockets.len()];
     for dm in &maps {
-        for j in 0..dm.dims[1] {
-            for i in 0..dm.dims[0] {
-                let d = dm.deviation[j * dm.dims[0] + i];
-                if d.is_nan() {
-                    continue;
-                }
-                let p = [
-                    dm.origin[0] + (i as f64 + 0.5) * dm.cell[0],
-                    dm.origin[1] + (j as f64 + 0.5) * dm.cell[1],
-                    dm.side.number() as f64,
-                ];
-                let d = d as f64;
-                let y1 = if dm.side == Side::Bottom {
-                    b.width - p[1]
-                } else {
-                    p[1]
-                };
-                if d > 0.0 && setting.keep.iter().any(|r| in_rect([p[0], y1], r, 0.0)) {
-                    on_tabs.push((d, p));
-                    continue;
-                }
-                if let Some(k) = setting.pockets.iter().zip(&near_pocket).position(|(z, b)| {
-                    z.side == dm.side && in_rect([p[0], p[1]], b, 0.0) && z.contains([p[0], p[1]])
-                }) {
-                    pocket_cells[k].push(-d);
-                    continue;
-                }
-                // A cell at a pocket's wall stands beside a cliff as
-                // deep as the pocket: it is judged neither way.
-                if setting.pockets.iter().zip(&near_pocket).any(|(z, b)| {
-                    z.side == dm.side
-                        && in_rect([p[0], p[1]], b, 0.0)
-                        && z.edge_distance([p[0], p[1]]) <= 1.5 * options.cell
-                }) {
-                    continue;
-                }
-                if -d > gouge.0 {
-                    gouge = (-d, p);
-                }
-                if d > left.0 {
-                    left = (d, p);
-                }
-                if dm.unreachable.get(j * dm.dims[0] + i) == Some(&true) {
-                    out_of_reach_cells += 1;
-                    if d > out_of_reach.0 {
-                        out_of_reach = (d, p);
-                    }
-                } else if d > reach_left.0 {
-                    reach_left = (d, p);
-                }
-                all.push(d.max(0.0) as f32);
-            }
+        let rows: Vec<Figures> = (0..dm.dims[1])
+            .into_par_iter()
+            .map(|j| row_figures(dm, j, setting, &near_pocket, options.cell))
+            .collect();
+        for row in rows {
+            sum.take(row);
         }
     }
+    let Figures {
+        mut on_tabs,
+        pockets: pocket_cells,
+        gouge,
+        left,
+        reach_left,
+        out_of_reach,
+        out_of_reach_cells,
+        mut all,
+    } = sum;
     let cell_area = options.cell * options.cell;
     on_tabs.extend(beside_tabs);
     v.tab_zones = super::outside::summary(on_tabs, cell_area);
@@ -172,6 +134,125 @@ pub(super) fn against(
         }
     }
     v.maps = maps;
+}
+
+/// A measured figure and where: (value, [x, y, setup]).
+type At = (f64, [f64; 3]);
+
+/// The figures of some cells of the deviation maps.
+struct Figures {
+    on_tabs: Vec<At>,
+    /// Each pocket's cells' depths below the design.
+    pockets: Vec<Vec<f64>>,
+    gouge: At,
+    left: At,
+    reach_left: At,
+    out_of_reach: At,
+    out_of_reach_cells: usize,
+    all: Vec<f32>,
+}
+
+impl Figures {
+    fn new() -> Figures {
+        let none = (f64::NEG_INFINITY, [0.0; 3]);
+        Figures {
+            on_tabs: vec![],
+            pockets: vec![],
+            gouge: none,
+            left: none,
+            reach_left: none,
+            out_of_reach: none,
+            out_of_reach_cells: 0,
+            all: vec![],
+        }
+    }
+
+    /// Adds the figures of cells after these.
+    fn take(&mut self, later: Figures) {
+        let higher = |a: &mut At, b: At| {
+            if b.0 > a.0 {
+                *a = b;
+            }
+        };
+        self.on_tabs.extend(later.on_tabs);
+        self.pockets
+            .resize(self.pockets.len().max(later.pockets.len()), vec![]);
+        for (mine, theirs) in self.pockets.iter_mut().zip(later.pockets) {
+            mine.extend(theirs);
+        }
+        higher(&mut self.gouge, later.gouge);
+        higher(&mut self.left, later.left);
+        higher(&mut self.reach_left, later.reach_left);
+        higher(&mut self.out_of_reach, later.out_of_reach);
+        self.out_of_reach_cells += later.out_of_reach_cells;
+        self.all.extend(later.all);
+    }
+}
+
+/// The figures of row `j` of a deviation map: a cell on a tab, in a
+/// pocket, at a pocket's wall (judged neither way) or on the board.
+fn row_figures(
+    dm: &DeviationMap,
+    j: usize,
+    setting: &Setting,
+    near_pocket: &[[[f64; 2]; 2]],
+    cell: f64,
+) -> Figures {
+    let b = &setting.block;
+    let mut f = Figures::new();
+    f.pockets = vec![vec![]; setting.pockets.len()];
+    for i in 0..dm.dims[0] {
+        let d = dm.deviation[j * dm.dims[0] + i];
+        if d.is_nan() {
+            continue;
+        }
+        let p = [
+            dm.origin[0] + (i as f64 + 0.5) * dm.cell[0],
+            dm.origin[1] + (j as f64 + 0.5) * dm.cell[1],
+            dm.side.number() as f64,
+        ];
+        let d = d as f64;
+        let y1 = if dm.side == Side::Bottom {
+            b.width - p[1]
+        } else {
+            p[1]
+        };
+        if d > 0.0 && setting.keep.iter().any(|r| in_rect([p[0], y1], r, 0.0)) {
+            f.on_tabs.push((d, p));
+            continue;
+        }
+        if let Some(k) = setting.pockets.iter().zip(near_pocket).position(|(z, b)| {
+            z.side == dm.side && in_rect([p[0], p[1]], b, 0.0) && z.contains([p[0], p[1]])
+        }) {
+            f.pockets[k].push(-d);
+            continue;
+        }
+        // A cell at a pocket's wall stands beside a cliff as deep as
+        // the pocket: it is judged neither way.
+        if setting.pockets.iter().zip(near_pocket).any(|(z, b)| {
+            z.side == dm.side
+                && in_rect([p[0], p[1]], b, 0.0)
+                && z.edge_distance([p[0], p[1]]) <= 1.5 * cell
+        }) {
+            continue;
+        }
+        if -d > f.gouge.0 {
+            f.gouge = (-d, p);
+        }
+        if d > f.left.0 {
+            f.left = (d, p);
+        }
+        if dm.unreachable.get(j * dm.dims[0] + i) == Some(&true) {
+            f.out_of_reach_cells += 1;
+            if d > f.out_of_reach.0 {
+                f.out_of_reach = (d, p);
+            }
+        } else if d > f.reach_left.0 {
+            f.reach_left = (d, p);
+        }
+        f.all.push(d.max(0.0) as f32);
+    }
+    f
 }
 
 /// Each pocket's plan box grown by `margin` (its wall's): a cell outside

@@ -136,32 +136,33 @@ impl Prepared {
     fn band(&self, lattice: &Lattice, first: usize, out: &mut [u32], list: &[(u32, [usize; 4])]) {
         let nx = lattice.dims[0];
         let last = first + out.len() / nx - 1;
-        // Every touch of the band's triangles at the points under them.
-        let each = |visit: &mut dyn FnMut(usize, f64, u32)| {
-            for &(t, [i0, i1, j0, j1]) in list {
-                let one = &self.tris[t as usize];
-                for j in j0.max(first)..=j1.min(last) {
-                    for i in i0..=i1 {
-                        let p = lattice.point(i, j);
-                        let z = flat_touch(one, p[0], p[1], 0.0);
-                        if z != f64::NEG_INFINITY {
-                            visit((j - first) * nx + i, z, t);
-                        }
+        // Every touch of the band's triangles at the points under them,
+        // in the order found, and the highest at each point; then the
+        // triangle first by rank of those within EQUAL of it (the drop's
+        // rule).
+        let mut top = vec![f64::NEG_INFINITY; out.len()];
+        let mut touches: Vec<(u32, u32, f64)> = Vec::new();
+        for &(t, [i0, i1, j0, j1]) in list {
+            let one = &self.tris[t as usize];
+            for j in j0.max(first)..=j1.min(last) {
+                for i in i0..=i1 {
+                    let p = lattice.point(i, j);
+                    let z = flat_touch(one, p[0], p[1], 0.0);
+                    if z != f64::NEG_INFINITY {
+                        let k = (j - first) * nx + i;
+                        top[k] = top[k].max(z);
+                        touches.push((k as u32, t, z));
                     }
                 }
             }
-        };
-        // The highest touch at each point, then the triangle first by
-        // rank of those within EQUAL of it (the drop's rule).
-        let mut top = vec![f64::NEG_INFINITY; out.len()];
-        each(&mut |k, z, _| top[k] = top[k].max(z));
-        each(&mut |k, z, t| {
-            let c = out[k];
+        }
+        for (k, t, z) in touches {
+            let (k, c) = (k as usize, out[k as usize]);
             if z >= top[k] - EQUAL
                 && (c == u32::MAX || self.rank[t as usize] < self.rank[c as usize])
             {
                 out[k] = t;
             }
-        });
+        }
     }
 }

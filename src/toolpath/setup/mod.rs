@@ -467,7 +467,18 @@ fn line_at(p: &[[f64; 2]], x: f64) -> f64 {
     if x >= p[p.len() - 1][0] {
         return p[p.len() - 1][1];
     }
-    let k = p.partition_point(|q| q[0] <= x).clamp(1, p.len() - 1);
+    // The first point past x (as a binary search finds it), looked for
+    // from where it would be if the points were evenly spaced, as they
+    // nearly are.
+    let last = p.len() - 1;
+    let guess = (x - p[0][0]) / (p[last][0] - p[0][0]) * last as f64;
+    let mut k = (guess as usize).clamp(1, last);
+    while k > 1 && p[k - 1][0] > x {
+        k -= 1;
+    }
+    while k < last && p[k][0] <= x {
+        k += 1;
+    }
     let (a, b) = (p[k - 1], p[k]);
     a[1] + (b[1] - a[1]) * (x - a[0]) / (b[0] - a[0]).max(1e-12)
 }
@@ -475,6 +486,28 @@ fn line_at(p: &[[f64; 2]], x: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_line_is_read_between_the_points_a_binary_search_finds() {
+        // Unevenly spaced points, some bunched, one repeated: the segment
+        // used is the one `partition_point` (the standard library's binary
+        // search) picks, at every X, between points and on them.
+        let xs: [f64; 10] = [0.0, 2.0, 2.5, 2.6, 9.0, 9.0, 10.0, 31.0, 32.0, 40.0];
+        let p: Vec<[f64; 2]> = xs.iter().map(|&x| [x, (x * 0.37).sin()]).collect();
+        for k in 0..=4100 {
+            let x = -1.0 + k as f64 * 0.01;
+            let want = if x <= 0.0 {
+                p[0][1]
+            } else if x >= 40.0 {
+                p[9][1]
+            } else {
+                let k = p.partition_point(|q| q[0] <= x).clamp(1, 9);
+                let (a, b) = (p[k - 1], p[k]);
+                a[1] + (b[1] - a[1]) * (x - a[0]) / (b[0] - a[0]).max(1e-12)
+            };
+            assert_eq!(line_at(&p, x).to_bits(), want.to_bits(), "at x = {x}");
+        }
+    }
 
     #[test]
     fn the_flip_maps_the_registration_holes_onto_themselves() {
