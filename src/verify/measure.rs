@@ -20,7 +20,7 @@ use std::sync::Arc;
 /// `balls` is the smallest ball that finished each side.
 pub(super) fn against(
     v: &mut Verification,
-    design: &Mesh,
+    (design, near): (&Mesh, &Nearest),
     setting: &Setting,
     options: VerifyOptions,
     (top1, top2): (Vec<f32>, Option<&ZMap>),
@@ -38,7 +38,6 @@ pub(super) fn against(
         });
         balls[side.number() as usize - 1].map(|r| Reach { r, floor })
     };
-    let near = Nearest::new(design);
     // Foam left on the board by the tabs: inside their rectangles on the
     // design's plan, and outside the plan within a ball's radius of them.
     let mut beside_tabs = vec![];
@@ -47,7 +46,7 @@ pub(super) fn against(
         (design, setting.prepared[0].clone()),
         Side::Deck,
         reach(Side::Deck),
-        (&near, |p| p),
+        (near, |p| p),
     )];
     if let Some(m2) = top2 {
         let to_design = |p| flip(p, b);
@@ -56,7 +55,7 @@ pub(super) fn against(
             (&flip_mesh(design, b), setting.prepared[1].clone()),
             Side::Bottom,
             reach(Side::Bottom),
-            (&near, to_design),
+            (near, to_design),
         ));
         let inside: Vec<bool> = maps[1].deviation.iter().map(|d| !d.is_nan()).collect();
         let keep: Vec<[[f64; 2]; 2]> = setting
@@ -66,7 +65,7 @@ pub(super) fn against(
             .collect();
         let tab_reach = balls[1].or(balls[0]).unwrap_or(0.0);
         let (fin, tabs) =
-            super::outside::outside_plan(m2, &inside, &keep, tab_reach, &near, to_design);
+            super::outside::outside_plan(m2, &inside, &keep, tab_reach, near, to_design);
         beside_tabs = tabs;
         v.parting_line = super::outside::summary(fin, options.cell * options.cell);
     }
@@ -75,6 +74,8 @@ pub(super) fn against(
     // the first of equal extremes is the one reported, as in a scan.
     let mut sum = Figures::new();
     sum.pockets = vec![vec![]; setting.pockets.len()];
+    sum.all
+        .reserve(maps.iter().map(|m| m.deviation.len()).sum());
     for dm in &maps {
         let rows: Vec<Figures> = (0..dm.dims[1])
             .into_par_iter()
@@ -321,17 +322,20 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
         },
         1,
     );
-    let rows: Vec<(Vec<f32>, Vec<bool>, Vec<bool>)> = (0..ny)
-        .into_par_iter()
-        .map(|j| {
-            let mut dev = Vec::with_capacity(nx);
-            let mut stock = Vec::with_capacity(nx);
-            let mut unreachable = Vec::with_capacity(nx);
+    let mut deviation = vec![0.0f32; nx * ny];
+    let mut stock = vec![false; nx * ny];
+    let mut unreachable = vec![false; nx * ny];
+    let rows = deviation
+        .par_chunks_mut(nx.max(1))
+        .zip(stock.par_chunks_mut(nx.max(1)))
+        .zip(unreachable.par_chunks_mut(nx.max(1)));
+    rows.enumerate()
+        .for_each(|(j, ((dev, stock), unreachable))| {
             for i in 0..nx {
                 let c = map.centre(i, j);
                 let k = j * nx + i;
                 let present = map.top[k] > map.bottom[k];
-                stock.push(present);
+                stock[i] = present;
                 // A column cut away where the design has foam is a gouge
                 // down to the column's bottom.
                 let surface = if present { map.top[k] } else { map.bottom[k] } as f64;
@@ -345,25 +349,15 @@ fn deviation<F: Fn(f64) -> f64 + Sync>(
                     Some((z, n)) => ((surface - z) * n[2]) as f32,
                     None => f32::NAN,
                 };
-                dev.push(d);
-                unreachable.push(match (&ball, &ball_dc, touch) {
+                dev[i] = d;
+                unreachable[i] = match (&ball, &ball_dc, touch) {
                     (Some(reach), Some(dc), Some(contact)) if d as f64 > REACH_CHECKED_MM => {
                         out_of_reach(dc, reach, c, contact)
                     }
                     _ => false,
-                });
+                };
             }
-            (dev, stock, unreachable)
-        })
-        .collect();
-    let mut deviation = Vec::with_capacity(nx * ny);
-    let mut stock = Vec::with_capacity(nx * ny);
-    let mut unreachable = Vec::with_capacity(nx * ny);
-    for (d, s, u) in rows {
-        deviation.extend(d);
-        stock.extend(s);
-        unreachable.extend(u);
-    }
+        });
     // Kept only where a ball finished the side and some cell was checked.
     if ball.is_none() || !deviation.iter().any(|&d| d as f64 > REACH_CHECKED_MM) {
         unreachable = vec![];

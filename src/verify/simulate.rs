@@ -10,6 +10,7 @@ use super::report::{Finding, MAX_FINDINGS, ProgramReport, Verification};
 use super::setting::{ProgramSource, Setting, VerifyOptions};
 use crate::gcode::read::{self, Event, GcodeError, Motion, ReadOptions, ReadSummary};
 use crate::gcode::timing;
+use crate::geom::nearest::Nearest;
 use crate::geom::zmap::{Sweep, ZMap};
 use crate::model::limits::Bed;
 use crate::model::machine::{Cutter, ToolKind};
@@ -52,45 +53,56 @@ pub fn verify(
     let mut top1: Option<Vec<f32>> = None;
     // The smallest ball that cut on each side: what finished it.
     let mut balls: [Option<f64>; 2] = [None, None];
-    for src in programs {
-        if src.side == Side::Bottom && side == Side::Deck {
-            side = Side::Bottom;
-            let turned = flipped(&map, b.thickness);
-            top1 = Some(std::mem::replace(&mut map, turned).top);
-            if setting.table_zero_after_flip {
-                bed.zero_height = 0.0;
+    // The design's closest-point tree, for the measure after, is built
+    // while the programs run.
+    let mut near = None;
+    let simulated = rayon::in_place_scope(|scope| {
+        scope.spawn(|_| near = setting.design.map(Nearest::new));
+        (|| -> Result<(), GcodeError> {
+            for src in programs {
+                if src.side == Side::Bottom && side == Side::Deck {
+                    side = Side::Bottom;
+                    let turned = flipped(&map, b.thickness);
+                    top1 = Some(std::mem::replace(&mut map, turned).top);
+                    if setting.table_zero_after_flip {
+                        bed.zero_height = 0.0;
+                    }
+                }
+                progress(&format!("simulating {}", src.name));
+                let stage = Stage {
+                    setting,
+                    bed: &bed,
+                    lenient: options.lenient,
+                    side,
+                    // Program Z less this is the simulation's own (zero on
+                    // the turned stock's top, the table at minus its
+                    // thickness).
+                    shift: if side == Side::Bottom && setting.table_zero_after_flip {
+                        b.thickness
+                    } else {
+                        0.0
+                    },
+                };
+                let report = run(src, &stage, &mut map, &mut balls, &mut v)?;
+                v.time_estimate_s += report.time_estimate_s;
+                v.path_length_mm += report.path_length_mm;
+                v.programs.push(report);
             }
-        }
-        progress(&format!("simulating {}", src.name));
-        let stage = Stage {
-            setting,
-            bed: &bed,
-            lenient: options.lenient,
-            side,
-            // Program Z less this is the simulation's own (zero on the
-            // turned stock's top, the table at minus its thickness).
-            shift: if side == Side::Bottom && setting.table_zero_after_flip {
-                b.thickness
-            } else {
-                0.0
-            },
-        };
-        let report = run(src, &stage, &mut map, &mut balls, &mut v)?;
-        v.time_estimate_s += report.time_estimate_s;
-        v.path_length_mm += report.path_length_mm;
-        v.programs.push(report);
-    }
+            Ok(())
+        })()
+    });
+    simulated?;
     let final_volume = map.volume();
     let (top1, top2) = match top1 {
         Some(t1) => (t1, Some(map)),
         None => (map.top, None),
     };
     v.removed_volume_litres = (start_volume - final_volume) / 1e6;
-    if let Some(design) = setting.design {
+    if let (Some(design), Some(near)) = (setting.design, &near) {
         progress("measuring against the design");
         measure::against(
             &mut v,
-            design,
+            (design, near),
             setting,
             options,
             (top1, top2.as_ref()),
@@ -409,21 +421,31 @@ impl Findings<'_, '_> {
 /// ((x, y, z) → (x, W − y, −T − z)): each column's material [b, t] becomes
 /// [−T − t, −T − b]; a column cut away stays empty.
 fn flipped(map: &ZMap, thickness: f64) -> ZMap {
+    use rayon::prelude::*;
     let [nx, ny] = map.dims;
-    let mut out = map.clone();
-    for j in 0..ny {
-        for i in 0..nx {
-            let src = (ny - 1 - j) * nx + i;
-            let k = j * nx + i;
-            let (t, b) = (map.top[src] as f64, map.bottom[src] as f64);
-            if t > b {
-                out.bottom[k] = (-thickness - t) as f32;
-                out.top[k] = (-thickness - b) as f32;
-            } else {
-                out.bottom[k] = 0.0;
-                out.top[k] = 0.0;
-            }
-        }
+    let mut top = vec![0.0f32; nx * ny];
+    let mut bottom = vec![0.0f32; nx * ny];
+    if nx > 0 {
+        top.par_chunks_mut(nx)
+            .zip(bottom.par_chunks_mut(nx))
+            .enumerate()
+            .for_each(|(j, (top, bottom))| {
+                let src = (ny - 1 - j) * nx;
+                let (t1, b1) = (&map.top[src..src + nx], &map.bottom[src..src + nx]);
+                for (((top, bottom), &t), &b) in top.iter_mut().zip(bottom).zip(t1).zip(b1) {
+                    let (t, b) = (t as f64, b as f64);
+                    if t > b {
+                        *bottom = (-thickness - t) as f32;
+                        *top = (-thickness - b) as f32;
+                    }
+                }
+            });
     }
-    out
+    ZMap {
+        origin: map.origin,
+        cell: map.cell,
+        dims: map.dims,
+        top,
+        bottom,
+    }
 }
