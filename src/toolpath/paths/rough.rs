@@ -75,19 +75,30 @@ pub(super) fn orient(mut l: Line, clockwise: bool) -> Line {
 }
 
 /// Which `nodes` the roughing leaves to the finishing ball (`ball`, its
-/// drop-cutter on the part; `floor` under each node): where the stock's
+/// drop-cutter on the part; `floor` under each node; only those `asked`
+/// are looked at, the others are not): where the stock's
 /// top over where the ball's tip will run is within the ball's radius and
 /// its deepest cut, the ball takes the foam itself in one pass (common
 /// practice, no source: a ball cuts with its round part only). On a flat
 /// block that is nowhere much; on a blank already close to the board's
 /// shape it is most of the deck and the bottom.
-fn left_to_ball(ctx: &Ctx, ball: &DropCutter, nodes: &[[f64; 2]], floor: &[f64]) -> Vec<bool> {
+fn left_to_ball(
+    ctx: &Ctx,
+    ball: &DropCutter,
+    nodes: &[[f64; 2]],
+    floor: &[f64],
+    asked: &[bool],
+) -> Vec<bool> {
     let tool = &ctx.job.finishing.pass.tool;
     let reach = tool.cutter.radius.min(tool.max_stepdown);
     nodes
         .par_iter()
         .zip(floor)
-        .map(|(p, &f)| {
+        .zip(asked)
+        .map(|((p, &f), &asked)| {
+            if !asked {
+                return false;
+            }
             let top = ctx.stock_top_at(p[0]);
             let takes = |z: f64| top - z.max(f) <= reach;
             // Where the floor is within reach, any touch will do.
@@ -117,12 +128,6 @@ pub(super) fn roughing(ctx: &Ctx, ball: &DropCutter) -> Toolpath {
     let dc = ctx.drop_cutter(Cutter::flat(2.0 * (r + grow)));
     let nodes = grid.nodes();
     let floor: Vec<f64> = nodes.iter().map(|p| ctx.floor(p[0])).collect();
-    let high: Vec<f64> = dc
-        .drop_many(&nodes)
-        .into_iter()
-        .zip(&floor)
-        .map(|(d, &f)| d.map_or(f, |d| (d + pass.leave).max(f)))
-        .collect();
     // The band the roughing may clear: tool centres within frame - r of the outline.
     // With a cradle the band is the whole stock, and the grown region's
     // edge is its wall (so a level the part does not reach still has
@@ -135,11 +140,26 @@ pub(super) fn roughing(ctx: &Ctx, ball: &DropCutter) -> Toolpath {
                 || p[0] >= hi[0] - 1e-9
                 || p[1] >= hi[1] - 1e-9)
     };
-    let finished_by_ball = left_to_ball(ctx, ball, &nodes, &floor);
-    let in_band: Vec<bool> = nodes
+    let in_reach: Vec<bool> = nodes
+        .iter()
+        .map(|p| ctx.outside.at(*p) <= band_limit && !edge(p))
+        .collect();
+    let finished_by_ball = left_to_ball(ctx, ball, &nodes, &floor, &in_reach);
+    let in_band: Vec<bool> = in_reach
         .iter()
         .zip(&finished_by_ball)
-        .map(|(p, by_ball)| ctx.outside.at(*p) <= band_limit && !edge(p) && !by_ball)
+        .map(|(&reach, by_ball)| reach && !by_ball)
+        .collect();
+    // The part's height under the grown tool, where the band needs it
+    // (elsewhere a node is blocked at every level whatever its height).
+    let high: Vec<f64> = nodes
+        .par_iter()
+        .zip(&floor)
+        .zip(&in_band)
+        .map(|((p, &f), &b)| match b {
+            true => dc.drop(p[0], p[1]).map_or(f, |d| (d + pass.leave).max(f)),
+            false => f,
+        })
         .collect();
     let lowest = high
         .iter()
