@@ -79,13 +79,16 @@ impl Prepared {
         let mut tris: Vec<Tri> = Vec::new();
         let mut ends = Vec::with_capacity(meshes.len());
         for m in meshes {
-            let ready: Vec<Option<Tri>> = m
-                .triangles
-                .par_iter()
-                .map(|t| prepare(m.corners(t)))
-                .collect();
-            tris.reserve(ready.len());
-            tris.extend(ready.into_iter().flatten());
+            // Written in place when no triangle is degenerate (as in a
+            // mesh of our own), else gathered without those.
+            if m.triangles.par_iter().all(|t| normal(m.corners(t)).is_some()) {
+                tris.par_extend(m.triangles.par_iter().map(|t| {
+                    let p = m.corners(t);
+                    ready(p, normal(p).unwrap_or_default())
+                }));
+            } else {
+                tris.par_extend(m.triangles.par_iter().filter_map(|t| prepare(m.corners(t))));
+            }
             ends.push(tris.len());
         }
         // A total order (height, then input order), so the unstable sort
@@ -272,17 +275,24 @@ impl Prepared {
 
 /// A triangle made ready for the contact tests (none when degenerate).
 fn prepare(p: [[f64; 3]; 3]) -> Option<Tri> {
+    normal(p).map(|n| ready(p, n))
+}
+
+/// The unit normal of a triangle, pointing up (none when degenerate).
+fn normal(p: [[f64; 3]; 3]) -> Option<[f64; 3]> {
     let e1 = sub(p[1], p[0]);
     let e2 = sub(p[2], p[0]);
-    let mut n = cross(e1, e2);
+    let n = cross(e1, e2);
     let len = norm(n);
     if len.is_nan() || len <= 0.0 {
         return None;
     }
-    n = [n[0] / len, n[1] / len, n[2] / len];
-    if n[2] < 0.0 {
-        n = [-n[0], -n[1], -n[2]];
-    }
+    let n = [n[0] / len, n[1] / len, n[2] / len];
+    Some(if n[2] < 0.0 { [-n[0], -n[1], -n[2]] } else { n })
+}
+
+/// A triangle of unit normal `n` made ready for the contact tests.
+fn ready(p: [[f64; 3]; 3], n: [f64; 3]) -> Tri {
     let zmax = p[0][2].max(p[1][2]).max(p[2][2]);
     let bb = [
         p[0][0].min(p[1][0]).min(p[2][0]),
@@ -300,11 +310,11 @@ fn prepare(p: [[f64; 3]; 3]) -> Option<Tri> {
         (u, len, 1.0 - u[2] * u[2])
     };
     let edges = [edge(0), edge(1), edge(2)];
-    Some(Tri {
+    Tri {
         bb,
         p,
         edges,
         n,
         zmax,
-    })
+    }
 }
