@@ -291,7 +291,14 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
     cut.clear();
     cut.resize(open.len(), false);
     let sweep = SweptShape::new(m);
-    let capsule = ball && sweep.d[2] != 0.0;
+    // The moves whose lowest points are worked out a row of a block at a
+    // time: a sloped ball's, and a flat end's.
+    type Lows = fn(&SweptShape, usize, f64, (f64, f64)) -> [f64; BLOCK_COLUMNS];
+    let lanes: Option<Lows> = match m.cutter.kind {
+        ToolKind::Ball if sweep.d[2] != 0.0 => Some(SweptShape::capsule_lows),
+        ToolKind::Flat if m.cutter.corner == 0.0 => Some(SweptShape::flat_lows),
+        _ => None,
+    };
     let (top, bottom) = (&mut *band.top, band.bottom);
     for j in jj0..=jj1 {
         let y = centre(j, 1);
@@ -321,12 +328,12 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
                 (bk * BLOCK_COLUMNS).max(ri0),
                 ((bk + 1) * BLOCK_COLUMNS - 1).min(ri1),
             );
-            if capsule {
-                // A sloped ball's lowest points over the block's cells in
-                // this row, all at once. (The cells `clear` would pass over
-                // are left by the test against the top: it has 1e-4 mm to
-                // spare.)
-                let lows = sweep.capsule_lows(c0, y, (origin[0], cell[0]));
+            if let Some(lows_of) = lanes {
+                // The tool's lowest points over the block's cells in this
+                // row, all at once. (The cells a ball's `clear` would pass
+                // over are left by the test against the top: it has 1e-4
+                // mm to spare.)
+                let lows = lows_of(&sweep, c0, y, (origin[0], cell[0]));
                 for (i, &z) in (c0..=c1).zip(&lows) {
                     let k = row + i;
                     let (h, z) = (top[k], z as f32);
@@ -545,6 +552,40 @@ impl SweptShape {
             } else {
                 best
             };
+        }
+        lows
+    }
+
+    /// [`lowest`](Self::lowest) of a flat end's move (no corner) over the
+    /// cells `first..first + BLOCK_COLUMNS` of the row at `y`, as
+    /// [`capsule_lows`](Self::capsule_lows) does for a ball: the same
+    /// arithmetic, with no branches. (Level, the end stands at the move's
+    /// height over every cell it covers.)
+    fn flat_lows(&self, first: usize, y: f64, (x0, step): (f64, f64)) -> [f64; BLOCK_COLUMNS] {
+        let r = self.cutter.radius;
+        let py = y - self.a[1];
+        let level = self.d[2] == 0.0;
+        let mut lows = [f64::INFINITY; BLOCK_COLUMNS];
+        for (l, low) in lows.iter_mut().enumerate() {
+            let x = x0 + ((first + l) as f64 + 0.5) * step;
+            let px = x - self.a[0];
+            let (t0, t1, missed) = if self.dxy2 > 0.0 {
+                let b = -(px * self.d[0] + py * self.d[1]);
+                let c = px * px + py * py - r * r;
+                let disc = b * b - self.dxy2 * c;
+                let s = disc.sqrt();
+                let t0 = ((-b - s) / self.dxy2).max(0.0);
+                let t1 = ((-b + s) / self.dxy2).min(1.0);
+                (t0, t1, disc < 0.0 || t0 > t1)
+            } else {
+                (0.0, 1.0, px * px + py * py > r * r)
+            };
+            let z = if level {
+                self.a[2] + 0.0
+            } else {
+                (self.a[2] + t0 * self.d[2]).min(self.a[2] + t1 * self.d[2])
+            };
+            *low = if missed { f64::INFINITY } else { z };
         }
         lows
     }

@@ -81,7 +81,10 @@ impl Prepared {
         for m in meshes {
             // Written in place when no triangle is degenerate (as in a
             // mesh of our own), else gathered without those.
-            if m.triangles.par_iter().all(|t| normal(m.corners(t)).is_some()) {
+            if m.triangles
+                .par_iter()
+                .all(|t| normal(m.corners(t)).is_some())
+            {
                 tris.par_extend(m.triangles.par_iter().map(|t| {
                     let p = m.corners(t);
                     ready(p, normal(p).unwrap_or_default())
