@@ -293,7 +293,7 @@ fn apply(m: &Sweep, band: &mut Band, origin: [f64; 2], cell: [f64; 2]) -> Touch 
     let mut cut = std::mem::take(&mut band.cut);
     cut.clear();
     cut.resize(open.len(), false);
-    let sweep = SweptShape::new(m);
+    let sweep = SweptShape::new(m.from, m.to, m.cutter);
     // The moves whose lowest points are worked out a row of a block at a
     // time: a sloped ball's, and a flat end's.
     type Lows = fn(&SweptShape, usize, f64, (f64, f64)) -> [f64; BLOCK_COLUMNS];

@@ -2,7 +2,6 @@
 //! a time, or a row of a block's cells at once (a sloped ball's capsule and
 //! a flat end, in vector registers).
 
-use super::{BLOCK_COLUMNS, Sweep};
 use crate::geom::contact::{cylinder_crossing, cylinder_quadratic, cylinder_root};
 use crate::model::machine::{Cutter, ToolKind};
 
@@ -19,9 +18,10 @@ pub(super) struct SweptShape {
 }
 
 impl SweptShape {
-    pub(super) fn new(m: &Sweep) -> SweptShape {
-        let a = m.from;
-        let d = [m.to[0] - a[0], m.to[1] - a[1], m.to[2] - a[2]];
+    /// `cutter` moved straight from tip `from` to tip `to`.
+    pub(super) fn new(from: [f64; 3], to: [f64; 3], cutter: Cutter) -> SweptShape {
+        let a = from;
+        let d = [to[0] - a[0], to[1] - a[1], to[2] - a[2]];
         let len = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
         let u = if len > 0.0 {
             [d[0] / len, d[1] / len, d[2] / len]
@@ -32,7 +32,7 @@ impl SweptShape {
             a,
             d,
             dxy2: d[0] * d[0] + d[1] * d[1],
-            cutter: m.cutter,
+            cutter,
             u,
             len,
         }
@@ -129,16 +129,16 @@ impl SweptShape {
     }
 
     /// [`lowest`](Self::lowest) of a sloped ball's move over the cells
-    /// `first..first + BLOCK_COLUMNS` of the row at `y` (cell `i` centred
+    /// `first..first + N` of the row at `y` (cell `i` centred
     /// at `x0 + (i + 0.5) · step`), +∞ where the ball does not pass over
     /// a cell: the same arithmetic in the same order, with no branches, so
     /// the compiler computes the cells side by side in vector registers.
-    pub(super) fn capsule_lows(
+    pub(super) fn capsule_lows<const N: usize>(
         &self,
         first: usize,
         y: f64,
         (x0, step): (f64, f64),
-    ) -> [f64; BLOCK_COLUMNS] {
+    ) -> [f64; N] {
         let r = self.cutter.radius;
         let r2 = r * r;
         let py = y - self.a[1];
@@ -150,7 +150,7 @@ impl SweptShape {
         let u = self.u;
         let a = 1.0 - u[2] * u[2];
         let beside = self.len > 0.0 && a > 1e-12;
-        let mut lows = [f64::INFINITY; BLOCK_COLUMNS];
+        let mut lows = [f64::INFINITY; N];
         for (l, low) in lows.iter_mut().enumerate() {
             let x = x0 + ((first + l) as f64 + 0.5) * step;
             let px = x - self.a[0];
@@ -185,20 +185,20 @@ impl SweptShape {
     }
 
     /// [`lowest`](Self::lowest) of a flat end's move (no corner) over the
-    /// cells `first..first + BLOCK_COLUMNS` of the row at `y`, as
+    /// cells `first..first + N` of the row at `y`, as
     /// [`capsule_lows`](Self::capsule_lows) does for a ball: the same
     /// arithmetic, with no branches. (Level, the end stands at the move's
     /// height over every cell it covers.)
-    pub(super) fn flat_lows(
+    pub(super) fn flat_lows<const N: usize>(
         &self,
         first: usize,
         y: f64,
         (x0, step): (f64, f64),
-    ) -> [f64; BLOCK_COLUMNS] {
+    ) -> [f64; N] {
         let r = self.cutter.radius;
         let py = y - self.a[1];
         let level = self.d[2] == 0.0;
-        let mut lows = [f64::INFINITY; BLOCK_COLUMNS];
+        let mut lows = [f64::INFINITY; N];
         for (l, low) in lows.iter_mut().enumerate() {
             let x = x0 + ((first + l) as f64 + 0.5) * step;
             let px = x - self.a[0];
