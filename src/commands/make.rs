@@ -302,9 +302,9 @@ pub(crate) fn fitting_lines(
     ]
 }
 
-/// The 3D view's scene: the board meshed coarsely for the screen, placed
-/// and painted by the simulation when it was cut. None when the coarse
-/// mesh cannot be made (the page then goes without the view).
+/// The 3D view's scene: `mesh`, the board meshed coarsely for the
+/// screen, placed and painted by the simulation when it was cut. (Where
+/// the coarse mesh cannot be made, the page goes without the view.)
 fn screen_scene<E>(
     mesh: &crate::model::mesh::Mesh,
     cutting: &Result<(CutPlan, crate::verify::report::Verification, Files), E>,
