@@ -116,6 +116,11 @@ impl Best {
             }
             self.count = kept;
         }
+        // A triangle offered again (the hint, met again in its cell) is
+        // held once.
+        if self.held[..self.count].iter().any(|h| h.2 == tri) {
+            return;
+        }
         if self.count < HELD {
             self.held[self.count] = (z, rank, tri);
             self.count += 1;
@@ -222,9 +227,20 @@ impl DropCutter {
     /// The higher of `floor` and [`drop`](Self::drop) at (x, y), sooner:
     /// triangles that cannot lift the tool to `floor` are never tested.
     pub fn drop_above(&self, x: f64, y: f64, floor: f64) -> f64 {
+        self.drop_above_near(x, y, floor, &mut None)
+    }
+
+    /// [`drop_above`](Self::drop_above), sooner where `hint` holds a
+    /// triangle the tool touches nearby (the one this gave at a
+    /// neighbouring point): its touch here is tried first, and no touch
+    /// below it is looked for. The answer does not depend on the hint;
+    /// `hint` is left holding the triangle touched here.
+    pub fn drop_above_near(&self, x: f64, y: f64, floor: f64, hint: &mut Option<u32>) -> f64 {
         let mut best = Best::above(floor);
-        self.search(x, y, &mut best, f64::INFINITY);
-        best.chosen().map_or(floor, |(z, _)| z.max(floor))
+        self.search_from(*hint, x, y, &mut best, f64::INFINITY);
+        let chosen = best.chosen();
+        *hint = chosen.map(|(_, t)| t as u32).or(*hint);
+        chosen.map_or(floor, |(z, _)| z.max(floor))
     }
 
     /// Like [`drop`](Self::drop), with the unit normal (up) of the
@@ -232,7 +248,22 @@ impl DropCutter {
     /// (a ball on an edge touches both faces), the triangle first by
     /// highest corner, then in the meshes' order.
     pub fn drop_contact(&self, x: f64, y: f64) -> Option<(f64, [f64; 3])> {
-        self.touch(x, y).map(|(z, t)| (z, self.prep.tris[t].n))
+        self.drop_contact_near(x, y, &mut None)
+    }
+
+    /// [`drop_contact`](Self::drop_contact), sooner with a `hint` as for
+    /// [`drop_above_near`](Self::drop_above_near).
+    pub fn drop_contact_near(
+        &self,
+        x: f64,
+        y: f64,
+        hint: &mut Option<u32>,
+    ) -> Option<(f64, [f64; 3])> {
+        let mut best = Best::above(f64::NEG_INFINITY);
+        self.search_from(*hint, x, y, &mut best, f64::INFINITY);
+        let (z, t) = best.chosen()?;
+        *hint = Some(t as u32);
+        Some((z, self.prep.tris[t].n))
     }
 
     /// Whether the cutter lowered at (x, y) touches the mesh higher than
@@ -261,10 +292,23 @@ impl DropCutter {
     /// in the one holding its plan box's point nearest the axis. Which
     /// touch is reported does not depend on the order of the search.
     fn search(&self, x: f64, y: f64, best: &mut Best, stop: f64) -> bool {
+        self.search_from(None, x, y, best, stop)
+    }
+
+    /// [`search`](Self::search), triangle `hint` tested first: a touch
+    /// found lifts the floor before the grid is read.
+    fn search_from(&self, hint: Option<u32>, x: f64, y: f64, best: &mut Best, stop: f64) -> bool {
         let prep = &*self.prep;
         let r = self.cutter.radius;
         if !(x.is_finite() && y.is_finite()) {
             return false;
+        }
+        if let Some(t) = hint.filter(|&t| (t as usize) < self.limit) {
+            let z = self.touch_of(t as usize, x, y, best.floor().next_down());
+            if z > stop {
+                return true;
+            }
+            best.offer(z, prep.rank[t as usize], t);
         }
         let (c, o) = (prep.cell, prep.origin);
         let span = |v: f64, k: usize| {
@@ -322,7 +366,6 @@ impl DropCutter {
             return false;
         };
         let b = j * prep.dims[0] + i;
-        let r = self.cutter.radius;
         for e in &prep.entries[prep.starts[b] as usize..prep.starts[b + 1] as usize] {
             let floor = best.floor();
             if (e.zmax as f64) - cell_rise < floor {
@@ -342,21 +385,28 @@ impl DropCutter {
             {
                 continue;
             }
-            let t = &prep.tris[e.tri as usize];
             // Below the floor by the least step, so a touch at it is told
             // from none.
-            let floor = floor.next_down();
-            let z = match self.cutter.kind {
-                ToolKind::Ball => ball_touch(t, x, y, r, floor),
-                ToolKind::Bull => bull_touch(t, x, y, r, self.cutter.corner, floor),
-                ToolKind::Flat => flat_touch_above(t, x, y, r, floor),
-            };
+            let z = self.touch_of(e.tri as usize, x, y, floor.next_down());
             if z > stop {
                 return true;
             }
             best.offer(z, prep.rank[e.tri as usize], e.tri);
         }
         false
+    }
+
+    /// The tool's touch on triangle `t` at (x, y) where it reaches
+    /// `floor` (at most `floor`, or −∞, where it does not).
+    #[inline]
+    fn touch_of(&self, t: usize, x: f64, y: f64, floor: f64) -> f64 {
+        let t = &self.prep.tris[t];
+        let r = self.cutter.radius;
+        match self.cutter.kind {
+            ToolKind::Ball => ball_touch(t, x, y, r, floor),
+            ToolKind::Bull => bull_touch(t, x, y, r, self.cutter.corner, floor),
+            ToolKind::Flat => flat_touch_above(t, x, y, r, floor),
+        }
     }
 
     /// [`drop`](Self::drop) at many points, in parallel; the order is kept.

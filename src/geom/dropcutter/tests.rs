@@ -428,3 +428,37 @@ fn rays_at_a_lattice_are_the_point_drops_to_the_bit() {
     }
     assert!(hits > 5000, "{hits}");
 }
+
+#[test]
+fn a_hint_changes_no_answer_to_the_bit() {
+    // The hint only lifts the floor the search starts from: with every
+    // triangle as the hint (one touched, one beside, one far off, one
+    // past the first mesh) the height, the floor kept and the normal
+    // reported are those found without it, for each kind of tool, on a
+    // soup of long and short triangles and on a sphere's facets.
+    let (_, soup) = soup(&mut lcg(31), 60, 40.0, [20.0, 3.0], 12.0);
+    let sphere = uv_sphere(10.0, 16, 8);
+    let cutters = [
+        Cutter::ball(12.7),
+        Cutter::bull(25.4, 3.0),
+        Cutter::flat(6.0),
+    ];
+    let mut rnd = lcg(5);
+    for cutter in cutters {
+        for (meshes, first) in [(vec![&soup, &sphere], 2), (vec![&soup, &sphere], 1)] {
+            let dc = DropCutter::on_first(Arc::new(Prepared::new(&meshes)), cutter, first);
+            let all = (soup.triangles.len() + sphere.triangles.len()) as u32;
+            for _ in 0..40 {
+                let (x, y) = (rnd() * 50.0 - 5.0, rnd() * 50.0 - 5.0);
+                let floor = rnd() * 6.0;
+                let (plain, contact) = (dc.drop_above(x, y, floor), dc.drop_contact(x, y));
+                for t in (0..all).step_by(7).map(Some).chain([None]) {
+                    let mut hint = t;
+                    assert_eq!(dc.drop_above_near(x, y, floor, &mut hint), plain);
+                    let mut hint = t;
+                    assert_eq!(dc.drop_contact_near(x, y, &mut hint), contact);
+                }
+            }
+        }
+    }
+}

@@ -131,17 +131,18 @@ pub(super) fn link(
         let n = (((a[0] - s[0]).powi(2) + (a[1] - s[1]).powi(2)).sqrt() / 0.5)
             .ceil()
             .max(1.0) as usize;
-        let h = |x: f64, y: f64| ctx.tip(dc, x, y);
         let mut across = vec![a];
+        let mut hint = None;
         for k in 1..n {
             let t = k as f64 / n as f64;
             let (x, y) = (a[0] + t * (s[0] - a[0]), a[1] + t * (s[1] - a[1]));
-            across.push([x, y, h(x, y).max(a[2] + t * (s[2] - a[2]))]);
+            let h = ctx.tip_near(dc, x, y, &mut hint);
+            across.push([x, y, h.max(a[2] + t * (s[2] - a[2]))]);
         }
         across.push(s);
         // Each step across refined like a pass, so none digs in between.
         let tol = ctx.job.finishing.tolerance;
-        for p in refine(&across, &Tip { ctx, dc }, tol / 2.0)
+        for p in refine(&across, &Tip::new(ctx, dc), tol / 2.0)
             .into_iter()
             .skip(1)
         {

@@ -37,7 +37,7 @@ pub(super) fn waterlines(
         .map(|&level| band.runs_at(level))
         .collect();
     let tol = ctx.job.finishing.tolerance;
-    let tip = Tip { ctx, dc };
+    let tip = Tip::new(ctx, dc);
     // Simplified, then refined again: a level's points all stand at its
     // height, so the simplification keeps only the plan's bends, and on a
     // steep wall a chord within `tol` of them in plan can still stand
@@ -92,10 +92,20 @@ impl<'a> Band<'a> {
             .par_iter()
             .map(|q| ctx.outside.at(*q) <= r + 3.0 && ctx.inside.at(*q) <= RAIL_BAND)
             .collect();
+        // Each node beside the last: the triangle it touched is tried first.
         let heights: Vec<f64> = nodes
             .par_iter()
             .zip(&inside_band)
-            .map(|(q, &b)| if b { ctx.tip(dc, q[0], q[1]) } else { f64::NAN })
+            .map_init(
+                || None,
+                |hint, (q, &b)| {
+                    if b {
+                        ctx.tip_near(dc, q[0], q[1], hint)
+                    } else {
+                        f64::NAN
+                    }
+                },
+            )
             .collect();
         let count = inside_band.iter().filter(|b| **b).count();
         // NaN nodes count as below every level so contours close round the band.
@@ -187,10 +197,6 @@ impl<'a> Band<'a> {
             .any(|&(a, b)| i + a < nx && j + b < ny && self.steep[(j + b) * nx + i + a])
     }
 
-    fn tip(&self, x: f64, y: f64) -> f64 {
-        self.ctx.tip(self.dc, x, y)
-    }
-
     /// Where a level crosses the cell edge from `p` (height `vp`) to `q`
     /// (`vq`), `t` the linear estimate along it. Each crossing near the
     /// steep band is found on its edge, to 0.01 mm in height or 1/1024 mm
@@ -211,9 +217,10 @@ impl<'a> Band<'a> {
             return at(t);
         }
         let mut kept = 0i32;
+        let mut hint = None;
         for _ in 0..40 {
             let m = (a - fa * (b - a) / (fb - fa)).clamp(a, b);
-            let fm = self.tip(at(m)[0], at(m)[1]) - level;
+            let fm = self.ctx.tip_near(self.dc, at(m)[0], at(m)[1], &mut hint) - level;
             // Within 0.01 mm of the level either way is the crossing
             // (taking the end above instead, up to a node's spacing away,
             // put a dent in the pass wherever it met a grid line at a
@@ -254,6 +261,7 @@ impl<'a> Band<'a> {
         for l in field::contours_placed(&self.filled, &self.ranges, level, &place) {
             let pts = resample(&l.points, 1.0, l.closed);
             let mut run: Vec<[f64; 3]> = Vec::new();
+            let mut hint = None;
             for q in pts {
                 if !self.near_steep(q) || self.h.at(q).is_nan() {
                     if run.len() > 1 {
@@ -262,7 +270,11 @@ impl<'a> Band<'a> {
                     run.clear();
                     continue;
                 }
-                run.push([q[0], q[1], self.tip(q[0], q[1])]);
+                run.push([
+                    q[0],
+                    q[1],
+                    self.ctx.tip_near(self.dc, q[0], q[1], &mut hint),
+                ]);
             }
             if run.len() > 1 {
                 out.push(run);

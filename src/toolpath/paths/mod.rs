@@ -152,9 +152,10 @@ impl Ctx<'_> {
     }
 
     /// The tip height of `dc`'s tool resting on the part at (x, y), never
-    /// below the floor.
-    fn tip(&self, dc: &DropCutter, x: f64, y: f64) -> f64 {
-        dc.drop_above(x, y, self.floor(x))
+    /// below the floor; sooner beside a point whose touched triangle
+    /// `hint` holds ([`DropCutter::drop_above_near`]).
+    fn tip_near(&self, dc: &DropCutter, x: f64, y: f64, hint: &mut Option<u32>) -> f64 {
+        dc.drop_above_near(x, y, self.floor(x), hint)
     }
 
     /// Height for a rapid across between X `a` and X `b` with a tool of

@@ -141,7 +141,7 @@ fn runs(ctx: &Ctx, dc: &DropCutter, rows: Vec<Row>) -> Vec<Vec<Vec<[f64; 3]>>> {
                     r.reverse();
                 }
             }
-            let tip = Tip { ctx, dc };
+            let tip = Tip::new(ctx, dc);
             runs.into_iter()
                 .map(|r| simplify(&refine(&r, &tip, tol / 2.0), tol))
                 .collect()
@@ -173,14 +173,16 @@ struct Raster<'a> {
 
 impl Raster<'_> {
     /// The ball at (x, y).
-    fn sample(&self, x: f64, y: f64) -> Option<[f64; 3]> {
+    /// The ball at (x, y), `hint` the triangle touched by the sample
+    /// before ([`DropCutter::drop_above_near`]).
+    fn sample(&self, x: f64, y: f64, hint: &mut Option<u32>) -> Option<[f64; 3]> {
         if self.ctx.outside.at([x, y]) > self.reach {
             return None;
         }
         if self.gentle_only {
-            return gentle(self.ctx, self.dc, x, y, self.cos);
+            return gentle(self.ctx, self.dc, [x, y], self.cos, hint);
         }
-        Some([x, y, self.ctx.tip(self.dc, x, y)])
+        Some([x, y, self.ctx.tip_near(self.dc, x, y, hint)])
     }
 
     fn row_at(&self, y: Vec<f64>) -> Row {
@@ -188,7 +190,7 @@ impl Raster<'_> {
             .xs
             .par_iter()
             .zip(&y)
-            .map(|(&x, &y)| self.sample(x, y))
+            .map_init(|| None, |hint, (&x, &y)| self.sample(x, y, hint))
             .collect();
         Row { y, at }
     }
@@ -271,10 +273,13 @@ impl Raster<'_> {
             step = narrowed;
             let fresh: Vec<(usize, f64, Option<[f64; 3]>)> = changed
                 .par_iter()
-                .map(|&k| {
-                    let y = prev.y[k] + dir * step[k];
-                    (k, y, self.sample(self.xs[k], y))
-                })
+                .map_init(
+                    || None,
+                    |hint, &k| {
+                        let y = prev.y[k] + dir * step[k];
+                        (k, y, self.sample(self.xs[k], y, hint))
+                    },
+                )
                 .collect();
             self.positions += fresh.len();
             for (k, y, at) in fresh {
@@ -402,13 +407,19 @@ fn smoothed_min(v: &[f64], w: usize) -> Vec<f64> {
 /// floor, on a face no steeper than the steep angle (`cos`, the cosine of
 /// it: for a ball the normal at the contact is the face's own), and
 /// wholly inside the band the roughing cleared round the outline.
-fn gentle(ctx: &Ctx, dc: &DropCutter, x: f64, y: f64, cos: f64) -> Option<[f64; 3]> {
+fn gentle(
+    ctx: &Ctx,
+    dc: &DropCutter,
+    [x, y]: [f64; 2],
+    cos: f64,
+    hint: &mut Option<u32>,
+) -> Option<[f64; 3]> {
     // The roughing's outermost ring runs 1.5 cells (3 mm) inside its band,
     // on a 2 mm grid: 5 mm kept from the wall.
     let band = ctx.job.band() - dc.cutter().radius - 5.0;
     if ctx.outside.at([x, y]) > band {
         return None;
     }
-    let (z, n) = dc.drop_contact(x, y)?;
+    let (z, n) = dc.drop_contact_near(x, y, hint)?;
     (z > ctx.floor(x) + 0.05 && n[2] >= cos).then_some([x, y, z])
 }

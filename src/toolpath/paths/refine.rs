@@ -3,6 +3,7 @@
 
 use super::*;
 use crate::model::machine::Cutter;
+use std::cell::Cell;
 
 pub(super) fn resample(points: &[[f64; 2]], step: f64, closed: bool) -> Vec<[f64; 2]> {
     let mut out = vec![points[0]];
@@ -108,15 +109,31 @@ pub(super) trait Heights {
 }
 
 /// The tool of `dc` resting on the part, never below the floor
-/// ([`Ctx::tip`]).
+/// ([`Ctx::tip_near`]).
 pub(super) struct Tip<'a> {
-    pub ctx: &'a Ctx<'a>,
-    pub dc: &'a DropCutter,
+    ctx: &'a Ctx<'a>,
+    dc: &'a DropCutter,
+    /// The triangle touched at the height asked last: refinement asks
+    /// along a run, so the next point is near it ([`Ctx::tip_near`]).
+    hint: Cell<Option<u32>>,
+}
+
+impl<'a> Tip<'a> {
+    pub fn new(ctx: &'a Ctx<'a>, dc: &'a DropCutter) -> Tip<'a> {
+        Tip {
+            ctx,
+            dc,
+            hint: Cell::new(None),
+        }
+    }
 }
 
 impl Heights for Tip<'_> {
     fn at(&self, x: f64, y: f64) -> f64 {
-        self.ctx.tip(self.dc, x, y)
+        let mut hint = self.hint.get();
+        let z = self.ctx.tip_near(self.dc, x, y, &mut hint);
+        self.hint.set(hint);
+        z
     }
 
     fn above(&self, x: f64, y: f64, level: f64) -> bool {
