@@ -39,7 +39,7 @@ pub struct DropCutter {
     /// The tool's rise at the start of each of `RISES` equal steps of the
     /// squared distance out to its radius: the least rise over the step,
     /// so a bound read from it is never below the true one.
-    rises: Vec<f64>,
+    rises: Box<[f64; RISES]>,
     /// `RISES` / r² (0 for a point).
     per_d2: f64,
     /// Triangles past this index (the later meshes') are not looked at.
@@ -162,9 +162,9 @@ impl DropCutter {
             .and_then(|k| prep.ends.get(k).copied())
             .unwrap_or(if meshes == 0 { 0 } else { prep.tris.len() });
         let r2 = cutter.radius * cutter.radius;
-        let rises = (0..RISES)
-            .map(|k| rise(&cutter, r2 * k as f64 / RISES as f64).unwrap_or(0.0))
-            .collect();
+        let rises = Box::new(std::array::from_fn(|k| {
+            rise(&cutter, r2 * k as f64 / RISES as f64).unwrap_or(0.0)
+        }));
         let per_d2 = if r2 > 0.0 { RISES as f64 / r2 } else { 0.0 };
         DropCutter {
             cutter,
@@ -366,23 +366,35 @@ impl DropCutter {
             return false;
         };
         let b = j * prep.dims[0] + i;
+        // The cell's extent as `index` places points, so each triangle is
+        // tested in the one cell holding its box's point nearest the axis.
+        let [lx, hx, ly, hy] = prep.extent(i, j);
+        let r2 = self.cutter.radius * self.cutter.radius;
         for e in &prep.entries[prep.starts[b] as usize..prep.starts[b + 1] as usize] {
             let floor = best.floor();
-            if (e.zmax as f64) - cell_rise < floor {
+            let zmax = e.zmax as f64;
+            if zmax - cell_rise < floor {
                 break;
             }
             let bb = e.bb.map(f64::from);
             let qx = x.clamp(bb[0], bb[2]);
             let qy = y.clamp(bb[1], bb[3]);
             let (ddx, ddy) = (qx - x, qy - y);
-            let Some(h) = self.rise_below(ddx * ddx + ddy * ddy) else {
-                continue;
-            };
-            if (e.zmax as f64) - h < floor
-                || e.tri as usize >= self.limit
-                || !prep.holds(qx, 0, i)
-                || !prep.holds(qy, 1, j)
-            {
+            let d2 = ddx * ddx + ddy * ddy;
+            // The table's rise (its last step beyond the radius, which
+            // the first test turns away); every test taken, then one
+            // branch.
+            let h = self.rises[((d2 * self.per_d2) as usize).min(RISES - 1)];
+            let (ox, oy) = (qx - prep.origin[0], qy - prep.origin[1]);
+            // (A floor that is not a number turns none away.)
+            let candidate = (d2 <= r2)
+                & ((zmax - h).partial_cmp(&floor) != Some(std::cmp::Ordering::Less))
+                & ((e.tri as usize) < self.limit)
+                & (ox >= lx)
+                & (ox < hx)
+                & (oy >= ly)
+                & (oy < hy);
+            if !candidate {
                 continue;
             }
             // Below the floor by the least step, so a touch at it is told

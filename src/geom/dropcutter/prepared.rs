@@ -68,6 +68,12 @@ pub struct Prepared {
     pub(super) block_tops: Vec<f32>,
     /// Blocks along X and Y.
     pub(super) block_dims: [usize; 2],
+    /// Along each axis, for each cell index i, the least offset d from
+    /// the origin that [`index`](Self::index) places in cell i or beyond
+    /// (`(d / cell) >= i` as rounded): [`extent`](Self::extent) reads
+    /// these, so a search tells which cell holds a point as `index` does,
+    /// without dividing.
+    pub(super) from: [Vec<f64>; 2],
 }
 
 /// Cells along each side of a block of [`Prepared::block_tops`].
@@ -165,6 +171,7 @@ impl Prepared {
             tops: Vec::new(),
             block_tops: Vec::new(),
             block_dims: [dims[0].div_ceil(BLOCK), dims[1].div_ceil(BLOCK)],
+            from: dims.map(|n| (0..=n).map(|i| least_offset(i, cell)).collect()),
         };
         // Each triangle in every cell its (rounded) plan box meets.
         let cells = |e: &Entry| {
@@ -267,13 +274,43 @@ impl Prepared {
         dx * dx + dy * dy
     }
 
-    /// Whether coordinate `v` along axis `k` falls in cell index `i`, as
-    /// [`index`](Self::index) places it.
+    /// Cell (i, j)'s extent as offsets from the origin, as
+    /// [`index`](Self::index) places points: an offset d along X (a
+    /// point's coordinate less the origin's) is in it when `lx <= d < hx`
+    /// (unbounded at the grid's edges), and so along Y.
     #[inline]
-    pub(super) fn holds(&self, v: f64, k: usize, i: usize) -> bool {
-        let t = (v - self.origin[k]) / self.cell;
-        (i == 0 || t >= i as f64) && (i + 1 == self.dims[k] || t < (i + 1) as f64)
+    pub(super) fn extent(&self, i: usize, j: usize) -> [f64; 4] {
+        let side = |k: usize, i: usize| {
+            let lo = if i == 0 {
+                f64::NEG_INFINITY
+            } else {
+                self.from[k][i]
+            };
+            let hi = if i + 1 == self.dims[k] {
+                f64::INFINITY
+            } else {
+                self.from[k][i + 1]
+            };
+            (lo, hi)
+        };
+        let ((lx, hx), (ly, hy)) = (side(0, i), side(1, j));
+        [lx, hx, ly, hy]
     }
+}
+
+/// The least `d` whose quotient by `cell`, as rounded, is at least `i`
+/// (the rounded quotient never falls as `d` grows, so every `d` from it
+/// on gives at least `i`, and none below it does).
+fn least_offset(i: usize, cell: f64) -> f64 {
+    let at_least = |d: f64| d / cell >= i as f64;
+    let mut d = i as f64 * cell;
+    while at_least(d) {
+        d = d.next_down();
+    }
+    while !at_least(d) {
+        d = d.next_up();
+    }
+    d
 }
 
 /// A triangle made ready for the contact tests (none when degenerate).

@@ -462,3 +462,38 @@ fn a_hint_changes_no_answer_to_the_bit() {
         }
     }
 }
+
+#[test]
+fn a_cell_extent_holds_what_index_places_there() {
+    // The search tells which cell holds a point by comparing with each
+    // cell's extent instead of dividing; every point must fall in the
+    // extent of the cell `index` gives it, and in no other, at the
+    // cells' edges above all (each edge, the doubles either side of it,
+    // and points at random over and beyond the grid).
+    let (_, soup) = soup(&mut lcg(9), 200, 300.0, [20.0, 3.0], 12.0);
+    let prep = Prepared::new(&[&soup]);
+    let mut rnd = lcg(12);
+    for k in 0..2 {
+        let mut offsets: Vec<f64> = prep.from[k]
+            .iter()
+            .flat_map(|&d| [d.next_down(), d, d.next_up()])
+            .collect();
+        offsets.extend((0..2000).map(|_| rnd() * 340.0 - 20.0));
+        for d in offsets {
+            let v = prep.origin[k] + d;
+            let held: Vec<usize> = (0..prep.dims[k])
+                .filter(|&i| {
+                    let e = if k == 0 {
+                        prep.extent(i, 0)
+                    } else {
+                        prep.extent(0, i)
+                    };
+                    let (lo, hi) = (e[2 * k], e[2 * k + 1]);
+                    let off = v - prep.origin[k];
+                    off >= lo && off < hi
+                })
+                .collect();
+            assert_eq!(held, vec![prep.index(v, k)], "axis {k} at {v}");
+        }
+    }
+}
