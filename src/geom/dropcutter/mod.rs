@@ -49,6 +49,9 @@ pub struct DropCutter {
 /// Steps of the rise table.
 const RISES: usize = 256;
 
+/// The last step's index, as a float.
+const LAST_RISE: f64 = (RISES - 1) as f64;
+
 /// How far `cutter`'s surface rises at squared plan distance `d2` from
 /// its axis (`None` beyond its radius).
 fn rise(cutter: &Cutter, d2: f64) -> Option<f64> {
@@ -317,17 +320,19 @@ impl DropCutter {
         let (Some((i0, i1)), Some((j0, j1))) = (span(x, 0), span(y, 1)) else {
             return false;
         };
-        // The bound of cell (i, j): its top less the rise at its nearest point.
-        let cell_bound = |i: usize, j: usize| -> Option<f64> {
+        // Cell (i, j)'s top and the rise at its nearest point, where its
+        // top less that can reach the floor so far.
+        let reaching = |i: usize, j: usize, floor: f64| -> Option<f64> {
             let top = prep.tops[j * prep.dims[0] + i];
             if top == f32::NEG_INFINITY {
                 return None;
             }
             self.rise_below(prep.distance2(i, j, x, y))
-                .map(|h| top as f64 - h)
+                .filter(|h| top as f64 - h >= floor)
         };
         let (fi, fj) = prep.cell_of(x, y);
-        if self.search_cell(fi, fj, x, y, best, stop) {
+        let rise = self.rise_below(prep.distance2(fi, fj, x, y));
+        if rise.is_some_and(|h| self.search_cell(fi, fj, h, (x, y), best, stop)) {
             return true;
         }
         // Block by block; a block is read only if its highest corner,
@@ -345,8 +350,8 @@ impl DropCutter {
                 for j in (bj * BLOCK).max(j0)..=(bj * BLOCK + BLOCK - 1).min(j1) {
                     for i in (bi * BLOCK).max(i0)..=(bi * BLOCK + BLOCK - 1).min(i1) {
                         if (i, j) != (fi, fj)
-                            && cell_bound(i, j).is_some_and(|b| b >= best.floor())
-                            && self.search_cell(i, j, x, y, best, stop)
+                            && reaching(i, j, best.floor())
+                                .is_some_and(|h| self.search_cell(i, j, h, (x, y), best, stop))
                         {
                             return true;
                         }
@@ -357,14 +362,20 @@ impl DropCutter {
         false
     }
 
-    /// Tests the triangles of cell (i, j) that can reach `best` at (x, y);
-    /// true at the first touch above `stop`.
+    /// Tests the triangles of cell (i, j) that can reach `best` at (x, y),
+    /// the tool's rise at the cell's nearest point `cell_rise`; true at
+    /// the first touch above `stop`.
     #[inline]
-    fn search_cell(&self, i: usize, j: usize, x: f64, y: f64, best: &mut Best, stop: f64) -> bool {
+    fn search_cell(
+        &self,
+        i: usize,
+        j: usize,
+        cell_rise: f64,
+        (x, y): (f64, f64),
+        best: &mut Best,
+        stop: f64,
+    ) -> bool {
         let prep = &*self.prep;
-        let Some(cell_rise) = self.rise_below(prep.distance2(i, j, x, y)) else {
-            return false;
-        };
         let b = j * prep.dims[0] + i;
         // The cell's extent as `index` places points, so each triangle is
         // tested in the one cell holding its box's point nearest the axis.
@@ -377,14 +388,15 @@ impl DropCutter {
                 break;
             }
             let bb = e.bb.map(f64::from);
-            let qx = x.clamp(bb[0], bb[2]);
-            let qy = y.clamp(bb[1], bb[3]);
+            // (A box's least corner is never past its greatest.)
+            let qx = x.max(bb[0]).min(bb[2]);
+            let qy = y.max(bb[1]).min(bb[3]);
             let (ddx, ddy) = (qx - x, qy - y);
             let d2 = ddx * ddx + ddy * ddy;
             // The table's rise (its last step beyond the radius, which
             // the first test turns away); every test taken, then one
             // branch.
-            let h = self.rises[((d2 * self.per_d2) as usize).min(RISES - 1)];
+            let h = self.rises[(d2 * self.per_d2).min(LAST_RISE) as usize];
             let (ox, oy) = (qx - prep.origin[0], qy - prep.origin[1]);
             // (A floor that is not a number turns none away.)
             let candidate = (d2 <= r2)
