@@ -152,14 +152,25 @@ pub(super) fn roughing(ctx: &Ctx, ball: &DropCutter) -> Toolpath {
         .collect();
     // The part's height under the grown tool, where the band needs it
     // (elsewhere a node is blocked at every level whatever its height).
+    // A touch that with the stock to leave stays under the floor counts
+    // for nothing, so none is looked for (the search starts a micrometre
+    // below that, so every touch that counts is found, to the bit), and
+    // each node starts from the triangle its neighbour touched.
     let high: Vec<f64> = nodes
         .par_iter()
         .zip(&floor)
         .zip(&in_band)
-        .map(|((p, &f), &b)| match b {
-            true => dc.drop(p[0], p[1]).map_or(f, |d| (d + pass.leave).max(f)),
-            false => f,
-        })
+        .map_init(
+            || None,
+            |hint, ((p, &f), &b)| match b {
+                true => {
+                    let under = f - pass.leave - 1e-3;
+                    let d = dc.drop_above_near(p[0], p[1], under, hint);
+                    (d + pass.leave).max(f)
+                }
+                false => f,
+            },
+        )
         .collect();
     let lowest = high
         .iter()
