@@ -150,28 +150,7 @@ pub(super) fn roughing(ctx: &Ctx, ball: &DropCutter) -> Toolpath {
         .zip(&finished_by_ball)
         .map(|(&reach, by_ball)| reach && !by_ball)
         .collect();
-    // The part's height under the grown tool, where the band needs it
-    // (elsewhere a node is blocked at every level whatever its height).
-    // A touch that with the stock to leave stays under the floor counts
-    // for nothing, so none is looked for (the search starts a micrometre
-    // below that, so every touch that counts is found, to the bit), and
-    // each node starts from the triangle its neighbour touched.
-    let high: Vec<f64> = nodes
-        .par_iter()
-        .zip(&floor)
-        .zip(&in_band)
-        .map_init(
-            || None,
-            |hint, ((p, &f), &b)| match b {
-                true => {
-                    let under = f - pass.leave - 1e-3;
-                    let d = dc.drop_above_near(p[0], p[1], under, hint);
-                    (d + pass.leave).max(f)
-                }
-                false => f,
-            },
-        )
-        .collect();
+    let high = heights(&dc, &nodes, (&floor, &in_band), pass.leave);
     let lowest = high
         .iter()
         .zip(&in_band)
@@ -297,6 +276,37 @@ pub(super) fn roughing(ctx: &Ctx, ball: &DropCutter) -> Toolpath {
         pass,
         steps,
     }
+}
+
+/// The part's height under the grown tool `dc` at each node, raised by
+/// the stock to leave and never below the node's floor, where the band
+/// needs it (elsewhere a node is blocked at every level whatever its
+/// height: its floor). A touch that with the stock to leave stays under
+/// the floor counts for nothing, so none is looked for (the search starts
+/// a micrometre below that, so every touch that counts is found, to the
+/// bit), and each node starts from the triangle its neighbour touched.
+fn heights(
+    dc: &DropCutter,
+    nodes: &[[f64; 2]],
+    (floor, in_band): (&[f64], &[bool]),
+    leave: f64,
+) -> Vec<f64> {
+    nodes
+        .par_iter()
+        .zip(floor)
+        .zip(in_band)
+        .map_init(
+            || None,
+            |hint, ((p, &f), &b)| match b {
+                true => {
+                    let under = f - leave - 1e-3;
+                    let d = dc.drop_above_near(p[0], p[1], under, hint);
+                    (d + leave).max(f)
+                }
+                false => f,
+            },
+        )
+        .collect()
 }
 
 /// The piece nearest `e`, and for a ring the index of its nearest point
